@@ -1,0 +1,49 @@
+import { z } from 'zod';
+import type { PublicUser } from './auth';
+
+export const createProjectSchema = z.object({
+  name: z.string().trim().min(1, 'is required').max(120),
+  description: z.string().trim().max(2000).optional().default(''),
+});
+export type CreateProjectInput = z.input<typeof createProjectSchema>;
+
+export const updateProjectSchema = z
+  .object({
+    name: z.string().trim().min(1, 'is required').max(120).optional(),
+    description: z.string().trim().max(2000).optional(),
+  })
+  .refine((v) => Object.keys(v).length > 0, { message: 'nothing to change' });
+export type UpdateProjectInput = z.infer<typeof updateProjectSchema>;
+
+export const addMemberSchema = z.object({
+  userId: z.number().int().positive(),
+});
+export type AddMemberInput = z.infer<typeof addMemberSchema>;
+
+export const listQuerySchema = z.object({
+  q: z.string().trim().max(200).optional(),
+  page: z.coerce.number().int().min(1).default(1),
+  pageSize: z.coerce.number().int().min(1).max(200).default(20),
+});
+
+export interface ProjectSummary {
+  id: number;
+  name: string;
+  description: string;
+  createdAt: string;
+  updatedAt: string;
+  createdBy: { id: number; name: string } | null;
+  memberCount: number;
+}
+
+export interface ProjectDetail extends ProjectSummary {
+  members: PublicUser[];
+  canEdit: boolean;
+}
+
+export interface Page<T> {
+  items: T[];
+  total: number;
+  page: number;
+  pageSize: number;
+}
