@@ -1,0 +1,68 @@
+/** Builds the Express app: security headers, JSON, routes, the client build, one error handler last. */
+import fs from 'node:fs';
+import path from 'node:path';
+import express from 'express';
+import helmet from 'helmet';
+import type { Sequelize } from 'sequelize';
+import type { Config } from './config';
+import { ROOT_DIR } from './config';
+import { setContext } from './context';
+import { initModels } from './models/index';
+import { configurePassport, requireAuth, requireRole } from './middlewares/auth';
+import { apiNotFound, errorHandler } from './middlewares/errors';
+import { authRoutes } from './routes/auth.routes';
+import { userRoutes } from './routes/user.routes';
+import { projectRoutes } from './routes/project.routes';
+import type { Mailer } from './mail/mailer';
+import { readSink } from './mail/sink';
+
+export interface AppDeps {
+  config: Config;
+  sequelize: Sequelize;
+  mailer: Mailer;
+}
+
+export function createApp(deps: AppDeps) {
+  setContext(deps);
+  initModels(deps.sequelize);
+  const app = express();
+  app.set('trust proxy', 'loopback');
+  app.disable('x-powered-by');
+  app.use(
+    helmet({
+      contentSecurityPolicy: {
+        directives: {
+          'img-src': ["'self'", 'data:', 'blob:'],
+          'worker-src': ["'self'", 'blob:'],
+        },
+      },
+    }),
+  );
+  app.use('/api', express.json({ limit: '20mb' }));
+  app.use(configurePassport(deps.config.jwtSecret));
+
+  app.get('/api/health', async (_req, res) => {
+    let db = 'ok';
+    try {
+      await deps.sequelize.query('SELECT 1');
+    } catch {
+      db = 'down';
+    }
+    res.status(db === 'ok' ? 200 : 503).json({ status: db === 'ok' ? 'ok' : 'degraded', db });
+  });
+  app.use('/api/auth', authRoutes(deps.config));
+  app.use('/api/users', userRoutes());
+  app.use('/api/projects', projectRoutes());
+  app.get('/api/admin/mail', requireAuth, requireRole('admin'), (_req, res) => {
+    res.json(readSink(path.join(deps.config.storageDir, 'mail')));
+  });
+  app.use('/api', apiNotFound);
+
+  const clientDir = path.join(ROOT_DIR, 'dist', 'client');
+  if (fs.existsSync(path.join(clientDir, 'index.html'))) {
+    app.use(express.static(clientDir, { index: false, maxAge: '1h' }));
+    app.get(/^\/(?!api\/).*/, (_req, res) => res.sendFile(path.join(clientDir, 'index.html')));
+  }
+  app.use(errorHandler);
+  return app;
+}

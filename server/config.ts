@@ -1,0 +1,53 @@
+/** Runtime settings, read once from the environment. */
+import fs from 'node:fs';
+import path from 'node:path';
+import crypto from 'node:crypto';
+import { fileURLToPath } from 'node:url';
+
+export const ROOT_DIR = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
+
+export interface Config {
+  port: number;
+  storageDir: string;
+  jwtSecret: string;
+  jwtExpiresIn: string;
+  bcryptCost: number;
+  loginRateLimit: { windowMs: number; max: number };
+  upload: { maxFileBytes: number; maxInputPixels: number };
+  mail: { host: string; port: number; from: string };
+  publicUrl: string;
+}
+
+function jwtSecretFrom(storageDir: string): string {
+  if (process.env.JWT_SECRET) return process.env.JWT_SECRET;
+  const file = path.join(storageDir, 'jwt-secret');
+  if (!fs.existsSync(file)) {
+    fs.mkdirSync(storageDir, { recursive: true });
+    fs.writeFileSync(file, crypto.randomBytes(48).toString('base64url'), { mode: 0o600, flag: 'wx' });
+  }
+  return fs.readFileSync(file, 'utf8').trim();
+}
+
+export function loadConfig(overrides: Partial<Config> = {}): Config {
+  const storageDir = overrides.storageDir ?? path.resolve(process.env.CAYLINE_STORAGE ?? path.join(ROOT_DIR, 'storage'));
+  const port = Number(process.env.PORT ?? 8080);
+  return {
+    port,
+    storageDir,
+    jwtSecret: overrides.jwtSecret ?? jwtSecretFrom(storageDir),
+    jwtExpiresIn: process.env.JWT_EXPIRES_IN ?? '2h',
+    bcryptCost: Number(process.env.BCRYPT_COST ?? 12),
+    loginRateLimit: { windowMs: 15 * 60_000, max: Number(process.env.LOGIN_RATE_MAX ?? 20) },
+    upload: {
+      maxFileBytes: Number(process.env.UPLOAD_MAX_BYTES ?? 300 * 1024 * 1024),
+      maxInputPixels: Number(process.env.UPLOAD_MAX_PIXELS ?? 400_000_000),
+    },
+    mail: {
+      host: '127.0.0.1',
+      port: Number(process.env.SMTP_PORT ?? 0),
+      from: process.env.MAIL_FROM ?? 'Cayline <no-reply@cayline.example>',
+    },
+    publicUrl: process.env.PUBLIC_URL ?? `http://localhost:${port}`,
+    ...overrides,
+  };
+}

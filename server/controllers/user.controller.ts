@@ -1,0 +1,26 @@
+import type { Request, Response } from 'express';
+import * as users from '../services/user.service';
+import { AppError } from '../middlewares/errors';
+
+export function idParam(req: Request, name = 'id'): number {
+  const raw = req.params[name];
+  const id = Number(raw);
+  if (!Number.isInteger(id) || id <= 0) throw new AppError(400, 'validation_failed', `${name}: must be a positive whole number`);
+  return id;
+}
+
+export async function list(_req: Request, res: Response) {
+  res.json(await users.listUsers(res.locals.query));
+}
+
+export async function directory(_req: Request, res: Response) {
+  res.json(await users.directory());
+}
+
+export async function create(req: Request, res: Response) {
+  res.status(201).json(await users.createUser(req.user!.id, res.locals.body));
+}
+
+export async function update(req: Request, res: Response) {
+  res.json(await users.updateUser(req.user!.id, idParam(req), res.locals.body));
+}

@@ -1,0 +1,15 @@
+/** Everything `npm start` seeds on first start; each part records itself in app_meta and runs once. */
+import type { Sequelize } from 'sequelize';
+import type { Config } from '../../config';
+import { seedDemoUsers } from './demo';
+
+export interface SeedDeps {
+  sequelize: Sequelize;
+  config: Config;
+  log: (m: string) => void;
+}
+
+export async function seedDemo(deps: SeedDeps) {
+  const r = await seedDemoUsers(deps.sequelize);
+  if (r.seeded) deps.log('seeded the demo accounts and the project "Tessel Basin screening"');
+}

@@ -1,0 +1,73 @@
+/**
+ * Boots one Cayline server process: database connection and migrations, the
+ * local mail sink, the Express app, and listening. Used by `npm start`, the
+ * dev script and the tests.
+ */
+import type { Server } from 'node:http';
+import path from 'node:path';
+import { loadConfig, type Config } from './config';
+import { createSequelize } from './db/sequelize';
+import { migrate } from './db/migrate';
+import { createApp } from './app';
+import { createMailer } from './mail/mailer';
+import { startMailSink, type MailSink } from './mail/sink';
+import { logger } from './logger';
+
+export interface Running {
+  app: ReturnType<typeof createApp>;
+  config: Config;
+  server: Server | null;
+  url: string;
+  close(): Promise<void>;
+}
+
+export interface BootOptions {
+  databaseUrl: string;
+  config?: Partial<Config>;
+  listen?: boolean;
+  /** Called after migrations, before listening (demo seeding). */
+  afterMigrate?: (deps: { sequelize: ReturnType<typeof createSequelize>; config: Config }) => Promise<void>;
+}
+
+export async function boot(opts: BootOptions): Promise<Running> {
+  const config = loadConfig(opts.config);
+  const sequelize = createSequelize(opts.databaseUrl);
+  await sequelize.authenticate();
+  await migrate(sequelize);
+
+  let sink: MailSink | null = null;
+  let smtpHost = process.env.SMTP_HOST;
+  let smtpPort = config.mail.port;
+  if (!smtpHost) {
+    sink = await startMailSink(path.join(config.storageDir, 'mail'), smtpPort);
+    smtpHost = '127.0.0.1';
+    smtpPort = sink.port;
+  }
+  const mailer = createMailer({ host: smtpHost, port: smtpPort, from: config.mail.from });
+  const app = createApp({ config, sequelize, mailer });
+  if (opts.afterMigrate) await opts.afterMigrate({ sequelize, config });
+
+  let server: Server | null = null;
+  let url = '';
+  if (opts.listen !== false) {
+    server = await new Promise<Server>((resolve, reject) => {
+      const s = app.listen(config.port, () => resolve(s));
+      s.once('error', reject);
+    });
+    const addr = server.address();
+    url = `http://localhost:${typeof addr === 'object' && addr ? addr.port : config.port}`;
+  }
+  logger.info({ url, smtp: `${smtpHost}:${smtpPort}` }, 'Cayline server up');
+
+  return {
+    app,
+    config,
+    server,
+    url,
+    async close() {
+      if (server) await new Promise<void>((r) => server!.close(() => r()));
+      await sink?.close();
+      await sequelize.close();
+    },
+  };
+}

@@ -1,0 +1,79 @@
+/**
+ * A local stand-in for a hosted mail service: an SMTP server on 127.0.0.1
+ * that accepts every message and keeps it as an .eml file under
+ * storage/mail/. The app starts it itself; admins read it at /api/admin/mail.
+ */
+import fs from 'node:fs';
+import path from 'node:path';
+import crypto from 'node:crypto';
+import { SMTPServer } from 'smtp-server';
+
+export interface MailSink {
+  port: number;
+  dir: string;
+  close(): Promise<void>;
+}
+
+export function startMailSink(dir: string, port = 0): Promise<MailSink> {
+  fs.mkdirSync(dir, { recursive: true });
+  const server = new SMTPServer({
+    authOptional: true,
+    disabledCommands: ['STARTTLS', 'AUTH'],
+    logger: false,
+    onData(stream, _session, callback) {
+      const chunks: Buffer[] = [];
+      stream.on('data', (c: Buffer) => chunks.push(c));
+      stream.on('end', () => {
+        const name = `${new Date().toISOString().replace(/[:.]/g, '-')}-${crypto.randomBytes(4).toString('hex')}.eml`;
+        const tmp = path.join(dir, `.${name}.part`);
+        fs.writeFileSync(tmp, Buffer.concat(chunks));
+        fs.renameSync(tmp, path.join(dir, name));
+        callback();
+      });
+    },
+  });
+  return new Promise((resolve, reject) => {
+    server.once('error', reject);
+    server.listen(port, '127.0.0.1', () => {
+      const addr = server.server.address();
+      resolve({
+        port: typeof addr === 'object' && addr ? addr.port : port,
+        dir,
+        close: () => new Promise<void>((r) => server.close(() => r())),
+      });
+    });
+  });
+}
+
+export interface StoredMail {
+  id: string;
+  receivedAt: string;
+  to: string;
+  subject: string;
+  text: string;
+}
+
+function header(raw: string, name: string): string {
+  const m = raw.match(new RegExp(`^${name}:\\s*(.*(?:\\r?\\n[ \\t].*)*)`, 'im'));
+  return m ? m[1].replace(/\r?\n[ \t]+/g, ' ').trim() : '';
+}
+
+/** The newest messages in the sink, parsed just enough to read them. */
+export function readSink(dir: string, limit = 50): StoredMail[] {
+  if (!fs.existsSync(dir)) return [];
+  return fs
+    .readdirSync(dir)
+    .filter((f) => f.endsWith('.eml'))
+    .sort()
+    .reverse()
+    .slice(0, limit)
+    .map((f) => {
+      const raw = fs.readFileSync(path.join(dir, f), 'utf8');
+      const split = raw.search(/\r?\n\r?\n/);
+      let text = split >= 0 ? raw.slice(split).trim() : '';
+      if (/quoted-printable/i.test(header(raw, 'Content-Transfer-Encoding'))) {
+        text = text.replace(/=\r?\n/g, '').replace(/=([0-9A-F]{2})/g, (_, h) => String.fromCharCode(parseInt(h, 16)));
+      }
+      return { id: f.replace(/\.eml$/, ''), receivedAt: fs.statSync(path.join(dir, f)).mtime.toISOString(), to: header(raw, 'To'), subject: header(raw, 'Subject'), text };
+    });
+}

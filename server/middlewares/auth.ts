@@ -1,0 +1,64 @@
+import passport from 'passport';
+import { Strategy as JwtStrategy, ExtractJwt } from 'passport-jwt';
+import type { RequestHandler } from 'express';
+import { AppError } from './errors';
+import { JWT_ALGORITHM, userForPayload, type TokenPayload } from '../services/auth.service';
+import type { User } from '../models/index';
+import type { Role } from '../../shared/schemas/auth';
+
+declare global {
+  // eslint-disable-next-line @typescript-eslint/no-namespace
+  namespace Express {
+    interface User {
+      id: number;
+      role: Role;
+    }
+  }
+}
+
+export function configurePassport(secret: string) {
+  passport.use(
+    new JwtStrategy(
+      {
+        jwtFromRequest: ExtractJwt.fromAuthHeaderAsBearerToken(),
+        secretOrKey: secret,
+        algorithms: [JWT_ALGORITHM],
+        passReqToCallback: true,
+      },
+      (req: any, payload: TokenPayload, done: (e: unknown, u?: unknown) => void) => {
+        userForPayload(payload)
+          .then((user) => {
+            if (!user) return done(null, false);
+            req.sessionId = payload.sid;
+            done(null, user);
+          })
+          .catch(done);
+      },
+    ),
+  );
+  return passport.initialize();
+}
+
+/** Require a signed-in user (a valid, unrevoked token of an active account). */
+export const requireAuth: RequestHandler = (req, res, next) => {
+  passport.authenticate('jwt', { session: false }, (err: unknown, user: User | false) => {
+    if (err) return next(err);
+    if (!user) return next(new AppError(401, 'unauthorized', 'Sign in first (the token is missing, expired or signed out)'));
+    req.user = user as unknown as Express.User;
+    next();
+  })(req, res, next);
+};
+
+/** Require one of the global roles (after requireAuth). */
+export function requireRole(...roles: Role[]): RequestHandler {
+  return (req, _res, next) => {
+    if (!req.user || !roles.includes(req.user.role)) {
+      return next(new AppError(403, 'forbidden', `Only ${roles.join(' or ')} accounts may do this`));
+    }
+    next();
+  };
+}
+
+export function currentUser(req: Express.Request): User {
+  return req.user as unknown as User;
+}

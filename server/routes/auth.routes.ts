@@ -1,0 +1,23 @@
+import { Router } from 'express';
+import rateLimit from 'express-rate-limit';
+import { loginSchema } from '../../shared/schemas/auth';
+import { validate } from '../middlewares/validate';
+import { requireAuth } from '../middlewares/auth';
+import { AppError } from '../middlewares/errors';
+import * as c from '../controllers/auth.controller';
+import type { Config } from '../config';
+
+export function authRoutes(config: Config) {
+  const limiter = rateLimit({
+    windowMs: config.loginRateLimit.windowMs,
+    limit: config.loginRateLimit.max,
+    standardHeaders: 'draft-8',
+    legacyHeaders: false,
+    handler: (_req, _res, next) => next(new AppError(429, 'rate_limited', 'Too many sign-in attempts; wait a few minutes and try again')),
+  });
+  const r = Router();
+  r.post('/login', limiter, validate(loginSchema), c.login);
+  r.get('/me', requireAuth, c.me);
+  r.post('/logout', requireAuth, c.logout);
+  return r;
+}

@@ -1,0 +1,125 @@
+import { Op, type Transaction } from 'sequelize';
+import { Project, ProjectMember, User } from '../models/index';
+import { AppError, forbidden, notFound } from '../middlewares/errors';
+import { audit } from './audit.service';
+import { ctx } from '../context';
+import type { CreateProjectInput, UpdateProjectInput, ProjectDetail, ProjectSummary, Page } from '../../shared/schemas/projects';
+import type { PublicUser } from '../../shared/schemas/auth';
+
+export interface Actor {
+  id: number;
+  role: string;
+}
+
+export async function isMember(projectId: number, userId: number, transaction?: Transaction) {
+  return (await ProjectMember.count({ where: { projectId, userId }, transaction })) > 0;
+}
+
+/** Load a project the actor may see (member or admin); 404 otherwise so non-members learn nothing. */
+export async function projectForViewer(actor: Actor, projectId: number): Promise<Project> {
+  const project = Number.isInteger(projectId) ? await Project.findByPk(projectId) : null;
+  if (!project) throw notFound('Project');
+  if (actor.role !== 'admin' && !(await isMember(projectId, actor.id))) throw notFound('Project');
+  return project;
+}
+
+/** Interpreters who are members, and admins, may change a project and its content. */
+export async function assertCanEdit(actor: Actor, projectId: number) {
+  await projectForViewer(actor, projectId);
+  if (actor.role === 'admin') return;
+  if (actor.role !== 'interpreter') throw forbidden('Only interpreters who are members, or admins, may change this project');
+}
+
+function summary(p: Project, memberCount: number): ProjectSummary {
+  return {
+    id: p.id,
+    name: p.name,
+    description: p.description,
+    createdAt: p.createdAt.toISOString(),
+    updatedAt: p.updatedAt.toISOString(),
+    createdBy: p.createdBy ? { id: p.createdBy.id, name: p.createdBy.name } : null,
+    memberCount,
+  };
+}
+
+export async function listProjects(actor: Actor, q: { q?: string; page: number; pageSize: number }): Promise<Page<ProjectSummary>> {
+  const where: Record<string | symbol, unknown> = {};
+  if (q.q) where[Op.or] = [{ name: { [Op.iLike]: `%${q.q}%` } }, { description: { [Op.iLike]: `%${q.q}%` } }];
+  if (actor.role !== 'admin') {
+    where.id = { [Op.in]: ctx().sequelize.literal(`(SELECT project_id FROM project_members WHERE user_id = ${Number(actor.id)})`) };
+  }
+  const { rows, count } = await Project.findAndCountAll({
+    where,
+    include: [{ model: User, as: 'createdBy', attributes: ['id', 'name'] }],
+    order: [['updatedAt', 'DESC']],
+    limit: q.pageSize,
+    offset: (q.page - 1) * q.pageSize,
+  });
+  const counts = new Map<number, number>();
+  if (rows.length) {
+    const cs = (await ProjectMember.count({
+      where: { projectId: rows.map((r) => r.id) },
+      group: ['projectId'],
+    })) as unknown as { projectId: number; count: number }[];
+    for (const c of cs) counts.set(c.projectId, Number(c.count));
+  }
+  return { items: rows.map((p) => summary(p, counts.get(p.id) ?? 0)), total: count, page: q.page, pageSize: q.pageSize };
+}
+
+export async function members(projectId: number): Promise<PublicUser[]> {
+  const ms = await ProjectMember.findAll({ where: { projectId }, include: [{ model: User, as: 'user' }] });
+  return ms
+    .map((m) => (m as unknown as { user: User }).user.toPublic())
+    .sort((a, b) => a.name.localeCompare(b.name));
+}
+
+export async function projectDetail(actor: Actor, projectId: number): Promise<ProjectDetail> {
+  await projectForViewer(actor, projectId);
+  const p = (await Project.findByPk(projectId, { include: [{ model: User, as: 'createdBy', attributes: ['id', 'name'] }] }))!;
+  const ms = await members(projectId);
+  const canEdit = actor.role === 'admin' || actor.role === 'interpreter';
+  return { ...summary(p, ms.length), members: ms, canEdit };
+}
+
+export async function createProject(actor: Actor, input: CreateProjectInput): Promise<ProjectDetail> {
+  const project = await ctx().sequelize.transaction(async (transaction) => {
+    const p = await Project.create({ name: input.name, description: input.description ?? '', createdById: actor.id }, { transaction });
+    await ProjectMember.create({ projectId: p.id, userId: actor.id }, { transaction });
+    await audit(actor.id, 'project.create', 'project', p.id, { name: p.name }, transaction);
+    return p;
+  });
+  return projectDetail(actor, project.id);
+}
+
+export async function updateProject(actor: Actor, projectId: number, input: UpdateProjectInput): Promise<ProjectDetail> {
+  await assertCanEdit(actor, projectId);
+  const p = (await Project.findByPk(projectId))!;
+  await p.update(input);
+  await audit(actor.id, 'project.update', 'project', projectId, input);
+  return projectDetail(actor, projectId);
+}
+
+export async function deleteProject(actor: Actor, projectId: number) {
+  const p = await projectForViewer(actor, projectId);
+  if (actor.role !== 'admin' && p.createdById !== actor.id) throw forbidden('Only the creator of a project or an admin may delete it');
+  await ctx().sequelize.transaction(async (transaction) => {
+    await p.destroy({ transaction });
+    await audit(actor.id, 'project.delete', 'project', projectId, { name: p.name }, transaction);
+  });
+}
+
+export async function addMember(actor: Actor, projectId: number, userId: number): Promise<PublicUser[]> {
+  await assertCanEdit(actor, projectId);
+  const user = await User.findByPk(userId);
+  if (!user || !user.active) throw new AppError(400, 'validation_failed', 'userId: no active user with this id');
+  await ProjectMember.findOrCreate({ where: { projectId, userId } });
+  await audit(actor.id, 'project.member.add', 'project', projectId, { userId });
+  return members(projectId);
+}
+
+export async function removeMember(actor: Actor, projectId: number, userId: number) {
+  await assertCanEdit(actor, projectId);
+  const n = await ProjectMember.destroy({ where: { projectId, userId } });
+  if (!n) throw notFound('Member');
+  await audit(actor.id, 'project.member.remove', 'project', projectId, { userId });
+}

@@ -1,0 +1,63 @@
+import crypto from 'node:crypto';
+import { Op, UniqueConstraintError } from 'sequelize';
+import { User } from '../models/index';
+import { AppError, notFound } from '../middlewares/errors';
+import { hashPassword, revokeAllSessions } from './auth.service';
+import { audit } from './audit.service';
+import { ctx } from '../context';
+import type { CreateUserInput, UpdateUserInput } from '../../shared/schemas/users';
+import type { Page } from '../../shared/schemas/projects';
+import type { PublicUser } from '../../shared/schemas/auth';
+
+export async function listUsers(q: { q?: string; page: number; pageSize: number }): Promise<Page<PublicUser>> {
+  const where = q.q
+    ? { [Op.or]: [{ name: { [Op.iLike]: `%${q.q}%` } }, { email: { [Op.iLike]: `%${q.q}%` } }] }
+    : {};
+  const { rows, count } = await User.findAndCountAll({
+    where,
+    order: [['name', 'ASC']],
+    limit: q.pageSize,
+    offset: (q.page - 1) * q.pageSize,
+  });
+  return { items: rows.map((u) => u.toPublic()), total: count, page: q.page, pageSize: q.pageSize };
+}
+
+export async function directory() {
+  const users = await User.findAll({ where: { active: true }, order: [['name', 'ASC']] });
+  return users.map((u) => ({ id: u.id, name: u.name, email: u.email, role: u.role }));
+}
+
+export async function createUser(actorId: number | null, input: CreateUserInput): Promise<PublicUser> {
+  const invited = !input.password;
+  const password = input.password ?? crypto.randomBytes(12).toString('base64url');
+  let user: User;
+  try {
+    user = await User.create({ email: input.email, name: input.name, role: input.role, passwordHash: await hashPassword(password) });
+  } catch (e) {
+    if (e instanceof UniqueConstraintError) throw new AppError(409, 'email_taken', 'email: an account with this e-mail already exists');
+    throw e;
+  }
+  await audit(actorId, 'user.create', 'user', user.id, { role: input.role });
+  if (invited) {
+    await ctx().mailer.send({
+      to: user.email,
+      subject: 'You are invited to Cayline',
+      text:
+        `Hello ${user.name},\n\nAn administrator created a Cayline account for you (${user.email}, role ${user.role}).\n` +
+        `Your first password is: ${password}\nSign in at ${ctx().config.publicUrl}/sign-in and keep it safe.\n`,
+    });
+  }
+  return user.toPublic();
+}
+
+export async function updateUser(actorId: number, id: number, input: UpdateUserInput): Promise<PublicUser> {
+  const user = await User.findByPk(id);
+  if (!user) throw notFound('User');
+  if (id === actorId && (input.active === false || (input.role && input.role !== 'admin'))) {
+    throw new AppError(400, 'validation_failed', 'role: you cannot demote or deactivate your own account');
+  }
+  await user.update(input);
+  if (input.active === false) await revokeAllSessions(user.id);
+  await audit(actorId, 'user.update', 'user', user.id, input);
+  return user.toPublic();
+}
