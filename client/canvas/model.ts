@@ -403,3 +403,55 @@ export function toInterpretationInput(
     buildups: out,
   };
 }
+
+// ---------------------------------------------------------------------------
+// selection (UI state: never part of history)
+
+/** What is selected inside a buildup/cycle. */
+export type SelectedElement =
+  | { kind: 'base' | 'top' | 'flankLeft' | 'flankRight'; vertex?: number }
+  | { kind: 'marginLeft' | 'marginRight' }
+  | { kind: 'termination'; terminationId: string };
+
+export interface Selection {
+  buildupId: string | null;
+  cycleId: string | null;
+  element: SelectedElement | null;
+}
+
+export const EMPTY_SELECTION: Selection = Object.freeze({ buildupId: null, cycleId: null, element: null }) as Selection;
+
+/**
+ * Drop the parts of a selection that no longer exist in `state` (after an
+ * undo, a delete or a load). Returns the same object when all of it exists.
+ */
+export function reconcileSelection(sel: Selection, state: EditorState): Selection {
+  if (sel.buildupId === null) return sel.cycleId === null && sel.element === null ? sel : EMPTY_SELECTION;
+  const b = state.buildups.find((x) => x.id === sel.buildupId);
+  if (!b) return EMPTY_SELECTION;
+  let cycle: EditorCycle | undefined;
+  if (sel.cycleId !== null) {
+    cycle = b.cycles.find((c) => c.id === sel.cycleId);
+    if (!cycle) return { buildupId: b.id, cycleId: null, element: null };
+  }
+  const el = sel.element;
+  if (!el) return sel;
+  const drop = (): Selection => ({ ...sel, element: null });
+  switch (el.kind) {
+    case 'base':
+      return el.vertex !== undefined && el.vertex >= b.base.length ? { ...sel, element: { kind: 'base' } } : sel;
+    case 'termination':
+      return b.terminations.some((t) => t.id === el.terminationId) ? sel : drop();
+    case 'top':
+    case 'flankLeft':
+    case 'flankRight': {
+      if (!cycle) return drop();
+      const line = cycle[el.kind];
+      if (!line) return drop();
+      return el.vertex !== undefined && el.vertex >= line.length ? { ...sel, element: { kind: el.kind } } : sel;
+    }
+    case 'marginLeft':
+    case 'marginRight':
+      return cycle && cycle[el.kind] ? sel : drop();
+  }
+}
