@@ -1,0 +1,89 @@
+import { createRouter, createWebHistory, type RouteLocationRaw } from 'vue-router';
+import type { Role } from '../../shared/schemas/auth';
+import { message } from '../composables/feedback';
+import { useSessionStore } from '../stores/session';
+
+declare module 'vue-router' {
+  interface RouteMeta {
+    /** Reachable without signing in. */
+    public?: boolean;
+    /** Only for signed-out people (the sign-in page). */
+    guestOnly?: boolean;
+    /** Global roles allowed; absent means any signed-in user. */
+    roles?: Role[];
+    /** Human name used in messages and the document title. */
+    title?: string;
+  }
+}
+
+export const router = createRouter({
+  history: createWebHistory(),
+  routes: [
+    {
+      path: '/sign-in',
+      name: 'sign-in',
+      component: () => import('../pages/SignInPage.vue'),
+      meta: { public: true, guestOnly: true, title: 'Sign in' },
+    },
+    {
+      path: '/',
+      component: () => import('../layouts/AppShell.vue'),
+      children: [
+        { path: '', redirect: { name: 'projects' } },
+        {
+          path: 'projects',
+          name: 'projects',
+          component: () => import('../pages/ProjectsPage.vue'),
+          meta: { title: 'Projects' },
+        },
+        {
+          path: 'projects/:projectId(\\d+)',
+          name: 'project',
+          component: () => import('../pages/ProjectPage.vue'),
+          props: (route) => ({ projectId: Number(route.params.projectId) }),
+          meta: { title: 'Project' },
+        },
+        {
+          path: 'admin/users',
+          name: 'admin-users',
+          component: () => import('../pages/AdminUsersPage.vue'),
+          meta: { roles: ['admin'], title: 'Users' },
+        },
+      ],
+    },
+    {
+      path: '/:pathMatch(.*)*',
+      name: 'not-found',
+      component: () => import('../pages/NotFoundPage.vue'),
+      meta: { public: true, title: 'Not found' },
+    },
+  ],
+});
+
+/** A redirect target from the query string, accepted only when it is a path inside the app. */
+export function safeRedirect(value: unknown): string | null {
+  const s = Array.isArray(value) ? value[0] : value;
+  if (typeof s !== 'string' || !s.startsWith('/') || s.startsWith('//') || s.startsWith('/\\')) return null;
+  if (s.startsWith('/sign-in')) return null;
+  return s;
+}
+
+router.beforeEach((to): RouteLocationRaw | true => {
+  const session = useSessionStore();
+  if (to.meta.guestOnly && session.isSignedIn) {
+    return safeRedirect(to.query.redirect) ?? { name: 'projects' };
+  }
+  if (!to.meta.public && !session.isSignedIn) {
+    return { name: 'sign-in', query: to.fullPath === '/' ? {} : { redirect: to.fullPath } };
+  }
+  const roles = to.matched.flatMap((r) => r.meta.roles ?? []);
+  if (roles.length > 0 && !session.hasRole(...roles)) {
+    message.warning(`${to.meta.title ?? 'That page'} is only open to ${roles.join(' or ')} accounts.`);
+    return { name: 'projects' };
+  }
+  return true;
+});
+
+router.afterEach((to) => {
+  document.title = to.meta.title ? `${to.meta.title} · Cayline` : 'Cayline';
+});
