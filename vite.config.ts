@@ -33,7 +33,7 @@ export default defineConfig({
         test: {
           name: 'e2e',
           include: ['tests/e2e/**/*.test.ts'],
-          globalSetup: ['tests/helpers/db-global-setup.ts'],
+          globalSetup: ['tests/helpers/build-client.ts', 'tests/helpers/db-global-setup.ts'],
           fileParallelism: false,
           testTimeout: 180_000,
           hookTimeout: 300_000,
