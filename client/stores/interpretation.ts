@@ -13,6 +13,7 @@ import { ActionError, actions, type Action } from '../canvas/actions';
 import * as H from '../canvas/history';
 import {
   EMPTY_SELECTION,
+  ModelError,
   fromGeometry,
   reconcileSelection,
   type BuildupRecord,
@@ -92,7 +93,14 @@ export const useInterpretationStore = defineStore('interpretation', () => {
 
   /** Load the section's buildups from server records; clears history and selection. */
   function load(records: readonly (BuildupRecord | unknown)[]): void {
-    const list = records.map((r) => fromGeometry(r));
+    const list = records.map((r, i) => {
+      try {
+        return fromGeometry(r);
+      } catch (e) {
+        if (e instanceof ModelError) throw new ModelError(`records[${i}]${e.path ? '.' + e.path : ''}`, e.message.slice(e.path.length + 2));
+        throw e;
+      }
+    });
     const empty = H.createDoc();
     const next = H.dispatch(empty, actions.replaceAll(list));
     doc.value = { state: next.state, history: empty.history };
