@@ -328,6 +328,7 @@ export function measurableCycles(b: EditorBuildup): EditorCycle[] {
 export function measurabilityIssues(b: EditorBuildup): string[] {
   const issues: string[] = [];
   if (b.base.length < 2) issues.push('base: needs at least 2 points');
+  else if (b.base.every((p) => p[0] === b.base[0][0])) issues.push('base: needs a u-extent (all its points share one u)');
   const complete = b.cycles.map(isCycleComplete);
   if (!complete.some(Boolean)) issues.push('cycles: needs at least one cycle with a top of 2+ points and both margins');
   b.cycles.forEach((c, i) => {
@@ -337,6 +338,13 @@ export function measurabilityIssues(b: EditorBuildup): string[] {
       const m = c[side]!;
       if (m[0] < r[0] || m[0] > r[1]) issues.push(`cycles[${i}].${side}: outside the top's u-range [${r[0]}, ${r[1]}]`);
     }
+  });
+  let older: { age: number; where: string } | null = null;
+  b.cycles.forEach((c, i) => {
+    if (!complete[i] || c.ageTopMa === null) return;
+    if (older && !(c.ageTopMa < older.age))
+      issues.push(`cycles[${i}].ageTopMa: must be younger (a smaller Ma) than ${older.where} (${older.age} Ma)`);
+    older = { age: c.ageTopMa, where: `the top of cycle ${i + 1}` };
   });
   const check = (pts: readonly Pt[] | null, path: string) =>
     pts?.forEach((p, j) => {
@@ -355,10 +363,15 @@ export function isMeasurable(b: EditorBuildup): boolean {
   return measurabilityIssues(b).length === 0;
 }
 
+/** A flank worth sending: 2+ points that do not all coincide. */
+function hasLength(pts: readonly Pt[] | null): boolean {
+  return !!pts && pts.length >= 2 && pts.some((p) => p[0] !== pts[0][0] || p[1] !== pts[0][1]);
+}
+
 /**
  * Build the engine input (spec §4) with `coordinates: "pixels"`. Only
  * complete cycles are sent, re-indexed 1..n oldest first; flanks with fewer
- * than 2 points and unknown ages are left out. Throws ModelError naming
+ * than 2 distinct points and unknown ages are left out. Throws ModelError naming
  * `buildups[i].…` when a buildup is not measurable.
  */
 export function toInterpretationInput(
@@ -385,8 +398,8 @@ export function toInterpretationInput(
           marginLeft: copyPt(c.marginLeft!),
           marginRight: copyPt(c.marginRight!),
         };
-        if (c.flankLeft && c.flankLeft.length >= 2) ci.flankLeft = copyLine(c.flankLeft);
-        if (c.flankRight && c.flankRight.length >= 2) ci.flankRight = copyLine(c.flankRight);
+        if (hasLength(c.flankLeft)) ci.flankLeft = copyLine(c.flankLeft!);
+        if (hasLength(c.flankRight)) ci.flankRight = copyLine(c.flankRight!);
         if (c.ageTopMa !== null) ci.ageTopMa = c.ageTopMa;
         return ci;
       }),

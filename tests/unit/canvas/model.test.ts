@@ -127,6 +127,10 @@ describe('measurability', () => {
     const k = kestrel();
     const outside = { ...k, cycles: [{ ...k.cycles[0], marginRight: [900, 690] as [number, number] }, ...k.cycles.slice(1)] };
     expect(isMeasurable(outside)).toBe(false);
+    const flat = { ...k, base: [[100, 800], [100, 900]] as [number, number][] };
+    expect(measurabilityIssues(flat)).toEqual(['base: needs a u-extent (all its points share one u)']);
+    const ages = { ...k, cycles: [k.cycles[0], { ...k.cycles[1], ageTopMa: 15 }, k.cycles[2]] };
+    expect(measurabilityIssues(ages)).toEqual(['cycles[1].ageTopMa: must be younger (a smaller Ma) than the top of cycle 1 (14.2 Ma)']);
     expect(measurabilityIssues(outside)[0]).toMatch(/^cycles\[0\]\.marginRight: outside the top's u-range \[150, 850\]/);
   });
 });
@@ -171,11 +175,11 @@ describe('toInterpretationInput', () => {
     });
   });
 
-  it('skips an incomplete cycle between complete ones and leaves 1-point flanks out', () => {
+  it('skips an incomplete cycle between complete ones and leaves flanks without length out', () => {
     const k = kestrel();
     const c3 = { ...k.cycles[2], top: [[380, 520], [500, 500], [620, 522]] as [number, number][], marginLeft: [400, 515] as [number, number], marginRight: [600, 518] as [number, number] };
     const c2 = { ...k.cycles[1], marginLeft: null, flankRight: [[740, 600]] as [number, number][] };
-    const c1 = { ...k.cycles[0], flankLeft: [[150, 700]] as [number, number][] };
+    const c1 = { ...k.cycles[0], flankLeft: [[150, 700], [150, 700]] as [number, number][] };
     const input = toInterpretationInput({ ...k, cycles: [c1, c2, c3] }, ctx);
     const cycles = input.buildups[0].cycles;
     expect(cycles.map((c) => [c.index, c.top.length])).toEqual([[1, 3], [2, 3]]);
@@ -202,6 +206,31 @@ describe('toInterpretationInput', () => {
     const results = schemas.map(([name, s]) => [name, (s as { safeParse(x: unknown): { success: boolean; error?: unknown } }).safeParse(input)] as const);
     const ok = results.filter(([, r]) => r.success);
     expect(ok.map(([n]) => n), JSON.stringify(results.map(([n, r]) => [n, r.error]))).not.toEqual([]);
+    // the same schema does refuse a broken input (so the check above can fail)
+    const [name, schema] = schemas.find(([n]) => n === ok[0][0])!;
+    const broken = structuredClone(input);
+    broken.buildups[0].cycles[1].marginLeft = [9999, 590];
+    expect((schema as { safeParse(x: unknown): { success: boolean } }).safeParse(broken).success, name).toBe(false);
+    // every input our checks accept for the fixtures is accepted by the schema, and vice versa for the refusals
+    const k = kestrel();
+    const variants = [
+      { ...k, topIsDrowningSurface: true },
+      { ...k, cycles: [k.cycles[0]] },
+      { ...k, cycles: [k.cycles[0], { ...k.cycles[1], ageTopMa: 15 }] },
+      { ...k, base: [[100, 800], [100, 900]] as [number, number][] },
+    ];
+    for (const v of variants) {
+      let built: unknown = null;
+      try {
+        built = toInterpretationInput(v, ctx);
+      } catch {
+        built = null;
+      }
+      const accepted = isMeasurable(v);
+      expect(built !== null).toBe(accepted);
+      const candidate = built ?? { ...input, buildups: [{ ...input.buildups[0], base: v.base, cycles: v.cycles.filter((c) => c.marginLeft).map((c, i) => ({ index: i + 1, top: c.top, marginLeft: c.marginLeft, marginRight: c.marginRight, ...(c.ageTopMa !== null ? { ageTopMa: c.ageTopMa } : {}) })) }] };
+      expect((schema as { safeParse(x: unknown): { success: boolean } }).safeParse(candidate).success).toBe(accepted);
+    }
   });
 });
 
