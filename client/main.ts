@@ -27,10 +27,9 @@ configureAuth({
   onUnauthorized: () => {
     if (!session.isSignedIn) return;
     session.clear();
-    message.info('Your session has ended. Please sign in again.');
     const current = router.currentRoute.value;
     if (current.name !== 'sign-in') {
-      void router.push({ name: 'sign-in', query: { redirect: current.fullPath } });
+      void router.push({ name: 'sign-in', query: { redirect: current.fullPath, reason: 'expired' } });
     }
   },
 });
