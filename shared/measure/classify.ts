@@ -13,7 +13,7 @@
  *
  * Choices: a mean aggradation ≤ 0 is "downstepping" for buildups too (the
  * net trajectory of a buildup whose margins fell); "narrowing top widths"
- * and "thinning cycles" are reported when each of the last two cycle steps
+ * and "thinning cycles" are reported (steps beyond 1e-9 relative) when each of the last two cycle steps
  * (or the only one) narrows or thins.
  */
 import { DEG } from './geometry';
@@ -28,9 +28,12 @@ export function trajectoryDeg(backstepM: number | null, aggradationM: number | n
   return Math.atan2(aggradationM, -backstepM) * DEG;
 }
 
+/** Aggradation at or below this (m) counts as none: rounding of depth conversion must not turn a flat margin into a rising one. */
+export const AGGRADATION_EPS_M = 1e-6;
+
 /** Class of a trajectory with tolerance `tolDeg` around 90°; mean aggradation ≤ 0 → downstepping. */
 export function classifyTrajectory(trajDeg: number, meanAggradationM: number, tolDeg: number): TrajectoryClass {
-  if (!(meanAggradationM > 0)) return 'downstepping';
+  if (!(meanAggradationM > AGGRADATION_EPS_M)) return 'downstepping';
   if (trajDeg < 90 - tolDeg) return 'prograding';
   if (trajDeg <= 90 + tolDeg) return 'aggrading';
   return 'backstepping';
@@ -83,7 +86,8 @@ function lastStepsDecrease(v: number[]): boolean {
   const n = v.length;
   if (n < 2) return false;
   const steps = Math.min(2, n - 1);
-  for (let k = 0; k < steps; k++) if (!(v[n - 1 - k] < v[n - 2 - k])) return false;
+  // a step counts when it is larger than rounding (1e-9 relative): depth conversion round trips must not invent a trend
+  for (let k = 0; k < steps; k++) if (!(v[n - 1 - k] < v[n - 2 - k] - 1e-9 * Math.max(1, Math.abs(v[n - 2 - k])))) return false;
   return true;
 }
 
