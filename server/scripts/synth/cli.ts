@@ -9,6 +9,15 @@ import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { DEMO_SECTIONS, fixtureOf, generateSection } from './demo';
 
+/** Indented JSON with every array of numbers (points) on one line. */
+export function formatJson(value: unknown): string {
+  return (
+    JSON.stringify(value, null, 1).replace(/\[\s*(-?[\d.eE+-]+(?:,\s*-?[\d.eE+-]+)*)\s*\]/g, (_m, body: string) =>
+      `[${body.split(/,\s*/).join(', ')}]`,
+    ) + '\n'
+  );
+}
+
 async function main(argv: string[]): Promise<void> {
   const args = argv.filter((a) => !a.startsWith('--'));
   const writeFixtures = argv.includes('--fixtures');
@@ -25,7 +34,7 @@ async function main(argv: string[]): Promise<void> {
     const t = performance.now();
     const s = await generateSection(def);
     const ms = performance.now() - t;
-    const json = JSON.stringify(fixtureOf(def, s), null, 1) + '\n';
+    const json = formatJson(fixtureOf(def, s));
     await writeFile(path.join(outDir, `${def.key}.png`), s.png);
     await writeFile(path.join(outDir, `${def.key}.json`), json);
     if (writeFixtures) await writeFile(path.join(fixtureDir, `${def.key}.json`), json);

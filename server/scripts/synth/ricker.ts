@@ -104,8 +104,8 @@ export function stampSpike(trace: Float32Array | Float64Array, p: number, r: num
   for (let j = j0; j <= j1; j++) {
     const f = (j - p) * oversample + centre;
     const i = Math.floor(f);
-    if (i < 0 || i >= last) continue;
+    if (i < 0 || i > last) continue;
     const frac = f - i;
-    trace[j] += r * (table[i] + (table[i + 1] - table[i]) * frac);
+    trace[j] += r * (i === last ? table[last] : table[i] + (table[i + 1] - table[i]) * frac);
   }
 }
