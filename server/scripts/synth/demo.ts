@@ -245,6 +245,7 @@ export async function generateSection(def: DemoSectionDef, opts: GenerateOptions
     raw: { width, height, channels: 1 },
     limitInputPixels: false,
   })
+    .toColourspace('b-w')
     .png({ compressionLevel: 6 })
     .toBuffer();
   return { png, ...geometryOf(model, def, width, height) };

@@ -232,6 +232,8 @@ export class EarthModel {
   readonly substrateImp: Float64Array;
   readonly substrateWobble: Undulation[][];
   readonly terminations: { x: number; z: number }[];
+  /** x where each cycle's flanks meet the older surface (the cycle ends there), [left, right] */
+  readonly toes: [number, number][] = [];
 
   constructor(def: EarthModelDef, seed = 'cayline') {
     validateModelDef(def);
@@ -246,7 +248,7 @@ export class EarthModel {
     void water;
     const rnd = (a: number, b: number) => a + (b - a) * rng();
 
-    // Validate the buildup against the base and the seafloor.
+    // Validate the buildup against the base and the seafloor; find where each cycle ends.
     const zsf = def.seafloorDepthM;
     def.buildup.cycles.forEach((c, i) => {
       const p = `model.buildup.cycles[${i}]`;
@@ -258,6 +260,7 @@ export class EarthModel {
         if (!(z < below - 1)) fail(`${p}.${side}`, `the top must lie above the older surface there (${below.toFixed(1)} m)`);
         if (!(z > zsf + 20)) fail(`${p}.${side}`, 'the top must lie more than 20 m below the seafloor');
       }
+      this.toes.push([findToe(this, i, 'left'), findToe(this, i, 'right')]);
     });
     const zb0 = this.baseDepth(x0);
     if (!(zb0 > zsf + 50)) fail('model.base.depthM', 'the base must lie more than 50 m below the seafloor');
@@ -391,12 +394,18 @@ export class EarthModel {
    */
   envelopeDepth(x: number, k = this.def.buildup.cycles.length): number {
     let z = this.baseDepth(x);
-    const cs = this.def.buildup.cycles;
     for (let i = 0; i < k; i++) {
-      const s = cycleSurfaceDepth(cs[i], x);
+      const s = this.cycleDepth(i, x);
       if (s < z) z = s;
     }
     return z;
+  }
+
+  /** Depth of cycle i's upper surface between its toes; +Infinity outside (the cycle ends at its toes). */
+  cycleDepth(i: number, x: number): number {
+    const t = this.toes[i];
+    if (x < t[0] || x > t[1]) return Infinity;
+    return cycleSurfaceDepth(this.def.buildup.cycles[i], x);
   }
 
   /** Fill surface k (0 = oldest) at x, linear in the grid. */
@@ -504,11 +513,12 @@ function findToe(model: EarthModel, i: number, side: 'left' | 'right'): number {
 const r2 = (v: number) => Math.round(v * 100) / 100;
 const r3 = (v: number) => Math.round(v * 1000) / 1000;
 
+/** x positions from a to b every `step` or less, plus the `extra` ones inside; rounded to 1 cm, distinct. */
 function sampleXs(a: number, b: number, step: number, extra: number[]): number[] {
-  const xs = new Set<number>([a, b]);
+  const xs = new Set<number>([r2(a), r2(b)]);
   const n = Math.max(1, Math.ceil((b - a) / step));
-  for (let k = 1; k < n; k++) xs.add(a + ((b - a) * k) / n);
-  for (const e of extra) if (e > a && e < b) xs.add(e);
+  for (let k = 1; k < n; k++) xs.add(r2(a + ((b - a) * k) / n));
+  for (const e of extra) if (e > a && e < b) xs.add(r2(e));
   return [...xs].sort((p, q) => p - q);
 }
 
@@ -523,7 +533,7 @@ export interface ModelGeometry {
 /** The buildup as an interpretation buildup, in TWT (and in depth for reference). */
 export function buildupGeometry(model: EarthModel): ModelGeometry {
   const cs = model.def.buildup.cycles;
-  const toes = cs.map((_, i) => [findToe(model, i, 'left'), findToe(model, i, 'right')] as [number, number]);
+  const toes = model.toes;
   const breaks = [...toes.flat(), ...cs.flatMap((c) => [c.marginLeftX, c.marginRightX])];
   const make = (toDomain: (x: number, z: number) => number): BuildupGeometry => {
     const pt = (x: number, z: number): Pt => [r2(x), r2(toDomain(x, z))];
@@ -724,7 +734,7 @@ export function renderModel(model: EarthModel, opts: RenderOptions & { keepAmpli
     const zb = model.baseDepth(x);
     U[0] = zb;
     for (let i = 0; i < nc; i++) {
-      const s = cycleSurfaceDepth(cs[i], x);
+      const s = model.cycleDepth(i, x);
       U[i + 1] = s < U[i] ? s : U[i];
     }
     const env = U[nc];
