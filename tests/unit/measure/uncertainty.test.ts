@@ -1,0 +1,67 @@
+/** Monte Carlo ranges (measurement-spec §8): determinism, the SPE-PRMS exceedance order, and the triangular draws. */
+import { describe, expect, it } from 'vitest';
+import { measure, triangularQuantile } from '../../../shared/measure';
+import { depthDocToTwt, loadIn } from './helpers';
+
+const ranged = (v: unknown) => {
+  const doc = depthDocToTwt(loadIn('pinnacle-depth.json'), { kind: 'constant', v: 4000 });
+  doc.velocity = { kind: 'constant', v };
+  return doc;
+};
+
+describe('Monte Carlo ranges', () => {
+  it('no ranges without a velocity range', () => {
+    const out = measure(depthDocToTwt(loadIn('pinnacle-depth.json'), { kind: 'constant', v: 4000 }));
+    expect(out.buildups[0].ranges).toBeNull();
+  });
+
+  it('same input and seed → same output; another seed → other draws', () => {
+    const doc = ranged({ min: 3600, mode: 4000, max: 4400 });
+    const a = measure(doc, { draws: 200 });
+    const b = measure(doc, { draws: 200 });
+    expect(a.buildups[0].ranges).toEqual(b.buildups[0].ranges);
+    const c = measure(doc, { draws: 200, seed: 'another' });
+    expect(c.buildups[0].ranges!.heightM.p50).not.toBe(a.buildups[0].ranges!.heightM.p50);
+    expect(a.options.seed).toBe('cayline');
+    expect(a.options.draws).toBe(200);
+  });
+
+  it('P90 ≤ P50 ≤ P10 for every reported range', () => {
+    // SPE, Petroleum Resources Management System (2018): P90 is the low value, P10 the high one
+    const doc = loadIn('kestrel-knoll-twt-buildup-ranges.json');
+    const r = measure(doc, { draws: 300 }).buildups[0].ranges!;
+    const all = [r.heightM, r.areaM2, r.volumeM3, ...r.cycles.flatMap((c) => [c.left.flankAngleDeg!, c.right.flankAngleDeg!])];
+    expect(all.length).toBe(9);
+    for (const p of all) {
+      expect(p.p90).toBeLessThanOrEqual(p.p50);
+      expect(p.p50).toBeLessThanOrEqual(p.p10);
+      expect(p.p10 - p.p90).toBeGreaterThan(0);
+    }
+  });
+
+  it('a constant-velocity range scales heights by the triangular quantiles', () => {
+    // depth scales with v; triangular (3600, 4000, 4400): 10th percentile 3600 + √(0.1·800·400) = 3778.885 m/s
+    // (inverse CDF of the triangular distribution, computed), median 4000 m/s by symmetry; P90 is the low value (SPE-PRMS 2018)
+    const out = measure(ranged({ min: 3600, mode: 4000, max: 4400 }), { draws: 4000 });
+    const b = out.buildups[0];
+    const q10 = 3600 + Math.sqrt(0.1 * 800 * 400);
+    expect(b.heightM).toBeCloseTo(900, 6);
+    expect(b.ranges!.heightM.p90 / (900 * (q10 / 4000))).toBeCloseTo(1, 2);
+    expect(b.ranges!.heightM.p50 / 900).toBeCloseTo(1, 2);
+    expect(b.ranges!.heightM.p10 / (900 * ((8000 - q10) / 4000))).toBeCloseTo(1, 2);
+    expect(b.ranges!.areaM2.p90 / (1_770_000 * (q10 / 4000))).toBeCloseTo(1, 2);
+    // a 45° flank in depth at 4000 m/s becomes atan(v/4000) at velocity v
+    expect(b.ranges!.cycles[0].left.flankAngleDeg!.p90).toBeCloseTo((Math.atan(q10 / 4000) * 180) / Math.PI, 0);
+    expect(out.assumptions.join(' ')).toMatch(/4000 seeded triangular draws/);
+  });
+
+  it('triangular quantile: ends, mode and a skewed case', () => {
+    const r = { min: 1000, mode: 1500, max: 3000 };
+    expect(triangularQuantile(r, 0)).toBe(1000);
+    expect(triangularQuantile(r, 1)).toBe(3000);
+    expect(triangularQuantile(r, 0.5)).toBeCloseTo(3000 - Math.sqrt(0.5 * 2000 * 1500), 9);
+    // CDF at the mode is (mode − min)/(max − min) = 0.25
+    expect(triangularQuantile(r, 0.25)).toBeCloseTo(1500, 9);
+    expect(triangularQuantile({ min: 5, mode: 5, max: 5 }, 0.7)).toBe(5);
+  });
+});
