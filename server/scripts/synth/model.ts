@@ -244,8 +244,7 @@ export class EarthModel {
     this.gridX0 = x0;
     this.gridN = Math.ceil((x1 - x0) / this.gridDx) + 1;
 
-    const { water, overburden } = def.velocities;
-    void water;
+    const { overburden } = def.velocities;
     const rnd = (a: number, b: number) => a + (b - a) * rng();
 
     // Validate the buildup against the base and the seafloor; find where each cycle ends.
