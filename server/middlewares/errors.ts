@@ -3,6 +3,7 @@ import { ZodError } from 'zod';
 import { MulterError } from 'multer';
 import { formatIssuePath, type ApiErrorBody } from '../../shared/api-errors';
 import { logger } from '../logger';
+import { MeasureInputError } from '../../shared/measure/errors';
 
 /** The one error type services throw; the error handler turns it into `{ code, message, details? }`. */
 export class AppError extends Error {
@@ -37,6 +38,13 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
   let e: AppError;
   if (err instanceof AppError) e = err;
   else if (err instanceof ZodError) e = validationError(err);
+  else if (err instanceof MeasureInputError) {
+    const details = err.issues.map((text) => {
+      const i = text.indexOf(': ');
+      return i > 0 ? { path: text.slice(0, i), message: text.slice(i + 2) } : { path: '', message: text };
+    });
+    e = new AppError(400, 'validation_failed', err.message, details);
+  }
   else if (err instanceof MulterError) {
     const status = err.code === 'LIMIT_FILE_SIZE' ? 413 : 400;
     e = new AppError(status, 'upload_rejected', `${err.field ?? 'file'}: ${err.message}`);

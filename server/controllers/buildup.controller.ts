@@ -1,0 +1,35 @@
+import type { Request, Response } from 'express';
+import * as buildups from '../services/buildup.service';
+import { idParam } from './user.controller';
+import { measure } from '../../shared/measure/index';
+
+export async function list(req: Request, res: Response) {
+  res.json(await buildups.listBuildups(req.user!, idParam(req, 'sectionId')));
+}
+export async function create(req: Request, res: Response) {
+  res.status(201).json(await buildups.createBuildup(req.user!, idParam(req, 'sectionId'), res.locals.body.name));
+}
+export async function get(req: Request, res: Response) {
+  res.json(await buildups.getBuildup(req.user!, idParam(req)));
+}
+export async function save(req: Request, res: Response) {
+  res.json(await buildups.saveBuildup(req.user!, idParam(req), res.locals.body));
+}
+export async function remove(req: Request, res: Response) {
+  await buildups.deleteBuildup(req.user!, idParam(req));
+  res.status(204).end();
+}
+export async function measurements(req: Request, res: Response) {
+  res.json(await buildups.measureBuildup(req.user!, idParam(req), res.locals.query));
+}
+export async function getVelocity(req: Request, res: Response) {
+  res.json(await buildups.getVelocity(req.user!, idParam(req)));
+}
+export async function putVelocity(req: Request, res: Response) {
+  res.json(await buildups.putVelocity(req.user!, idParam(req), res.locals.body.velocity));
+}
+/** `POST /api/measure`: the engine on a posted interpretation (spec §9). */
+export async function measureInterpretation(req: Request, res: Response) {
+  const body = (req.body ?? {}) as { interpretation?: unknown; options?: unknown };
+  res.json(measure(body.interpretation, body.options));
+}

@@ -1,0 +1,153 @@
+/**
+ * Buildups traced on a section: create, list, load, save with optimistic
+ * locking, delete; the section's velocity model; measurements computed by the
+ * shared engine from the stored pixel geometry, the section's latest
+ * calibration and its velocity model.
+ */
+import { Buildup, SectionVelocity } from '../models/buildup';
+import { Section, SectionCalibration } from '../models/section';
+import { User } from '../models/index';
+import { AppError, notFound } from '../middlewares/errors';
+import { assertCanEdit, projectForViewer, type Actor } from './project.service';
+import { audit } from './audit.service';
+import { ctx } from '../context';
+import { measure, MeasureInputError, type MeasurementOutput } from '../../shared/measure/index';
+import { fromGeometry, toInterpretationInput, ModelError, type BuildupGeometry, type VelocityModel } from '../../shared/editor/model';
+import { DEFAULT_VELOCITY, DEFAULT_VELOCITY_SOURCES, type BuildupSummary, type SaveBuildupInput } from '../../shared/schemas/buildups';
+
+const EMPTY_GEOMETRY: BuildupGeometry = { base: [], cycles: [], terminations: [], topIsDrowningSurface: false };
+
+export async function sectionForViewer(actor: Actor, sectionId: number): Promise<Section> {
+  const section = await Section.findByPk(sectionId);
+  if (!section) throw notFound('Section');
+  await projectForViewer(actor, section.projectId).catch(() => {
+    throw notFound('Section');
+  });
+  return section;
+}
+
+async function sectionForEditor(actor: Actor, sectionId: number): Promise<Section> {
+  const section = await sectionForViewer(actor, sectionId);
+  await assertCanEdit(actor, section.projectId);
+  return section;
+}
+
+async function buildupForViewer(actor: Actor, id: number): Promise<{ buildup: Buildup; section: Section }> {
+  const buildup = await Buildup.findByPk(id);
+  if (!buildup) throw notFound('Buildup');
+  const section = await sectionForViewer(actor, buildup.sectionId).catch(() => {
+    throw notFound('Buildup');
+  });
+  return { buildup, section };
+}
+
+function summary(b: Buildup): BuildupSummary {
+  return {
+    id: b.id,
+    sectionId: b.sectionId,
+    name: b.name,
+    version: b.version,
+    cycleCount: b.geometry.cycles.length,
+    updatedAt: b.updatedAt.toISOString(),
+    updatedBy: b.updatedBy ? { id: b.updatedBy.id, name: b.updatedBy.name } : null,
+  };
+}
+
+export async function listBuildups(actor: Actor, sectionId: number) {
+  await sectionForViewer(actor, sectionId);
+  const rows = await Buildup.findAll({
+    where: { sectionId },
+    include: [{ model: User, as: 'updatedBy', attributes: ['id', 'name'] }],
+    order: [['createdAt', 'ASC']],
+  });
+  return rows.map((b) => ({ ...summary(b), geometry: b.geometry }));
+}
+
+export async function createBuildup(actor: Actor, sectionId: number, name: string) {
+  await sectionForEditor(actor, sectionId);
+  const b = await Buildup.create({ sectionId, name, geometry: EMPTY_GEOMETRY, createdById: actor.id, updatedById: actor.id });
+  await audit(actor.id, 'buildup.create', 'buildup', b.id, { sectionId, name });
+  return { id: b.id, version: b.version };
+}
+
+export async function getBuildup(actor: Actor, id: number) {
+  const { buildup } = await buildupForViewer(actor, id);
+  return { id: buildup.id, sectionId: buildup.sectionId, name: buildup.name, version: buildup.version, geometry: buildup.geometry, updatedAt: buildup.updatedAt.toISOString() };
+}
+
+/** Save with optimistic locking: a stale `version` answers 409 with the current record, nothing is overwritten. */
+export async function saveBuildup(actor: Actor, id: number, input: SaveBuildupInput) {
+  const { buildup: found } = await buildupForViewer(actor, id);
+  const section = await Section.findByPk(found.sectionId);
+  await assertCanEdit(actor, section!.projectId);
+  return ctx().sequelize.transaction(async (transaction) => {
+    const b = await Buildup.findByPk(id, { transaction, lock: transaction.LOCK.UPDATE });
+    if (!b) throw notFound('Buildup');
+    if (b.version !== input.version) {
+      throw new AppError(409, 'version_conflict', `Someone saved this buildup after you loaded it (yours is version ${input.version}, the saved one ${b.version})`, {
+        current: { id: b.id, name: b.name, version: b.version, geometry: b.geometry, updatedAt: b.updatedAt.toISOString() },
+      });
+    }
+    b.set({ geometry: input.geometry, updatedById: actor.id, version: b.version + 1 });
+    if (input.name) b.set('name', input.name);
+    await b.save({ transaction });
+    await audit(actor.id, 'buildup.save', 'buildup', b.id, { version: b.version }, transaction);
+    return { version: b.version, updatedAt: b.updatedAt.toISOString() };
+  });
+}
+
+export async function deleteBuildup(actor: Actor, id: number) {
+  const { buildup, section } = await buildupForViewer(actor, id);
+  await assertCanEdit(actor, section.projectId);
+  await ctx().sequelize.transaction(async (transaction) => {
+    await buildup.destroy({ transaction });
+    await audit(actor.id, 'buildup.delete', 'buildup', id, { name: buildup.name }, transaction);
+  });
+}
+
+export interface VelocityInfo {
+  velocity: VelocityModel;
+  isDefault: boolean;
+  sources: string[];
+  updatedAt: string | null;
+}
+
+async function velocityOf(sectionId: number): Promise<VelocityInfo> {
+  const row = await SectionVelocity.findByPk(sectionId);
+  if (!row) return { velocity: DEFAULT_VELOCITY as VelocityModel, isDefault: true, sources: DEFAULT_VELOCITY_SOURCES, updatedAt: null };
+  return { velocity: row.model as VelocityModel, isDefault: false, sources: [], updatedAt: row.updatedAt.toISOString() };
+}
+
+export async function getVelocity(actor: Actor, sectionId: number): Promise<VelocityInfo> {
+  await sectionForViewer(actor, sectionId);
+  return velocityOf(sectionId);
+}
+
+export async function putVelocity(actor: Actor, sectionId: number, velocity: unknown): Promise<VelocityInfo> {
+  await sectionForEditor(actor, sectionId);
+  await SectionVelocity.upsert({ sectionId, model: velocity, updatedById: actor.id, updatedAt: new Date() });
+  await audit(actor.id, 'section.velocity', 'section', sectionId, velocity);
+  return velocityOf(sectionId);
+}
+
+/** Everything the engine needs besides the geometry: latest Ties, vertical domain, velocity model. */
+export async function measureContext(section: Section) {
+  const cal = await SectionCalibration.findOne({ where: { sectionId: section.id }, order: [['version', 'DESC']] });
+  if (!cal) throw new AppError(409, 'not_calibrated', 'calibration: the section has no Ties yet; calibrate it before measuring');
+  const { velocity } = await velocityOf(section.id);
+  return { calibrationTies: cal.ties, verticalDomain: section.verticalDomain, velocity };
+}
+
+export async function measureBuildup(actor: Actor, id: number, options?: unknown): Promise<MeasurementOutput> {
+  const { buildup, section } = await buildupForViewer(actor, id);
+  const context = await measureContext(section);
+  try {
+    const editor = fromGeometry({ id: buildup.id, name: buildup.name, version: buildup.version, geometry: buildup.geometry });
+    return measure(toInterpretationInput(editor, context), options);
+  } catch (e) {
+    if (e instanceof ModelError || e instanceof MeasureInputError) {
+      throw new AppError(422, 'not_measurable', `${e.message}`, { path: (e as { path?: string }).path });
+    }
+    throw e;
+  }
+}
