@@ -13,6 +13,8 @@ import { apiNotFound, errorHandler } from './middlewares/errors';
 import { authRoutes } from './routes/auth.routes';
 import { userRoutes } from './routes/user.routes';
 import { projectRoutes } from './routes/project.routes';
+import { buildupRoutes } from './routes/buildup.routes';
+import { sectionRoutes } from './routes/section.routes';
 import type { Mailer } from './mail/mailer';
 import { readSink } from './mail/sink';
 
@@ -52,7 +54,9 @@ export function createApp(deps: AppDeps) {
   });
   app.use('/api/auth', authRoutes(deps.config));
   app.use('/api/users', userRoutes());
+  app.use('/api', sectionRoutes(deps.config));
   app.use('/api/projects', projectRoutes());
+  app.use('/api', buildupRoutes());
   app.get('/api/admin/mail', requireAuth, requireRole('admin'), (_req, res) => {
     res.json(readSink(path.join(deps.config.storageDir, 'mail')));
   });

@@ -16,6 +16,8 @@ export interface Config {
   upload: { maxFileBytes: number; maxInputPixels: number };
   mail: { host: string; port: number; from: string };
   publicUrl: string;
+  /** Background work (pg-boss, schema `pgboss`): run workers in this process, poll interval, attempts per section. */
+  jobs: { runWorkers: boolean; pollingIntervalSeconds: number; maxAttempts: number; expireInSeconds: number };
 }
 
 function jwtSecretFrom(storageDir: string): string {
@@ -48,6 +50,12 @@ export function loadConfig(overrides: Partial<Config> = {}): Config {
       from: process.env.MAIL_FROM ?? 'Cayline <no-reply@cayline.example>',
     },
     publicUrl: process.env.PUBLIC_URL ?? `http://localhost:${port}`,
+    jobs: {
+      runWorkers: process.env.CAYLINE_JOB_WORKERS !== '0',
+      pollingIntervalSeconds: Number(process.env.JOB_POLL_SECONDS ?? 2),
+      maxAttempts: Number(process.env.JOB_MAX_ATTEMPTS ?? 3),
+      expireInSeconds: Number(process.env.JOB_EXPIRE_SECONDS ?? 3600),
+    },
     ...overrides,
   };
 }

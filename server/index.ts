@@ -12,6 +12,7 @@ import { createApp } from './app';
 import { createMailer } from './mail/mailer';
 import { startMailSink, type MailSink } from './mail/sink';
 import { logger } from './logger';
+import { startBackgroundJobs } from './jobs/pyramid.job';
 
 export interface Running {
   app: ReturnType<typeof createApp>;
@@ -45,6 +46,7 @@ export async function boot(opts: BootOptions): Promise<Running> {
   }
   const mailer = createMailer({ host: smtpHost, port: smtpPort, from: config.mail.from });
   const app = createApp({ config, sequelize, mailer });
+  const jobs = await startBackgroundJobs({ databaseUrl: opts.databaseUrl, config, sequelize });
   if (opts.afterMigrate) await opts.afterMigrate({ sequelize, config });
 
   let server: Server | null = null;
@@ -66,6 +68,7 @@ export async function boot(opts: BootOptions): Promise<Running> {
     url,
     async close() {
       if (server) await new Promise<void>((r) => server!.close(() => r()));
+      await jobs.stop();
       await sink?.close();
       await sequelize.close();
     },

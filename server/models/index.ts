@@ -13,6 +13,8 @@ import {
   type Sequelize,
 } from 'sequelize';
 import type { Role, PublicUser } from '../../shared/schemas/auth';
+import { initSectionModels } from './section';
+import { initBuildupModels } from './buildup';
 
 export class User extends Model<InferAttributes<User>, InferCreationAttributes<User>> {
   declare id: CreationOptional<number>;
@@ -143,4 +145,6 @@ export function initModels(sequelize: Sequelize) {
   User.belongsToMany(Project, { through: ProjectMember, foreignKey: 'userId', otherKey: 'projectId', as: 'projects' });
   ProjectMember.belongsTo(User, { foreignKey: 'userId', as: 'user' });
   ProjectMember.belongsTo(Project, { foreignKey: 'projectId', as: 'project' });
+  initSectionModels(sequelize);
+  initBuildupModels(sequelize);
 }

@@ -4,6 +4,8 @@
  */
 import type { MigrationContext } from '../migrate';
 import * as m0001 from './0001-foundation';
+import * as m0002 from './0002-sections';
+import * as m0003 from './0003-buildups';
 
 export interface Migration {
   name: string;
@@ -11,4 +13,8 @@ export interface Migration {
   down(ctx: MigrationContext): Promise<void>;
 }
 
-export const migrations: Migration[] = [{ name: '0001-foundation', ...m0001 }];
+export const migrations: Migration[] = [
+  { name: '0001-foundation', ...m0001 },
+  { name: '0002-sections', ...m0002 },
+  { name: '0003-buildups', ...m0003 },
+];

@@ -1,0 +1,89 @@
+/**
+ * The durable job queue: pg-boss in the same PostgreSQL database (schema
+ * `pgboss`). `startJobs` is called by `boot()` (server/index.ts); web
+ * processes and separate worker processes (server/scripts/worker.ts) share it.
+ *
+ * Jobs are sent inside the caller's database transaction (pg-boss `db`
+ * option over the transaction's own connection), so a section row and its
+ * job appear together or not at all.
+ */
+import PgBoss from 'pg-boss';
+import type { Sequelize, Transaction } from 'sequelize';
+import type { Config } from '../config';
+import { logger } from '../logger';
+
+export const PYRAMID_QUEUE = 'section-pyramid';
+
+export interface PyramidJobData {
+  sectionId: number;
+}
+
+export interface JobQueue {
+  boss: PgBoss;
+  stop(): Promise<void>;
+}
+
+let current: { boss: PgBoss; config: Config; workerIds: string[] } | null = null;
+
+export function jobQueue(): PgBoss {
+  if (!current) throw new Error('job queue used before startJobs()');
+  return current.boss;
+}
+
+/** Send a pyramid job within `transaction`; returns the job id. */
+export async function sendPyramidJob(sectionId: number, transaction: Transaction): Promise<string> {
+  const boss = jobQueue();
+  const client = (transaction as unknown as { connection?: { query(text: string, values: unknown[]): Promise<{ rows: unknown[] }> } }).connection;
+  if (!client) throw new Error('sendPyramidJob: the transaction has no connection yet');
+  const db = { executeSql: (text: string, values: unknown[]) => client.query(text, values) as Promise<{ rows: any[] }> };
+  const { jobs } = current!.config;
+  const id = await boss.send(
+    PYRAMID_QUEUE,
+    { sectionId } satisfies PyramidJobData,
+    { db, retryLimit: 2, retryDelay: 10, expireInSeconds: jobs.expireInSeconds },
+  );
+  if (!id) throw new Error('the job queue refused the pyramid job');
+  return id;
+}
+
+/** Wake this process's workers now instead of at their next poll (call after the sending transaction committed). */
+export function nudgeWorkers() {
+  if (!current) return;
+  for (const id of current.workerIds) current.boss.notifyWorker(id);
+}
+
+export interface StartJobsDeps {
+  databaseUrl: string;
+  config: Config;
+  sequelize: Sequelize;
+  /** Runs once the queue exists, before workers start (recovery of interrupted work). */
+  onReady?: (boss: PgBoss) => Promise<void>;
+  handlers: { pyramid: (job: PgBoss.Job<PyramidJobData>) => Promise<void> };
+}
+
+export async function startJobs(deps: StartJobsDeps): Promise<JobQueue> {
+  const boss = new PgBoss({ connectionString: deps.databaseUrl, schema: 'pgboss', max: 4, application_name: 'cayline-jobs' });
+  boss.on('error', (err) => logger.error({ err }, 'job queue error'));
+  await boss.start();
+  await boss.createQueue(PYRAMID_QUEUE);
+  current = { boss, config: deps.config, workerIds: [] };
+  const mine = current;
+  if (deps.onReady) await deps.onReady(boss);
+  if (deps.config.jobs.runWorkers) {
+    const id = await boss.work<PyramidJobData>(
+      PYRAMID_QUEUE,
+      { pollingIntervalSeconds: deps.config.jobs.pollingIntervalSeconds, batchSize: 1 },
+      async (jobs) => {
+        for (const job of jobs) await deps.handlers.pyramid(job);
+      },
+    );
+    mine.workerIds.push(id);
+  }
+  return {
+    boss,
+    async stop() {
+      await boss.stop({ graceful: true, timeout: 15_000, wait: true });
+      if (current === mine) current = null;
+    },
+  };
+}

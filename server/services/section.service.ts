@@ -1,0 +1,431 @@
+/**
+ * Sections: upload (checked, stored, queued), read, list, edit with
+ * optimistic locking, retry, delete, files (tiles, preview, thumbnail) and
+ * versioned axis calibrations.
+ *
+ * Access: members of the section's project (and admins) read; interpreters
+ * who are members, and admins, change (assertCanEdit). Non-members get 404.
+ */
+import { Op, type Transaction, type WhereOptions } from 'sequelize';
+import * as turf from '@turf/turf';
+import { ctx } from '../context';
+import { AppError, notFound } from '../middlewares/errors';
+import { Section, SectionCalibration } from '../models/section';
+import { User } from '../models/index';
+import { assertCanEdit, projectForViewer, type Actor } from './project.service';
+import { audit } from './audit.service';
+import { inspectImage } from './image.service';
+import { tilesDescriptor, pyramidLevels, TILE_EXT } from './tiles.service';
+import { fileStoreFor, randomName, type StoredObject } from '../storage/fileStore';
+import { queuePyramid, nudgeWorkers, sectionKeys } from '../jobs/pyramid.job';
+import { fitCalibration, applyCalibration, type CalibrationFit } from '../../shared/measure/calibration';
+import { CalibrationError } from '../../shared/measure/errors';
+import type {
+  CalibrationChecks,
+  CalibrationInput,
+  CalibrationPreview,
+  CalibrationRecord,
+  CreateSectionFields,
+  SectionAccepted,
+  SectionDetail,
+  SectionPage,
+  SectionSummary,
+  UpdateSectionInput,
+} from '../../shared/schemas/sections';
+
+const store = () => fileStoreFor(ctx().config.storageDir);
+
+// ---- access ------------------------------------------------------------------
+
+async function loadSection(id: number, transaction?: Transaction): Promise<Section> {
+  const s = Number.isInteger(id) && id > 0 ? await Section.findByPk(id, { transaction }) : null;
+  if (!s) throw notFound('Section');
+  return s;
+}
+
+/** A section the actor may see; 404 for non-members so they learn nothing. */
+export async function sectionForViewer(actor: Actor, id: number): Promise<Section> {
+  const s = await loadSection(id);
+  try {
+    await projectForViewer(actor, s.projectId);
+  } catch (e) {
+    if (e instanceof AppError && e.status === 404) throw notFound('Section');
+    throw e;
+  }
+  return s;
+}
+
+/** A section the actor may change: 404 non-member, 403 member without an editing role. */
+export async function sectionForEditor(actor: Actor, id: number): Promise<Section> {
+  const s = await loadSection(id);
+  try {
+    await assertCanEdit(actor, s.projectId);
+  } catch (e) {
+    if (e instanceof AppError && e.status === 404) throw notFound('Section');
+    throw e;
+  }
+  return s;
+}
+
+// ---- shapes ------------------------------------------------------------------
+
+const userRef = (u: User | null | undefined) => (u ? { id: u.id, name: u.name } : null);
+const iso = (d: Date) => d.toISOString();
+
+function lineLength(s: Pick<Section, 'startLon' | 'startLat' | 'endLon' | 'endLat'>): number | null {
+  if (s.startLon == null || s.startLat == null || s.endLon == null || s.endLat == null) return null;
+  // turf.length: haversine great circle on a sphere of radius 6371008.8 m
+  const line = turf.lineString([
+    [s.startLon, s.startLat],
+    [s.endLon, s.endLat],
+  ]);
+  return turf.length(line, { units: 'kilometers' }) * 1000;
+}
+
+/** Line length vs the calibrated x range of the image's left and right edges (at mid-height); warn beyond 5 %. */
+export function calibrationChecks(section: Section, fit: CalibrationFit | null): CalibrationChecks {
+  const lineLengthM = lineLength(section);
+  let calibratedXRangeM: number | null = null;
+  if (fit) {
+    const mid = section.height / 2;
+    calibratedXRangeM = Math.abs(applyCalibration(fit.affine, [section.width, mid])[0] - applyCalibration(fit.affine, [0, mid])[0]);
+  }
+  let lengthMismatch: CalibrationChecks['lengthMismatch'] = null;
+  if (lineLengthM != null && calibratedXRangeM != null && lineLengthM > 0) {
+    const relativeDifference = Math.abs(calibratedXRangeM - lineLengthM) / lineLengthM;
+    if (relativeDifference > 0.05) {
+      lengthMismatch = {
+        lineLengthM,
+        calibratedXRangeM,
+        relativeDifference,
+        message: `The calibrated width of the image (${Math.round(calibratedXRangeM)} m) differs by ${(relativeDifference * 100).toFixed(1)} % from the line length given by its end coordinates (${Math.round(lineLengthM)} m)`,
+      };
+    }
+  }
+  return { lineLengthM, calibratedXRangeM, lengthMismatch };
+}
+
+function calibrationRecord(section: Section, c: SectionCalibration): CalibrationRecord {
+  const fit = c.fit as CalibrationFit;
+  return {
+    id: c.id,
+    sectionId: c.sectionId,
+    version: c.version,
+    mode: fit.mode,
+    ties: c.ties,
+    fit,
+    createdAt: iso(c.createdAt),
+    createdBy: userRef(c.author),
+    ...calibrationChecks(section, fit),
+  };
+}
+
+function fileUrl(s: Section, name: 'thumbnail' | 'preview') {
+  return s.status === 'ready' ? `/api/sections/${s.id}/${name}` : null;
+}
+
+function summary(s: Section, calibrationVersion: number | null): SectionSummary {
+  return {
+    id: s.id,
+    projectId: s.projectId,
+    title: s.title,
+    lineName: s.lineName,
+    survey: s.survey,
+    verticalDomain: s.verticalDomain,
+    status: s.status,
+    progress: s.progress,
+    failureReason: s.failureReason ?? null,
+    width: s.width,
+    height: s.height,
+    thumbnailUrl: fileUrl(s, 'thumbnail'),
+    uploadedBy: userRef(s.uploadedBy),
+    calibrationVersion,
+    createdAt: iso(s.createdAt),
+    updatedAt: iso(s.updatedAt),
+    version: s.version,
+  };
+}
+
+async function latestCalibration(sectionId: number, transaction?: Transaction) {
+  return SectionCalibration.findOne({
+    where: { sectionId },
+    order: [['version', 'DESC']],
+    include: [{ model: User, as: 'author', attributes: ['id', 'name'] }],
+    transaction,
+  });
+}
+
+export async function sectionDetail(actor: Actor, id: number): Promise<SectionDetail> {
+  await sectionForViewer(actor, id);
+  const s = (await Section.findByPk(id, { include: [{ model: User, as: 'uploadedBy', attributes: ['id', 'name'] }] }))!;
+  const cal = await latestCalibration(id);
+  const p = s.status === 'ready' ? s.pyramid : null;
+  return {
+    ...summary(s, cal?.version ?? null),
+    notes: s.notes,
+    polarityNote: s.polarityNote,
+    startLon: s.startLon ?? null,
+    startLat: s.startLat ?? null,
+    endLon: s.endLon ?? null,
+    endLat: s.endLat ?? null,
+    sourceFormat: s.sourceFormat,
+    sourceBytes: s.sourceBytes,
+    previewUrl: fileUrl(s, 'preview'),
+    tiles: p ? tilesDescriptor(s.id, s.width, s.height, p.tileSize, p.overlap) : null,
+    calibration: cal ? calibrationRecord(s, cal) : null,
+    lineLengthM: lineLength(s),
+  };
+}
+
+// ---- list ----------------------------------------------------------------------
+
+export async function listSections(
+  actor: Actor,
+  projectId: number,
+  q: { q?: string; page: number; pageSize: number; sort: string },
+): Promise<SectionPage> {
+  await projectForViewer(actor, projectId);
+  const where: WhereOptions = { projectId };
+  if (q.q) {
+    const like = `%${q.q.replace(/[\\%_]/g, (c) => `\\${c}`)}%`;
+    Object.assign(where, {
+      [Op.or]: [{ title: { [Op.iLike]: like } }, { lineName: { [Op.iLike]: like } }, { survey: { [Op.iLike]: like } }, { notes: { [Op.iLike]: like } }],
+    });
+  }
+  const desc = q.sort.startsWith('-');
+  const field = desc ? q.sort.slice(1) : q.sort;
+  const { rows, count } = await Section.findAndCountAll({
+    where,
+    include: [{ model: User, as: 'uploadedBy', attributes: ['id', 'name'] }],
+    order: [
+      [field, desc ? 'DESC' : 'ASC'],
+      ['id', desc ? 'DESC' : 'ASC'],
+    ],
+    limit: q.pageSize,
+    offset: (q.page - 1) * q.pageSize,
+  });
+  const versions = new Map<number, number>();
+  if (rows.length) {
+    const vs = (await SectionCalibration.findAll({
+      attributes: ['sectionId', [ctx().sequelize.fn('max', ctx().sequelize.col('version')), 'latest']],
+      where: { sectionId: rows.map((r) => r.id) },
+      group: ['sectionId'],
+      raw: true,
+    })) as unknown as { sectionId: number; latest: number }[];
+    for (const v of vs) versions.set(v.sectionId, Number(v.latest));
+  }
+  return { items: rows.map((s) => summary(s, versions.get(s.id) ?? null)), total: count, page: q.page, pageSize: q.pageSize };
+}
+
+// ---- upload ------------------------------------------------------------------------
+
+/**
+ * Check the uploaded file, then in one transaction create the row, move the
+ * file into the store and queue its pyramid job. Any failure leaves no row,
+ * no stored file and no job.
+ */
+export async function createSection(
+  actor: Actor,
+  projectId: number,
+  fields: CreateSectionFields,
+  file: { path: string },
+): Promise<SectionAccepted> {
+  await assertCanEdit(actor, projectId);
+  const s = await storeNewSection(actor.id, projectId, fields, file.path);
+  return { id: s.id, status: 'processing' };
+}
+
+/**
+ * The upload's work without the HTTP side (also used by the demo seeder):
+ * inspect the file, then in one transaction create the row, move the file
+ * into the store, optionally store calibration version 1, and queue the job.
+ */
+export async function storeNewSection(
+  userId: number,
+  projectId: number,
+  fields: CreateSectionFields,
+  filePath: string,
+  opts: { ties?: CalibrationInput['ties'] } = {},
+): Promise<Section> {
+  const { config, sequelize } = ctx();
+  const info = await inspectImage(filePath, { maxInputPixels: config.upload.maxInputPixels });
+  const storageKey = randomName();
+  const keys = sectionKeys(storageKey);
+  try {
+    const section = await sequelize.transaction(async (transaction) => {
+      const s = await Section.create(
+        {
+          projectId,
+          title: fields.title,
+          lineName: fields.lineName,
+          survey: fields.survey,
+          verticalDomain: fields.verticalDomain,
+          notes: fields.notes,
+          polarityNote: fields.polarityNote,
+          startLon: fields.startLon ?? null,
+          startLat: fields.startLat ?? null,
+          endLon: fields.endLon ?? null,
+          endLat: fields.endLat ?? null,
+          width: info.width,
+          height: info.height,
+          sourceFormat: info.format,
+          sourceBytes: info.bytes,
+          storageKey,
+          uploadedById: userId,
+        },
+        { transaction },
+      );
+      await store().importFile(filePath, keys.original);
+      if (opts.ties) await seedCalibration(s.id, userId, opts.ties, transaction);
+      await queuePyramid(s, transaction);
+      const details = { projectId, title: s.title, format: info.format, width: info.width, height: info.height };
+      await audit(userId, 'section.upload', 'section', s.id, details, transaction);
+      return s;
+    });
+    nudgeWorkers();
+    return section;
+  } catch (e) {
+    await store().removePrefix(keys.root);
+    throw e;
+  }
+}
+
+// ---- edit, retry, delete ----------------------------------------------------------------
+
+export async function updateSection(actor: Actor, id: number, input: UpdateSectionInput): Promise<SectionDetail> {
+  const s = await sectionForEditor(actor, id);
+  const { version, ...changes } = input;
+  const conflict = () =>
+    new AppError(409, 'version_conflict', 'Someone else changed this section meanwhile: reload it and apply your change again', {
+      currentVersion: s.version,
+    });
+  if (s.version !== version) throw conflict();
+  s.set(changes as Partial<Section>);
+  try {
+    await s.save();
+  } catch (e) {
+    if ((e as Error).name === 'SequelizeOptimisticLockError') {
+      await s.reload();
+      throw conflict();
+    }
+    throw e;
+  }
+  await audit(actor.id, 'section.update', 'section', id, changes);
+  return sectionDetail(actor, id);
+}
+
+export async function retrySection(actor: Actor, id: number): Promise<SectionAccepted> {
+  await sectionForEditor(actor, id);
+  await ctx().sequelize.transaction(async (transaction) => {
+    const s = (await Section.findByPk(id, { transaction, lock: transaction.LOCK.UPDATE }))!;
+    if (s.status !== 'failed') throw new AppError(409, 'not_failed', `Only a failed section can be retried (this one is ${s.status})`);
+    await queuePyramid(Object.assign(s, { attempts: 0 }), transaction);
+    await audit(actor.id, 'section.retry', 'section', id, null, transaction);
+  });
+  nudgeWorkers();
+  return { id, status: 'processing' };
+}
+
+/** Rows (section, calibrations by cascade) and its queued job in one transaction; files after the commit. */
+export async function deleteSection(actor: Actor, id: number) {
+  const s = await sectionForEditor(actor, id);
+  await ctx().sequelize.transaction(async (transaction) => {
+    await Section.findByPk(id, { transaction, lock: transaction.LOCK.UPDATE });
+    await SectionCalibration.destroy({ where: { sectionId: id }, transaction });
+    await Section.destroy({ where: { id }, transaction });
+    await audit(actor.id, 'section.delete', 'section', id, { title: s.title, projectId: s.projectId }, transaction);
+  });
+  await store().removePrefix(sectionKeys(s.storageKey).root);
+}
+
+// ---- files ----------------------------------------------------------------------------------
+
+function assertReady(s: Section) {
+  if (s.status !== 'ready' || !s.pyramid) {
+    throw new AppError(409, 'section_not_ready', `The section's tiles are not ready (status ${s.status})`);
+  }
+}
+
+/** One tile; z, x, y are integers checked against the pyramid's grid before any key is built. */
+export async function openTile(actor: Actor, id: number, z: number, x: number, y: number): Promise<StoredObject> {
+  const s = await sectionForViewer(actor, id);
+  assertReady(s);
+  const level = pyramidLevels(s.width, s.height, s.pyramid!.tileSize)[z];
+  if (!level || x >= level.columns || y >= level.rows) throw notFound('Tile');
+  const obj = await store().get(`${sectionKeys(s.storageKey).pyramid}/tiles/${z}/${x}_${y}.${TILE_EXT}`);
+  if (!obj) throw notFound('Tile');
+  return obj;
+}
+
+export async function openImage(actor: Actor, id: number, which: 'preview' | 'thumbnail'): Promise<StoredObject> {
+  const s = await sectionForViewer(actor, id);
+  assertReady(s);
+  const obj = await store().get(`${sectionKeys(s.storageKey).pyramid}/${which === 'preview' ? 'preview' : 'thumbnail'}.jpg`);
+  if (!obj) throw notFound('Image');
+  return obj;
+}
+
+// ---- calibration -------------------------------------------------------------------------------
+
+/** Fit with the shared engine; its refusals become 400 naming `ties` (or `mode`). */
+function fit(input: CalibrationInput): CalibrationFit {
+  try {
+    return fitCalibration(input.ties, input.mode ?? 'affine');
+  } catch (e) {
+    if (e instanceof CalibrationError) {
+      const detail = e.message.startsWith(`${e.path}: `) ? e.message.slice(e.path.length + 2) : e.message;
+      const p = e.path === 'calibration.mode' ? 'mode' : e.path.replace(/^calibration/, 'ties');
+      throw new AppError(400, 'validation_failed', `${p}: ${detail}`, [{ path: p, message: detail }]);
+    }
+    throw e;
+  }
+}
+
+export async function previewCalibration(actor: Actor, id: number, input: CalibrationInput): Promise<CalibrationPreview> {
+  const s = await sectionForEditor(actor, id);
+  const f = fit(input);
+  return { fit: f, ...calibrationChecks(s, f) };
+}
+
+/** Store a new calibration version (older ones are kept). */
+export async function saveCalibration(actor: Actor, id: number, input: CalibrationInput): Promise<CalibrationRecord> {
+  await sectionForEditor(actor, id);
+  const f = fit(input);
+  const created = await ctx().sequelize.transaction(async (transaction) => {
+    const s = (await Section.findByPk(id, { transaction, lock: transaction.LOCK.UPDATE }))!;
+    const latest = (await SectionCalibration.max('version', { where: { sectionId: id }, transaction })) as number | null;
+    const current = latest ?? 0;
+    if (input.baseVersion !== undefined && input.baseVersion !== current) {
+      throw new AppError(409, 'version_conflict', `The calibration changed meanwhile (now version ${current}, you started from ${input.baseVersion})`, {
+        currentVersion: current,
+      });
+    }
+    const c = await SectionCalibration.create(
+      { sectionId: s.id, version: current + 1, ties: input.ties, fit: f, createdBy: actor.id },
+      { transaction },
+    );
+    await audit(actor.id, 'section.calibrate', 'section', id, { version: c.version, rmsPx: f.rmsPx }, transaction);
+    return c;
+  });
+  const s = await loadSection(id);
+  const c = (await SectionCalibration.findByPk(created.id, { include: [{ model: User, as: 'author', attributes: ['id', 'name'] }] }))!;
+  return calibrationRecord(s, c);
+}
+
+export async function listCalibrations(actor: Actor, id: number): Promise<CalibrationRecord[]> {
+  const s = await sectionForViewer(actor, id);
+  const cs = await SectionCalibration.findAll({
+    where: { sectionId: id },
+    order: [['version', 'DESC']],
+    include: [{ model: User, as: 'author', attributes: ['id', 'name'] }],
+  });
+  return cs.map((c) => calibrationRecord(s, c));
+}
+
+/** For the demo seeder: store ties as a calibration version directly (no HTTP). */
+export async function seedCalibration(sectionId: number, userId: number, ties: CalibrationInput['ties'], transaction?: Transaction) {
+  const f = fit({ ties });
+  const latest = ((await SectionCalibration.max('version', { where: { sectionId }, transaction })) as number | null) ?? 0;
+  return SectionCalibration.create({ sectionId, version: latest + 1, ties, fit: f, createdBy: userId }, { transaction });
+}
+
