@@ -44,6 +44,13 @@ export const router = createRouter({
           meta: { title: 'Project' },
         },
         {
+          path: 'sections/:sectionId(\\d+)',
+          name: 'section',
+          component: () => import('../pages/SectionPage.vue'),
+          props: (route) => ({ sectionId: Number(route.params.sectionId) }),
+          meta: { title: 'Section' },
+        },
+        {
           path: 'admin/users',
           name: 'admin-users',
           component: () => import('../pages/AdminUsersPage.vue'),
