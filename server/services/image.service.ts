@@ -81,7 +81,9 @@ export async function inspectImage(file: string, limits: { maxInputPixels: numbe
 
   let meta: Metadata;
   try {
-    meta = await sharp(file, { limitInputPixels: limits.maxInputPixels }).metadata();
+    // Header only (no pixels are decoded here); the pixel limit is checked just below, and sharp's
+    // limitInputPixels guards every decode in the pyramid build.
+    meta = await sharp(file, { limitInputPixels: false }).metadata();
   } catch {
     throw bad(400, 'invalid_image', `the ${label} header cannot be read (the file is damaged)`);
   }

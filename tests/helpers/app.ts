@@ -40,13 +40,24 @@ export async function createDatabase(): Promise<string> {
   return `${base}/${name}`;
 }
 
-export async function createTestApp(opts: { config?: Partial<Config>; listen?: boolean; seed?: boolean } = {}): Promise<TestApp> {
-  const databaseUrl = await createDatabase();
-  const storageDir = fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-test-storage-'));
+export async function createTestApp(
+  opts: {
+    config?: Partial<Config>;
+    listen?: boolean;
+    seed?: boolean;
+    /** Boot again on an existing database / storage folder (a restart); the caller then owns the folder. */
+    databaseUrl?: string;
+    storageDir?: string;
+  } = {},
+): Promise<TestApp> {
+  const databaseUrl = opts.databaseUrl ?? (await createDatabase());
+  const ownStorage = !opts.storageDir;
+  const storageDir = opts.storageDir ?? fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-test-storage-'));
+  const jobs = { runWorkers: true, pollingIntervalSeconds: 0.5, maxAttempts: 3, expireInSeconds: 3600, ...opts.config?.jobs };
   const running = await boot({
     databaseUrl,
     listen: opts.listen ?? false,
-    config: { storageDir, bcryptCost: 4, jwtSecret: crypto.randomBytes(24).toString('hex'), port: 0, ...opts.config },
+    config: { storageDir, bcryptCost: 4, jwtSecret: crypto.randomBytes(24).toString('hex'), port: 0, ...opts.config, jobs },
     afterMigrate: async ({ sequelize }) => {
       if (opts.seed !== false) await seedDemoUsers(sequelize);
     },
@@ -67,7 +78,7 @@ export async function createTestApp(opts: { config?: Partial<Config>; listen?: b
     },
     async close() {
       await running.close();
-      fs.rmSync(storageDir, { recursive: true, force: true });
+      if (ownStorage) fs.rmSync(storageDir, { recursive: true, force: true });
     },
   };
 }
