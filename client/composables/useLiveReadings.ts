@@ -1,0 +1,380 @@
+/**
+ * Live Readings: the shared measurement engine run in the browser on every
+ * edit of the selected buildup, debounced and kept cheap.
+ *
+ * Two passes after an edit:
+ * - quick (after `quickDelayMs` of quiet, default 150 ms): the deterministic
+ *   numbers with the mode velocities — no Monte Carlo, so `ranges` are null;
+ * - full (after a further `fullDelayMs` of quiet, default 600 ms, and only
+ *   when nothing is `busy`, e.g. a drag in progress): the whole output with
+ *   the P90/P50/P10 ranges. Skipped when no velocity is a range.
+ *
+ * `compareWithServer(local, server)` checks the browser's numbers against
+ * the server's for the same saved geometry ("confirmed by the server").
+ */
+import { computed, onScopeDispose, shallowRef, toValue, watch, type MaybeRefOrGetter, type Ref, type ShallowRef } from 'vue';
+import {
+  isCycleComplete,
+  measurabilityIssues,
+  toInterpretationInput,
+  type EditorBuildup,
+  type MeasureContext,
+} from '../../shared/editor/model';
+import { hasRanges, measure, modeOf, type MeasureOptionsInput, type MeasurementOutput } from '../../shared/measure/index';
+
+// ---------------------------------------------------------------------------
+// scheduling (pure: timers are injected so tests can drive them)
+
+export type PassMode = 'quick' | 'full';
+export type SchedulerState = 'idle' | 'quickPending' | 'fullPending';
+
+export interface TimerApi {
+  setTimeout(fn: () => void, ms: number): unknown;
+  clearTimeout(handle: unknown): void;
+}
+
+export interface SchedulerOptions {
+  /** Quiet time after the last edit before the quick pass (ms). */
+  quickDelayMs?: number;
+  /** Further quiet time after the quick pass before the full pass (ms). */
+  fullDelayMs?: number;
+  /** Run a pass. */
+  run: (mode: PassMode) => void;
+  /** Whether a full pass is worth running after the quick one (e.g. the velocity has ranges). */
+  needsFull?: () => boolean;
+  /** While true the full pass waits (checked again every `fullDelayMs`). */
+  isBusy?: () => boolean;
+  onState?: (s: SchedulerState) => void;
+  timers?: TimerApi;
+}
+
+export interface ReadingsScheduler {
+  /** Something changed: restart the wait. `immediate` runs the quick pass now. */
+  touch(immediate?: boolean): void;
+  /** Run the pending pass(es) now: quick then, when needed, full. */
+  flush(): void;
+  /** Forget pending passes. */
+  cancel(): void;
+  readonly state: SchedulerState;
+}
+
+export const QUICK_DELAY_MS = 150;
+export const FULL_DELAY_MS = 600;
+
+const realTimers: TimerApi = {
+  setTimeout: (fn, ms) => globalThis.setTimeout(fn, ms),
+  clearTimeout: (h) => globalThis.clearTimeout(h as ReturnType<typeof setTimeout>),
+};
+
+/** The debounce of live Readings: quick pass after quiet, full pass after more quiet and no drag. */
+export function createReadingsScheduler(o: SchedulerOptions): ReadingsScheduler {
+  const quickDelay = o.quickDelayMs ?? QUICK_DELAY_MS;
+  const fullDelay = o.fullDelayMs ?? FULL_DELAY_MS;
+  const timers = o.timers ?? realTimers;
+  let handle: unknown = null;
+  let state: SchedulerState = 'idle';
+
+  const setState = (s: SchedulerState) => {
+    if (s === state) return;
+    state = s;
+    o.onState?.(s);
+  };
+  const clear = () => {
+    if (handle !== null) timers.clearTimeout(handle);
+    handle = null;
+  };
+  const full = () => {
+    handle = null;
+    if (o.isBusy?.()) {
+      handle = timers.setTimeout(full, fullDelay);
+      return;
+    }
+    setState('idle');
+    o.run('full');
+  };
+  const quick = () => {
+    handle = null;
+    o.run('quick');
+    if (o.needsFull?.() ?? true) {
+      setState('fullPending');
+      handle = timers.setTimeout(full, fullDelay);
+    } else setState('idle');
+  };
+
+  return {
+    touch(immediate = false) {
+      clear();
+      if (immediate) {
+        setState('quickPending');
+        quick();
+        return;
+      }
+      setState('quickPending');
+      handle = timers.setTimeout(quick, quickDelay);
+    },
+    flush() {
+      if (state === 'idle') return;
+      const wasQuick = state === 'quickPending';
+      clear();
+      if (wasQuick) o.run('quick');
+      if (!wasQuick || (o.needsFull?.() ?? true)) o.run('full');
+      setState('idle');
+    },
+    cancel() {
+      clear();
+      setState('idle');
+    },
+    get state() {
+      return state;
+    },
+  };
+}
+
+// ---------------------------------------------------------------------------
+// what is missing (for the Readings checklist)
+
+/**
+ * Cycles that are not complete yet and are therefore left out of the
+ * measurement, as `cycles[i].<part>: <what is missing>` strings (0-based i).
+ */
+export function incompleteCycleNotes(b: EditorBuildup): string[] {
+  const notes: string[] = [];
+  b.cycles.forEach((c, i) => {
+    if (isCycleComplete(c)) return;
+    if (c.top.length < 2) notes.push(`cycles[${i}].top: needs at least 2 points`);
+    if (!c.marginLeft && !c.marginRight) notes.push(`cycles[${i}].margins: both Margin pins missing`);
+    else if (!c.marginLeft) notes.push(`cycles[${i}].marginLeft: missing`);
+    else if (!c.marginRight) notes.push(`cycles[${i}].marginRight: missing`);
+  });
+  return notes;
+}
+
+/** Problems of the measure context itself (no Ties yet, too few Ties). */
+export function contextIssues(ctx: MeasureContext | null | undefined): string[] {
+  if (!ctx) return ['calibration: the section has no Ties yet'];
+  const n = ctx.calibrationTies?.length ?? 0;
+  if (n < 3) return [`calibration: needs at least 3 Ties (has ${n})`];
+  if (ctx.verticalDomain === 'twt_ms' && !ctx.velocity) return ['velocity: needs a velocity model'];
+  return [];
+}
+
+// ---------------------------------------------------------------------------
+// comparison with the server
+
+export interface Mismatch {
+  /** Field path inside the buildup, e.g. `cycles[1].left.backstepM`. */
+  path: string;
+  local: unknown;
+  server: unknown;
+  /** `path: local … , server …` */
+  text: string;
+}
+
+export interface CompareOptions {
+  /** Buildup to compare in each output (default 0 in both). */
+  buildupIndex?: number;
+  serverBuildupIndex?: number;
+  /** Relative tolerance for numbers (default 1e-9). */
+  relTol?: number;
+  /** Absolute tolerance for numbers (default 1e-9). */
+  absTol?: number;
+}
+
+/** Prose fields: their numbers are compared through the numeric fields they quote. */
+const SKIP_KEYS = new Set(['evidence', 'volumeNote', 'name', 'hint']);
+
+const show = (v: unknown): string => {
+  if (typeof v === 'number') return Number.isFinite(v) ? String(Number(v.toPrecision(10))) : String(v);
+  if (v === undefined) return 'missing';
+  if (Array.isArray(v)) return `a list of ${v.length}`;
+  if (v !== null && typeof v === 'object') return 'an object';
+  return JSON.stringify(v);
+};
+
+function walk(a: unknown, b: unknown, path: string, o: Required<Pick<CompareOptions, 'relTol' | 'absTol'>>, out: Mismatch[]): void {
+  const push = () => out.push({ path, local: a, server: b, text: `${path}: local ${show(a)}, server ${show(b)}` });
+  if (typeof a === 'number' && typeof b === 'number') {
+    if (Number.isNaN(a) && Number.isNaN(b)) return;
+    if (a === b) return;
+    if (!(Math.abs(a - b) <= o.absTol + o.relTol * Math.max(Math.abs(a), Math.abs(b)))) push();
+    return;
+  }
+  if (Array.isArray(a) && Array.isArray(b)) {
+    if (a.length !== b.length) {
+      out.push({ path, local: a, server: b, text: `${path}: local has ${a.length} entries, server ${b.length}` });
+      return;
+    }
+    a.forEach((x, i) => walk(x, b[i], `${path}[${i}]`, o, out));
+    return;
+  }
+  if (a && b && typeof a === 'object' && typeof b === 'object' && !Array.isArray(a) && !Array.isArray(b)) {
+    const ra = a as Record<string, unknown>;
+    const rb = b as Record<string, unknown>;
+    const keys = [...new Set([...Object.keys(ra), ...Object.keys(rb)])];
+    for (const k of keys) {
+      if (SKIP_KEYS.has(k)) continue;
+      if (k === 'text' && 'kind' in ra) continue; // drowning indicator prose; its kind is compared
+      walk(ra[k], rb[k], path ? `${path}.${k}` : k, o, out);
+    }
+    return;
+  }
+  if (a !== b) push();
+}
+
+/**
+ * Field-by-field differences between the browser's and the server's
+ * measurements of one buildup, beyond a tiny tolerance. Numbers compare
+ * within `absTol + relTol·max(|a|, |b|)`; classes, counts and nulls exactly;
+ * prose (evidence sentences, notes, hints) is not compared. Ranges are
+ * compared only when both sides drew the same number of times (a live pass
+ * may draw fewer). An empty list means the server confirms the numbers.
+ */
+export function compareWithServer(local: MeasurementOutput, server: MeasurementOutput, options: CompareOptions = {}): Mismatch[] {
+  const o = { relTol: options.relTol ?? 1e-9, absTol: options.absTol ?? 1e-9 };
+  const li = options.buildupIndex ?? 0;
+  const si = options.serverBuildupIndex ?? li;
+  const a = local.buildups[li];
+  const b = server.buildups[si];
+  const out: Mismatch[] = [];
+  if (!a || !b) {
+    out.push({ path: 'buildups', local: local.buildups.length, server: server.buildups.length, text: `buildups: local has ${a ? 'the buildup' : 'no buildup'} #${li}, server ${b ? 'has' : 'has no'} buildup #${si}` });
+    return out;
+  }
+  if (local.verticalDomain !== server.verticalDomain) walk(local.verticalDomain, server.verticalDomain, 'verticalDomain', o, out);
+  const { ranges: ra, ...restA } = a;
+  const { ranges: rb, ...restB } = b;
+  walk(restA, restB, '', o, out);
+  if (ra && rb) {
+    if (ra.draws === rb.draws) walk(ra, rb, 'ranges', o, out);
+  } else if (!!ra !== !!rb) {
+    out.push({ path: 'ranges', local: ra, server: rb, text: `ranges: ${ra ? 'local has ranges, the server none' : 'the server has ranges, local none'}` });
+  }
+  return out;
+}
+
+// ---------------------------------------------------------------------------
+// the composable
+
+/** What the composable needs of the interpretation store. */
+export interface BuildupSource {
+  buildupById(id: string): EditorBuildup | undefined;
+}
+
+export interface LiveReadingsArgs {
+  store: BuildupSource;
+  /** Local id of the selected buildup (the store's selection.buildupId), or null. */
+  buildupId: MaybeRefOrGetter<string | null | undefined>;
+  /** Ties, vertical domain and velocity model of the section; null until calibrated. */
+  context: MaybeRefOrGetter<MeasureContext | null | undefined>;
+  /** Engine options (thresholds, draws, seed). */
+  options?: MaybeRefOrGetter<MeasureOptionsInput | undefined>;
+  /** True while a gesture is in progress (drag): the full pass waits. */
+  busy?: MaybeRefOrGetter<boolean>;
+  quickDelayMs?: number;
+  fullDelayMs?: number;
+  timers?: TimerApi;
+}
+
+export interface LiveReadings {
+  /** Latest output (quick or full); null when not measurable or on error. */
+  output: ShallowRef<MeasurementOutput | null>;
+  /** Whether `output` came from the full pass (with ranges when the velocity has any). */
+  complete: Ref<boolean>;
+  /** Blocking problems: measurability issues of the buildup and of the context (`path: reason`). */
+  issues: Readonly<Ref<string[]>>;
+  /** Incomplete cycles left out of the measurement (`cycles[i].part: reason`). */
+  leftOut: Readonly<Ref<string[]>>;
+  /** True from an edit until its quick pass has run. */
+  computing: Ref<boolean>;
+  /** True while the full pass (ranges) is still to come. */
+  rangesPending: Ref<boolean>;
+  /** Message of the engine's refusal, or null. */
+  error: Ref<string | null>;
+  /** Run any pending pass now. */
+  flush(): void;
+}
+
+function errorText(e: unknown): string {
+  return e instanceof Error ? e.message : String(e);
+}
+
+/**
+ * Measure the selected buildup in the browser on every edit (see the header
+ * of this file for the two passes). Must be called inside a component setup
+ * or an effect scope; timers stop with it.
+ */
+export function useLiveReadings(args: LiveReadingsArgs): LiveReadings {
+  const buildup = computed(() => {
+    const id = toValue(args.buildupId);
+    return id ? (args.store.buildupById(id) ?? null) : null;
+  });
+  const ctx = computed(() => toValue(args.context) ?? null);
+  const opts = computed(() => toValue(args.options));
+  const issues = computed(() => {
+    const b = buildup.value;
+    if (!b) return [];
+    return [...measurabilityIssues(b), ...contextIssues(ctx.value)];
+  });
+  const leftOut = computed(() => (buildup.value ? incompleteCycleNotes(buildup.value) : []));
+
+  const output = shallowRef<MeasurementOutput | null>(null);
+  const complete = shallowRef(false);
+  const computing = shallowRef(false);
+  const rangesPending = shallowRef(false);
+  const error = shallowRef<string | null>(null);
+
+  const ranged = () => {
+    const c = ctx.value;
+    return !!c && c.verticalDomain === 'twt_ms' && !!c.velocity && hasRanges(c.velocity);
+  };
+
+  function run(mode: PassMode): void {
+    const b = buildup.value;
+    const c = ctx.value;
+    if (!b || !c || issues.value.length) {
+      output.value = null;
+      complete.value = false;
+      error.value = null;
+      return;
+    }
+    try {
+      const quick = mode === 'quick' && ranged();
+      const context: MeasureContext = quick ? { ...c, velocity: modeOf(c.velocity) } : c;
+      output.value = measure(toInterpretationInput(b, context), opts.value);
+      complete.value = !quick;
+      error.value = null;
+    } catch (e) {
+      output.value = null;
+      complete.value = false;
+      error.value = errorText(e);
+    }
+  }
+
+  const scheduler = createReadingsScheduler({
+    quickDelayMs: args.quickDelayMs,
+    fullDelayMs: args.fullDelayMs,
+    timers: args.timers,
+    run,
+    needsFull: () => ranged() && !!output.value,
+    isBusy: () => !!toValue(args.busy),
+    onState: (s) => {
+      computing.value = s === 'quickPending';
+      rangesPending.value = s === 'fullPending';
+    },
+  });
+
+  // A new buildup (selection) measures at once; edits of the same one are debounced.
+  watch(
+    () => buildup.value?.id ?? null,
+    () => scheduler.touch(true),
+    { immediate: true },
+  );
+  watch([buildup, ctx, opts], ([b], [pb]) => {
+    if ((b?.id ?? null) !== (pb?.id ?? null)) return;
+    scheduler.touch();
+  });
+
+  onScopeDispose(() => scheduler.cancel());
+
+  return { output, complete, issues, leftOut, computing, rangesPending, error, flush: () => scheduler.flush() };
+}
