@@ -4,6 +4,7 @@
  * members only, edits with optimistic locking, retry, delete, calibration.
  */
 import fs from 'node:fs';
+import { spawnSync } from 'node:child_process';
 import path from 'node:path';
 import sharp from 'sharp';
 import request from 'supertest';
@@ -413,4 +414,42 @@ describe('calibration', () => {
     const list = await request(t.app).get(`/api/sections/${id}/calibrations`).set(bearer(interp));
     expect(list.body).toHaveLength(2);
   });
+});
+
+describe('line length', () => {
+  // Geodesic reference: pyproj's Geod(ellps="WGS84").inv (Karney's geodesic algorithms, via Debian's python3-pyproj).
+  // turf.length uses a haversine great circle on a sphere (R = 6371008.8 m), so it differs from the
+  // ellipsoid by up to about half a percent; the check allows 0.5 %.
+  const lines = [
+    { name: 'east-west 10 km at 27.3° N', start: [4.0, 27.3], end: [4.1011, 27.3] },
+    { name: 'north-south 25 km', start: [4.2, 27.1], end: [4.2, 27.326] },
+    { name: 'oblique 60 km', start: [3.5, 26.9], end: [4.05, 27.25] },
+    { name: 'oblique 40 km at 58° S', start: [-20.1, -58.0], end: [-19.6, -58.25] },
+  ];
+  const py = spawnSync('/usr/bin/python3', ['-c', 'import pyproj'], { encoding: 'utf8' });
+  const haveProj = py.status === 0;
+  it.skipIf(!haveProj)('turf lineLengthM agrees with the WGS84 geodesic within 0.5 %', async () => {
+    const r = await upload(t, interp, demoId, await makeImage('png', 64, 32), 'geo.png');
+    let version = (await request(t.app).get(`/api/sections/${r.body.id}`).set(bearer(interp))).body.version;
+    const script = [
+      'import json, sys',
+      'from pyproj import Geod',
+      'g = Geod(ellps="WGS84")',
+      'print(json.dumps([g.inv(a[0], a[1], b[0], b[1])[2] for a, b in json.load(sys.stdin)]))',
+    ].join('\n');
+    const ref = spawnSync('/usr/bin/python3', ['-c', script], { input: JSON.stringify(lines.map((l) => [l.start, l.end])), encoding: 'utf8' });
+    expect(ref.status, ref.stderr).toBe(0);
+    const geodesic: number[] = JSON.parse(ref.stdout);
+    for (const [i, l] of lines.entries()) {
+      const p = await request(t.app)
+        .patch(`/api/sections/${r.body.id}`)
+        .set(bearer(interp))
+        .send({ version, startLon: l.start[0], startLat: l.start[1], endLon: l.end[0], endLat: l.end[1] });
+      expect(p.status).toBe(200);
+      version = p.body.version;
+      const rel = Math.abs(p.body.lineLengthM - geodesic[i]) / geodesic[i];
+      expect(rel, `${l.name}: turf ${p.body.lineLengthM} m, pyproj ${geodesic[i]} m`).toBeLessThan(0.005);
+    }
+  });
+  if (!haveProj) it('pyproj cross-check skipped', () => console.warn(`skipped: Debian's python3-pyproj cannot be imported (${py.stderr.trim()})`));
 });
