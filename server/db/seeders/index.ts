@@ -2,6 +2,7 @@
 import type { Sequelize } from 'sequelize';
 import type { Config } from '../../config';
 import { seedDemoUsers } from './demo';
+import { seedDemoSections } from './sections';
 
 export interface SeedDeps {
   sequelize: Sequelize;
@@ -12,4 +13,5 @@ export interface SeedDeps {
 export async function seedDemo(deps: SeedDeps) {
   const r = await seedDemoUsers(deps.sequelize);
   if (r.seeded) deps.log('seeded the demo accounts and the project "Tessel Basin screening"');
+  if ((await seedDemoSections(deps)).seeded.length) deps.log('seeded the demo sections TB-11 and TB-14 (tiles are being built in the background)');
 }
