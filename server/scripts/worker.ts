@@ -1,0 +1,38 @@
+/**
+ * A background worker process without HTTP: `DATABASE_URL=… tsx server/scripts/worker.ts`.
+ * Builds section tile pyramids from the shared pg-boss queue; run several
+ * next to web processes started with CAYLINE_JOB_WORKERS=0. Needs the same
+ * storage folder (CAYLINE_STORAGE) as the web processes while the file store
+ * is local disk.
+ */
+import { loadConfig } from '../config';
+import { createSequelize } from '../db/sequelize';
+import { migrate } from '../db/migrate';
+import { initModels } from '../models/index';
+import { startBackgroundJobs } from '../jobs/pyramid.job';
+import { logger } from '../logger';
+
+async function main() {
+  const databaseUrl = process.env.DATABASE_URL;
+  if (!databaseUrl) throw new Error('DATABASE_URL: set it to the PostgreSQL server the web processes use');
+  const base = loadConfig();
+  const config = { ...base, jobs: { ...base.jobs, runWorkers: true } };
+  const sequelize = createSequelize(databaseUrl);
+  await sequelize.authenticate();
+  await migrate(sequelize);
+  initModels(sequelize);
+  const jobs = await startBackgroundJobs({ databaseUrl, config, sequelize });
+  logger.info({ storage: config.storageDir }, 'Cayline worker up');
+  const stop = async () => {
+    await jobs.stop();
+    await sequelize.close();
+    process.exit(0);
+  };
+  process.on('SIGINT', () => void stop());
+  process.on('SIGTERM', () => void stop());
+}
+
+main().catch((err) => {
+  console.error(err);
+  process.exit(1);
+});
