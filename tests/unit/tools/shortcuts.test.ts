@@ -1,4 +1,4 @@
-import { beforeEach, describe, expect, it, vi } from 'vitest';
+import { beforeEach, describe, expect, it, vi, type Mock } from 'vitest';
 import { Toolbox, TOOL_KEYS, SHORTCUT_GROUPS } from '../../../client/canvas/tools/toolbox';
 import { TOOL_IDS } from '../../../client/canvas/tools/types';
 import { handleCanvasKey, isTypingTarget, resolveCommand, type KeyEventLike } from '../../../client/composables/useCanvasShortcuts';
@@ -11,14 +11,14 @@ function key(k: string, mods: Partial<KeyEventLike> = {}): KeyEventLike & { prev
 
 let s: ReturnType<typeof setup>;
 let box: Toolbox;
-let handlers: { undo: ReturnType<typeof vi.fn>; redo: ReturnType<typeof vi.fn>; toggleHelp: ReturnType<typeof vi.fn>; toolKey: (e: Parameters<Toolbox['keyDown']>[0]) => boolean };
+let handlers: { undo: Mock<() => void>; redo: Mock<() => void>; toggleHelp: Mock<() => void>; toolKey: (e: Parameters<Toolbox['keyDown']>[0]) => boolean };
 beforeEach(() => {
   s = setup();
   box = new Toolbox(s.env);
   handlers = {
-    undo: vi.fn(() => s.store.undo()),
-    redo: vi.fn(() => s.store.redo()),
-    toggleHelp: vi.fn(),
+    undo: vi.fn(() => void s.store.undo()),
+    redo: vi.fn(() => void s.store.redo()),
+    toggleHelp: vi.fn(() => {}),
     toolKey: (e) => box.keyDown(e),
   };
 });
