@@ -8,7 +8,8 @@ import { Buildup, SectionVelocity } from '../models/buildup';
 import { Section, SectionCalibration } from '../models/section';
 import { User } from '../models/index';
 import { AppError, notFound } from '../middlewares/errors';
-import { assertCanEdit, projectForViewer, type Actor } from './project.service';
+import { assertCanEdit, type Actor } from './project.service';
+import { sectionForEditor, sectionForViewer } from './section.service';
 import { audit } from './audit.service';
 import { ctx } from '../context';
 import { measure, MeasureInputError, type MeasurementOutput } from '../../shared/measure/index';
@@ -16,21 +17,6 @@ import { fromGeometry, toInterpretationInput, ModelError, type BuildupGeometry, 
 import { DEFAULT_VELOCITY, DEFAULT_VELOCITY_SOURCES, type BuildupSummary, type SaveBuildupInput } from '../../shared/schemas/buildups';
 
 const EMPTY_GEOMETRY: BuildupGeometry = { base: [], cycles: [], terminations: [], topIsDrowningSurface: false };
-
-export async function sectionForViewer(actor: Actor, sectionId: number): Promise<Section> {
-  const section = await Section.findByPk(sectionId);
-  if (!section) throw notFound('Section');
-  await projectForViewer(actor, section.projectId).catch(() => {
-    throw notFound('Section');
-  });
-  return section;
-}
-
-async function sectionForEditor(actor: Actor, sectionId: number): Promise<Section> {
-  const section = await sectionForViewer(actor, sectionId);
-  await assertCanEdit(actor, section.projectId);
-  return section;
-}
 
 async function buildupForViewer(actor: Actor, id: number): Promise<{ buildup: Buildup; section: Section }> {
   const buildup = await Buildup.findByPk(id);

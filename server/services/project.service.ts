@@ -3,6 +3,9 @@ import { Project, ProjectMember, User } from '../models/index';
 import { AppError, forbidden, notFound } from '../middlewares/errors';
 import { audit } from './audit.service';
 import { ctx } from '../context';
+import { Section } from '../models/section';
+import { fileStoreFor } from '../storage/fileStore';
+import { sectionKeys } from '../jobs/pyramid.job';
 import type { CreateProjectInput, UpdateProjectInput, ProjectDetail, ProjectSummary, Page } from '../../shared/schemas/projects';
 import type { PublicUser } from '../../shared/schemas/auth';
 
@@ -102,10 +105,14 @@ export async function updateProject(actor: Actor, projectId: number, input: Upda
 export async function deleteProject(actor: Actor, projectId: number) {
   const p = await projectForViewer(actor, projectId);
   if (actor.role !== 'admin' && p.createdById !== actor.id) throw forbidden('Only the creator of a project or an admin may delete it');
+  const sections = await Section.findAll({ where: { projectId }, attributes: ['id', 'storageKey'] });
   await ctx().sequelize.transaction(async (transaction) => {
     await p.destroy({ transaction });
-    await audit(actor.id, 'project.delete', 'project', projectId, { name: p.name }, transaction);
+    await audit(actor.id, 'project.delete', 'project', projectId, { name: p.name, sections: sections.length }, transaction);
   });
+  // Files go after the rows are gone for good (the boot sweep catches any left by a crash here).
+  const store = fileStoreFor(ctx().config.storageDir);
+  for (const s of sections) await store.removePrefix(sectionKeys(s.storageKey).root);
 }
 
 export async function addMember(actor: Actor, projectId: number, userId: number): Promise<PublicUser[]> {

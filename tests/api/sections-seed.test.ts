@@ -6,6 +6,7 @@ import { waitForStatus } from '../helpers/sections';
 import { seedDemoSections } from '../../server/db/seeders/sections';
 import { DEMO_SECTIONS } from '../../server/scripts/synth/demo';
 import { ctx } from '../../server/context';
+import { seedDemoInterpretation } from '../../server/db/seeders/interpretations';
 
 let t: TestApp;
 beforeAll(async () => {
@@ -36,5 +37,30 @@ describe('demo sections seeder', () => {
     }
     const list = await request(t.app).get(`/api/projects/${(await request(t.app).get(`/api/sections/${first.seeded[0]}`).set(bearer(token))).body.projectId}/sections`).set(bearer(token));
     expect(list.body.items.map((s: { lineName: string }) => s.lineName).sort()).toEqual(['TB-11', 'TB-14']);
+  });
+
+  it('gives the demo sections velocity ranges and traces the aggrading bank on TB-14', async () => {
+    const deps = { sequelize: ctx().sequelize, config: t.running.config, log: () => {} };
+    expect(await seedDemoInterpretation(deps)).toBe(true);
+    expect(await seedDemoInterpretation(deps)).toBe(false);
+    const token = await t.token('interpreter');
+    const projects = await request(t.app).get('/api/projects').set(bearer(token));
+    const demo = projects.body.items.find((p: { name: string }) => p.name === 'Tessel Basin screening');
+    const sections = (await request(t.app).get(`/api/projects/${demo.id}/sections`).set(bearer(token))).body.items;
+    const tb14 = sections.find((s: { lineName: string }) => s.lineName === 'TB-14');
+    const tb11 = sections.find((s: { lineName: string }) => s.lineName === 'TB-11');
+    const v = (await request(t.app).get(`/api/sections/${tb14.id}/velocity`).set(bearer(token))).body;
+    expect(v.isDefault).toBe(false);
+    expect(v.velocity.carbonate.v).toMatchObject({ mode: expect.any(Number), min: expect.any(Number), max: expect.any(Number) });
+    const bank = (await request(t.app).get(`/api/sections/${tb14.id}/buildups`).set(bearer(token))).body;
+    expect(bank.map((b: { name: string }) => b.name)).toEqual(['Marrow Bank']);
+    expect((await request(t.app).get(`/api/sections/${tb11.id}/buildups`).set(bearer(token))).body).toEqual([]);
+    const m = await request(t.app).get(`/api/buildups/${bank[0].id}/measurements?draws=200`).set(bearer(token));
+    expect(m.status).toBe(200);
+    // The generator built Marrow Bank as an aggrading bank (server/scripts/synth/demo.ts).
+    expect(m.body.buildups[0].classification).toBe('aggrading');
+    const h = m.body.buildups[0].ranges.heightM;
+    expect(h.p90).toBeLessThanOrEqual(h.p50);
+    expect(h.p50).toBeLessThanOrEqual(h.p10);
   });
 });

@@ -330,6 +330,17 @@ describe('reading, listing, editing, deleting', () => {
     expect(await SectionCalibration.count({ where: { sectionId: s.id } })).toBe(0);
     expect((await request(t.app).get(`/api/sections/${s.id}`).set(bearer(interp))).status).toBe(404);
   });
+
+  it('deleting a project removes its sections\' files too', async () => {
+    const proj = await request(t.app).post('/api/projects').set(bearer(interp)).send({ name: 'Short-lived' });
+    const r = await upload(t, interp, proj.body.id, await makeImage('png', 300, 200), 'gone.png');
+    const s = await waitForStatus(t, interp, r.body.id);
+    const folder = path.join(t.storageDir, 'sections', (await Section.findByPk(s.id))!.storageKey);
+    expect(fs.existsSync(folder)).toBe(true);
+    expect((await request(t.app).delete(`/api/projects/${proj.body.id}`).set(bearer(interp))).status).toBe(204);
+    expect(fs.existsSync(folder)).toBe(false);
+    expect(await Section.findByPk(s.id)).toBeNull();
+  });
 });
 
 describe('calibration', () => {

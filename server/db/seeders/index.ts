@@ -3,6 +3,7 @@ import type { Sequelize } from 'sequelize';
 import type { Config } from '../../config';
 import { seedDemoUsers } from './demo';
 import { seedDemoSections } from './sections';
+import { seedDemoInterpretation } from './interpretations';
 
 export interface SeedDeps {
   sequelize: Sequelize;
@@ -14,4 +15,5 @@ export async function seedDemo(deps: SeedDeps) {
   const r = await seedDemoUsers(deps.sequelize);
   if (r.seeded) deps.log('seeded the demo accounts and the project "Tessel Basin screening"');
   if ((await seedDemoSections(deps)).seeded.length) deps.log('seeded the demo sections TB-11 and TB-14 (tiles are being built in the background)');
+  if (await seedDemoInterpretation(deps)) deps.log('seeded velocity models for the demo sections and the traced bank on TB-14');
 }
