@@ -187,6 +187,23 @@ function remember(url: string, bmp: SectionBitmap): void {
   }
 }
 
+let cacheToken: string | null = null;
+
+/** Images fetched under another sign-in are not shown to this one: drop them when the token changes. */
+function forgetOtherSessions(): void {
+  const token = bearer();
+  if (token === cacheToken) return;
+  cacheToken = token;
+  clearSectionImageCache();
+}
+
+/** Drop every cached image and cancel every download. */
+export function clearSectionImageCache(): void {
+  cache.clear();
+  for (const e of inflight.values()) e.controller.abort();
+  inflight.clear();
+}
+
 /** A cached image, marked as recently used; undefined when not loaded yet. */
 export function cachedSectionImage(url: string): SectionBitmap | undefined {
   const hit = cache.get(url);
@@ -235,6 +252,7 @@ async function fetchBitmap(url: string, signal: AbortSignal): Promise<SectionBit
  * this caller's interest, and the download is cancelled once nobody wants it.
  */
 export function loadSectionImage(url: string, signal?: AbortSignal): Promise<SectionBitmap> {
+  forgetOtherSessions();
   const hit = cachedSectionImage(url);
   if (hit) return Promise.resolve(hit);
   let entry = inflight.get(url);

@@ -53,6 +53,13 @@ export function useTieEditor(image: Ref<{ width: number; height: number }>, line
     selectedId.value = null;
   }
 
+  /** Take the Ties and mode of an older version into the working list; saving still builds on the latest. */
+  function copyFrom(record: CalibrationRecord): void {
+    mode.value = record.mode;
+    ties.value = record.ties.map((t) => ({ id: newId(), px: [t.px[0], t.px[1]], x: t.world[0], y: t.world[1] }));
+    selectedId.value = null;
+  }
+
   function add(px: Pt, x: number | null = null, y: number | null = null): EditorTie {
     const t: EditorTie = { id: newId(), px: [px[0], px[1]], x, y };
     ties.value = [...ties.value, t];
@@ -115,7 +122,7 @@ export function useTieEditor(image: Ref<{ width: number; height: number }>, line
     return b.ties.some((t, i) => t.px[0] !== now[i].px[0] || t.px[1] !== now[i].px[1] || t.world[0] !== now[i].world[0] || t.world[1] !== now[i].world[1]);
   });
 
-  return { ties, mode, base, selectedId, load, add, update, remove, complete, payloadTies, result, fit, residuals, xRangeM, lengthCheck, dirty };
+  return { ties, mode, base, selectedId, load, copyFrom, add, update, remove, complete, payloadTies, result, fit, residuals, xRangeM, lengthCheck, dirty };
 }
 
 export type TieEditor = ReturnType<typeof useTieEditor>;
