@@ -256,8 +256,28 @@ describe('sections journey', () => {
     expect(saved.body.calibration.lengthMismatch).not.toBeNull();
     await b.shot('18-calibration-saved');
 
-    // Fit to window from the button.
+    // Fit to window from the button, then the keyboard: zoom in with +, fit with F.
     await page.click('[data-test="stage-fit"]');
     await expect.poll(async () => Number(await stage.getAttribute('data-scale'))).toBeCloseTo(fitScale, 3);
+    await stage.focus();
+    await page.keyboard.press('+');
+    await expect.poll(async () => Number(await stage.getAttribute('data-scale'))).toBeGreaterThan(fitScale * 1.2);
+    await page.keyboard.press('f');
+    await expect.poll(async () => Number(await stage.getAttribute('data-scale'))).toBeCloseTo(fitScale, 3);
+
+    // ---- back to the project: delete with confirmation, empty state ---------------
+    await page.click('[data-test="section-project-link"]');
+    const row2 = page.locator('[data-test="section-row"]', { hasText: 'TB-11 full stack, test upload' });
+    await row2.waitFor();
+    await row2.locator('[data-test="section-delete"]').click();
+    await page.click('[data-test="confirm-cancel"]');
+    expect(await row2.count()).toBe(1); // cancelled: still there
+    await row2.locator('[data-test="section-delete"]').click();
+    await page.locator('[data-test="confirm-ok"]').waitFor();
+    await page.waitForTimeout(400); // let the dialog finish its entrance for the screenshot
+    await b.shot('19-delete-confirm');
+    await page.click('[data-test="confirm-ok"]');
+    await page.locator('[data-test="sections-empty"]').waitFor();
+    expect((await request(t.app).get(`/api/sections/${sectionId}`).set(bearer(token))).status).toBe(404);
   });
 });
