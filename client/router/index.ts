@@ -48,7 +48,7 @@ export const router = createRouter({
           name: 'section',
           component: () => import('../pages/SectionPage.vue'),
           props: (route) => ({ sectionId: Number(route.params.sectionId) }),
-          meta: { title: 'Section' },
+          meta: { title: 'Section', wide: true },
         },
         {
           path: 'admin/users',

@@ -74,7 +74,17 @@ export async function saveBuildup(actor: Actor, id: number, input: SaveBuildupIn
         current: { id: b.id, name: b.name, version: b.version, geometry: b.geometry, updatedAt: b.updatedAt.toISOString() },
       });
     }
-    b.set({ geometry: input.geometry, updatedById: actor.id, version: b.version + 1 });
+    const geometry: BuildupGeometry = {
+      ...input.geometry,
+      cycles: input.geometry.cycles.map(({ flankLeft, flankRight, ...c }) => ({
+        ...c,
+        marginLeft: c.marginLeft ?? null,
+        marginRight: c.marginRight ?? null,
+        ...(flankLeft ? { flankLeft } : {}),
+        ...(flankRight ? { flankRight } : {}),
+      })),
+    };
+    b.set({ geometry, updatedById: actor.id, version: b.version + 1 });
     if (input.name) b.set('name', input.name);
     await b.save({ transaction });
     await audit(actor.id, 'buildup.save', 'buildup', b.id, { version: b.version }, transaction);
