@@ -37,9 +37,9 @@ export interface EnvelopePlan {
   g1: Int32Array;
   /** Per piece: offset of its grid entries in a/b/w. */
   off: Int32Array;
-  /** Per piece: its source surface. */
-  src: Int32Array;
-  /** Per grid entry: source vertex indices a, b and weight, value = z[a] + w·(z[b] − z[a]). */
+  /** Per source surface: offset of its vertices in the flat z array (last entry = total). */
+  srcOff: Int32Array;
+  /** Per grid entry: flat vertex indices a, b and weight, value = z[a] + w·(z[b] − z[a]). */
   a: Int32Array;
   b: Int32Array;
   w: Float64Array;
@@ -47,34 +47,45 @@ export interface EnvelopePlan {
   order: Int32Array;
 }
 
-/** Envelope as sorted, non-overlapping straight sub-pieces; gaps where no surface spans x. */
+/** Envelope as `n` sorted, non-overlapping straight sub-pieces (x0→x1, z0→z1); gaps where no surface spans x. */
 export interface Envelope {
-  x0: number[];
-  x1: number[];
-  z0: number[];
-  z1: number[];
+  n: number;
+  x0: Float64Array;
+  x1: Float64Array;
+  z0: Float64Array;
+  z1: Float64Array;
 }
 
-/** Build a sweep plan from pieces whose vertex x positions come from `xsOf(src)`. */
-export function planEnvelope(pieces: readonly EnvelopePiece[], xsOf: (src: number) => ArrayLike<number>): EnvelopePlan {
-  const all: number[] = [];
+/**
+ * Build a sweep plan from pieces whose vertex x positions come from
+ * `xsOf(src)` for sources 0..sourceCount−1; `extraXs` adds grid positions
+ * (e.g. the base's vertices, so the base is straight on every interval).
+ */
+export function planEnvelope(pieces: readonly EnvelopePiece[], xsOf: (src: number) => ArrayLike<number>, sourceCount?: number, extraXs?: ArrayLike<number>): EnvelopePlan {
+  const ns = sourceCount ?? pieces.reduce((m, p) => Math.max(m, p.src + 1), 0);
+  const srcOff = new Int32Array(ns + 1);
+  for (let s = 0; s < ns; s++) srcOff[s + 1] = srcOff[s] + xsOf(s).length;
+  let count = extraXs ? extraXs.length : 0;
+  for (const p of pieces) count += p.idx.length;
+  const all = new Float64Array(count);
+  let q = 0;
+  if (extraXs) for (let i = 0; i < extraXs.length; i++) all[q++] = extraXs[i];
   for (const p of pieces) {
     const xs = xsOf(p.src);
-    for (const i of p.idx) all.push(xs[i]);
+    for (const i of p.idx) all[q++] = xs[i];
   }
-  all.sort((a, b) => a - b);
-  const grid: number[] = [];
-  for (const x of all) if (grid.length === 0 || grid[grid.length - 1] !== x) grid.push(x);
-  const xs = Float64Array.from(grid);
+  all.sort();
+  let G = 0;
+  for (let i = 0; i < count; i++) if (G === 0 || all[G - 1] !== all[i]) all[G++] = all[i];
+  const xs = all.slice(0, G);
   const np = pieces.length;
   const g0 = new Int32Array(np);
   const g1 = new Int32Array(np);
   const off = new Int32Array(np);
-  const src = new Int32Array(np);
   let total = 0;
   const findGrid = (x: number) => {
     let lo = 0;
-    let hi = xs.length - 1;
+    let hi = G - 1;
     while (lo < hi) {
       const mid = (lo + hi) >> 1;
       if (xs[mid] < x) lo = mid + 1;
@@ -88,7 +99,6 @@ export function planEnvelope(pieces: readonly EnvelopePiece[], xsOf: (src: numbe
     g0[p] = findGrid(px[idx[0]]);
     g1[p] = findGrid(px[idx[idx.length - 1]]);
     off[p] = total;
-    src[p] = pieces[p].src;
     total += g1[p] - g0[p] + 1;
   }
   const a = new Int32Array(total);
@@ -96,65 +106,97 @@ export function planEnvelope(pieces: readonly EnvelopePiece[], xsOf: (src: numbe
   const w = new Float64Array(total);
   for (let p = 0; p < np; p++) {
     const px = xsOf(pieces[p].src);
+    const base = srcOff[pieces[p].src];
     const idx = pieces[p].idx;
+    const last = idx.length - 2;
     let k = 0;
-    for (let g = g0[p]; g <= g1[p]; g++) {
+    let xa = px[idx[0]];
+    let xb = px[idx[1]];
+    for (let g = g0[p], e = off[p]; g <= g1[p]; g++, e++) {
       const x = xs[g];
-      while (k < idx.length - 2 && px[idx[k + 1]] < x) k++;
-      const xa = px[idx[k]];
-      const xb = px[idx[k + 1]];
-      const e = off[p] + g - g0[p];
-      a[e] = idx[k];
-      b[e] = idx[k + 1];
-      w[e] = xb > xa ? Math.min(1, Math.max(0, (x - xa) / (xb - xa))) : 0;
+      while (k < last && xb < x) {
+        k++;
+        xa = xb;
+        xb = px[idx[k + 1]];
+      }
+      a[e] = base + idx[k];
+      b[e] = base + idx[k + 1];
+      const t = (x - xa) / (xb - xa);
+      w[e] = t < 0 ? 0 : t > 1 ? 1 : t;
     }
   }
-  const order = Int32Array.from(Array.from({ length: np }, (_, i) => i).sort((p, q) => g0[p] - g0[q] || p - q));
-  return { xs, g0, g1, off, src, a, b, w, order };
+  const order = Int32Array.from(Array.from({ length: np }, (_, i) => i).sort((p, q2) => g0[p] - g0[q2] || p - q2));
+  return { xs, g0, g1, off, srcOff, a, b, w, order };
+}
+
+/** Concatenate per-source z arrays into the flat layout of a plan (reusing `out` when it fits). */
+export function flattenZ(plan: EnvelopePlan, zOf: readonly ArrayLike<number>[], out?: Float64Array): Float64Array {
+  const total = plan.srcOff[plan.srcOff.length - 1];
+  const Z = out && out.length === total ? out : new Float64Array(total);
+  const ns = Math.min(zOf.length, plan.srcOff.length - 1);
+  for (let s = 0; s < ns; s++) {
+    const z = zOf[s];
+    const o = plan.srcOff[s];
+    for (let i = 0; i < z.length; i++) Z[o + i] = z[i];
+  }
+  return Z;
+}
+
+function grow(env: Envelope): void {
+  const cap = env.x0.length * 2 + 16;
+  for (const k of ['x0', 'x1', 'z0', 'z1'] as const) {
+    const next = new Float64Array(cap);
+    next.set(env[k]);
+    env[k] = next;
+  }
 }
 
 /** Evaluate the envelope for the z values of each source surface (same vertex order as planned). */
 export function evaluateEnvelope(plan: EnvelopePlan, zOf: readonly ArrayLike<number>[]): Envelope {
-  const { xs, g0, g1, off, src, a, b, w, order } = plan;
-  const env: Envelope = { x0: [], x1: [], z0: [], z1: [] };
+  return evaluateEnvelopeFlat(plan, flattenZ(plan, zOf));
+}
+
+/** Evaluate the envelope from z values in the plan's flat layout (see `flattenZ`). One linear sweep. */
+export function evaluateEnvelopeFlat(plan: EnvelopePlan, Z: Float64Array, reuse?: Envelope): Envelope {
+  const { xs, g0, g1, off, a, b, w, order } = plan;
   const G = xs.length;
   const np = g0.length;
-  const active: number[] = [];
+  const cap = 2 * G + 16;
+  const env: Envelope = reuse && reuse.x0.length >= cap ? reuse : { n: 0, x0: new Float64Array(cap), x1: new Float64Array(cap), z0: new Float64Array(cap), z1: new Float64Array(cap) };
+  let n = 0;
+  const active = new Int32Array(np);
+  let na = 0;
   const lastG = new Int32Array(np).fill(-1);
   const lastV = new Float64Array(np);
+  const tl = new Float64Array(np);
+  const tr = new Float64Array(np);
   let next = 0;
-  let tl: number[] = [];
-  let tr: number[] = [];
-  const val = (p: number, g: number) => {
-    const e = off[p] + g - g0[p];
-    const z = zOf[src[p]];
-    const za = z[a[e]];
-    return za + w[e] * (z[b[e]] - za);
-  };
   for (let j = 0; j < G - 1; j++) {
     // drop pieces that end at or before j; add pieces starting at j
-    let removed = false;
-    for (let k = 0; k < active.length; k++) if (g1[active[k]] <= j) { removed = true; break; }
-    if (removed) {
-      let m = 0;
-      for (let k = 0; k < active.length; k++) if (g1[active[k]] > j) active[m++] = active[k];
-      active.length = m;
-    }
+    let m = 0;
+    for (let k = 0; k < na; k++) if (g1[active[k]] > j) active[m++] = active[k];
+    na = m;
     while (next < np && g0[order[next]] <= j) {
       const p = order[next++];
-      if (g1[p] > j) active.push(p);
+      if (g1[p] > j) active[na++] = p;
     }
-    const m = active.length;
-    if (m === 0) continue;
+    if (na === 0) continue;
     let minL = Infinity;
     let minR = Infinity;
     let argL = -1;
     let argR = -1;
-    if (tl.length < m) { tl = new Array(m); tr = new Array(m); }
-    for (let k = 0; k < m; k++) {
+    for (let k = 0; k < na; k++) {
       const p = active[k];
-      const vl = lastG[p] === j ? lastV[p] : val(p, j);
-      const vr = val(p, j + 1);
+      let vl: number;
+      if (lastG[p] === j) vl = lastV[p];
+      else {
+        const e = off[p] + j - g0[p];
+        const za = Z[a[e]];
+        vl = za + w[e] * (Z[b[e]] - za);
+      }
+      const e1 = off[p] + j + 1 - g0[p];
+      const zb = Z[a[e1]];
+      const vr = zb + w[e1] * (Z[b[e1]] - zb);
       lastG[p] = j + 1;
       lastV[p] = vr;
       tl[k] = vl;
@@ -164,20 +206,20 @@ export function evaluateEnvelope(plan: EnvelopePlan, zOf: readonly ArrayLike<num
     }
     const xa = xs[j];
     const xb = xs[j + 1];
+    if (n + na + 1 > env.x0.length) grow(env);
     if (argL === argR || (tl[argR] === minL && tr[argR] === minR)) {
-      env.x0.push(xa); env.x1.push(xb); env.z0.push(minL); env.z1.push(minR);
+      env.x0[n] = xa; env.x1[n] = xb; env.z0[n] = minL; env.z1[n] = minR; n++;
       continue;
     }
-    // lower envelope of m lines on [xa, xb], parameter t in [0, 1]
+    // lower envelope of the active lines on [xa, xb], parameter t in [0, 1]
     let s = 0;
     let cur = argL;
-    for (let guard = 0; guard <= m; guard++) {
+    for (let guard = 0; guard <= na; guard++) {
       let best = 1;
       let nxt = -1;
       const cl = tl[cur];
       const cr = tr[cur];
-      const zs = cl + s * (cr - cl);
-      for (let q = 0; q < m; q++) {
+      for (let q = 0; q < na; q++) {
         if (q === cur) continue;
         const dR = tr[q] - cr;
         if (!(dR < 0)) continue;
@@ -187,23 +229,24 @@ export function evaluateEnvelope(plan: EnvelopePlan, zOf: readonly ArrayLike<num
         if (t < best || (t === best && nxt >= 0 && tr[q] < tr[nxt])) { best = t; nxt = q; }
       }
       if (best > s) {
-        const ze = cl + best * (cr - cl);
-        env.x0.push(xa + s * (xb - xa));
-        env.x1.push(best === 1 ? xb : xa + best * (xb - xa));
-        env.z0.push(zs);
-        env.z1.push(ze);
+        env.x0[n] = xa + s * (xb - xa);
+        env.x1[n] = best === 1 ? xb : xa + best * (xb - xa);
+        env.z0[n] = cl + s * (cr - cl);
+        env.z1[n] = cl + best * (cr - cl);
+        n++;
       }
       if (nxt < 0 || best >= 1) break;
       s = best;
       cur = nxt;
     }
   }
+  env.n = n;
   return env;
 }
 
 /** Envelope value at x (the smallest of the sub-pieces touching x), or NaN where no surface spans x. O(log n). */
 export function envelopeAt(env: Envelope, x: number): number {
-  const n = env.x0.length;
+  const n = env.n;
   if (n === 0 || x < env.x0[0] || x > env.x1[n - 1]) return NaN;
   let lo = 0;
   let hi = n - 1;
@@ -236,7 +279,7 @@ export function piecesOf(polylines: readonly { xs: ArrayLike<number> }[]): Envel
 /** Convenience: upper envelope (smallest z at each x) of any set of polylines. */
 export function upperEnvelope(polylines: readonly (readonly Point[])[]): Envelope {
   const cols = polylines.map((pl) => ({ xs: pl.map((p) => p[0]), zs: pl.map((p) => p[1]) }));
-  const plan = planEnvelope(piecesOf(cols), (s) => cols[s].xs);
+  const plan = planEnvelope(piecesOf(cols), (s) => cols[s].xs, cols.length);
   return evaluateEnvelope(plan, cols.map((c) => c.zs));
 }
 
@@ -254,62 +297,64 @@ export interface ProfileIntegral {
  * ∫ max(0, z_base(x) − z_env(x)) dx over the x where the envelope exists, split
  * at `xc` into left and right half-profiles with their first moments about xc.
  * The base is evaluated linearly with its nearest end value outside its range.
+ * One merge pass over envelope pieces and base vertices: O(n + m).
  */
 export function integrateProfile(env: Envelope, baseXs: ArrayLike<number>, baseZs: ArrayLike<number>, xc: number): ProfileIntegral {
-  const out: ProfileIntegral = { area: 0, areaLeft: 0, areaRight: 0, momentLeft: 0, momentRight: 0 };
+  const acc = new Float64Array(4); // areaLeft, areaRight, momentLeft, momentRight
   const nb = baseXs.length;
-  let bi = 0; // base vertex cursor: first base vertex with x > current position
-  const baseSeg = (xm: number): [number, number, number, number] => {
-    // segment covering the open interval around xm; constant outside the base range
-    if (xm <= baseXs[0]) return [baseXs[0] - 1, baseZs[0], baseXs[0], baseZs[0]];
-    if (xm >= baseXs[nb - 1]) return [baseXs[nb - 1], baseZs[nb - 1], baseXs[nb - 1] + 1, baseZs[nb - 1]];
-    while (bi < nb - 1 && baseXs[bi + 1] <= xm) bi++;
-    while (bi > 0 && baseXs[bi] > xm) bi--;
-    return [baseXs[bi], baseZs[bi], baseXs[bi + 1], baseZs[bi + 1]];
-  };
-  const addTrap = (a: number, b: number, ha: number, hb: number) => {
-    if (!(b > a)) return;
-    if (ha <= 0 && hb <= 0) return;
-    if (ha < 0) { a = a + ((b - a) * -ha) / (hb - ha); ha = 0; }
-    else if (hb < 0) { b = a + ((b - a) * ha) / (ha - hb); hb = 0; }
-    const d = b - a;
-    const area = ((ha + hb) / 2) * d;
-    const mom = (d / 6) * ((a - xc) * (2 * ha + hb) + (b - xc) * (ha + 2 * hb));
-    out.area += area;
-    if (b <= xc) { out.areaLeft += area; out.momentLeft -= mom; }
-    else { out.areaRight += area; out.momentRight += mom; }
-  };
-  const addSpan = (a: number, b: number, ea: number, eb: number) => {
-    // a..b lies within one base segment
-    const xm = (a + b) / 2;
-    const [sx0, sz0, sx1, sz1] = baseSeg(xm);
-    const bz = (x: number) => sz0 + ((x - sx0) / (sx1 - sx0)) * (sz1 - sz0);
-    const ez = (x: number) => ea + ((x - a) / (b - a)) * (eb - ea);
-    if (a < xc && xc < b) {
-      const hc = bz(xc) - ez(xc);
-      addTrap(a, xc, bz(a) - ea, hc);
-      addTrap(xc, b, hc, bz(b) - eb);
-    } else addTrap(a, b, bz(a) - ea, bz(b) - eb);
-  };
-  let k = 0; // first base vertex index with baseXs[k] > piece start
-  for (let i = 0; i < env.x0.length; i++) {
+  const bx0 = baseXs[0];
+  const bxn = baseXs[nb - 1];
+  let bi = 0;
+  let k = 0; // first base vertex with x > current position
+  for (let i = 0; i < env.n; i++) {
     const x0 = env.x0[i];
     const x1 = env.x1[i];
     if (!(x1 > x0)) continue;
     const z0 = env.z0[i];
-    const z1 = env.z1[i];
+    const dz = (env.z1[i] - z0) / (x1 - x0);
     while (k < nb && baseXs[k] <= x0) k++;
     let a = x0;
-    let ea = z0;
-    while (k < nb && baseXs[k] < x1) {
-      const xb = baseXs[k];
-      const eb = z0 + ((xb - x0) / (x1 - x0)) * (z1 - z0);
-      if (xb > a) addSpan(a, xb, ea, eb);
-      a = xb;
-      ea = eb;
+    for (;;) {
+      const atBase = k < nb && baseXs[k] < x1;
+      const b = atBase ? baseXs[k] : x1;
+      if (b > a) {
+        // base segment covering (a, b)
+        const xm = 0.5 * (a + b);
+        let sx0: number, sz0: number, slope: number;
+        if (xm <= bx0) { sx0 = bx0; sz0 = baseZs[0]; slope = 0; }
+        else if (xm >= bxn) { sx0 = bxn; sz0 = baseZs[nb - 1]; slope = 0; }
+        else {
+          while (bi < nb - 1 && baseXs[bi + 1] <= xm) bi++;
+          while (bi > 0 && baseXs[bi] > xm) bi--;
+          sx0 = baseXs[bi];
+          sz0 = baseZs[bi];
+          slope = (baseZs[bi + 1] - sz0) / (baseXs[bi + 1] - sx0);
+        }
+        const ha = sz0 + (a - sx0) * slope - (z0 + (a - x0) * dz);
+        const hb = sz0 + (b - sx0) * slope - (z0 + (b - x0) * dz);
+        if (a < xc && xc < b) {
+          const hc = sz0 + (xc - sx0) * slope - (z0 + (xc - x0) * dz);
+          addTrap(acc, a, xc, ha, hc, xc);
+          addTrap(acc, xc, b, hc, hb, xc);
+        } else addTrap(acc, a, b, ha, hb, xc);
+      }
+      if (!atBase) break;
+      a = b;
       k++;
     }
-    addSpan(a, x1, ea, z1);
   }
-  return out;
+  return { area: acc[0] + acc[1], areaLeft: acc[0], areaRight: acc[1], momentLeft: acc[2], momentRight: acc[3] };
+}
+
+/** Add the positive part of a trapezoid with linear height ha → hb over [a, b] to the left or right accumulators. */
+function addTrap(acc: Float64Array, a: number, b: number, ha: number, hb: number, xc: number): void {
+  if (!(b > a)) return;
+  if (ha <= 0 && hb <= 0) return;
+  if (ha < 0) { a = a + ((b - a) * -ha) / (hb - ha); ha = 0; }
+  else if (hb < 0) { b = a + ((b - a) * ha) / (ha - hb); hb = 0; }
+  const d = b - a;
+  const area = ((ha + hb) / 2) * d;
+  const mom = (d / 6) * ((a - xc) * (2 * ha + hb) + (b - xc) * (ha + 2 * hb));
+  if (b <= xc) { acc[0] += area; acc[2] -= mom; }
+  else { acc[1] += area; acc[3] += mom; }
 }

@@ -40,6 +40,7 @@ export * from './classify';
 export * from './cycles';
 export * from './buildup';
 export * from './uncertainty';
+export * from './linear-ranges';
 export type { Interpretation, InterpretationInput, MeasureOptions, MeasureOptionsInput } from '../schemas/interpretation';
 
 export const OUTPUT_FORMAT = 'cayline.measurements/1';
@@ -226,7 +227,7 @@ export function createDepthConverter(context: unknown, options?: { buildup?: num
     const bs = options?.buildup != null ? [p.buildups[options.buildup]] : p.buildups;
     if (options?.buildup != null && !bs[0]) throw new MeasureInputError('buildup', `no buildup number ${options.buildup}`);
     const sources = bs.flatMap((b) => b.sources);
-    env = sources.length ? evaluateEnvelope(planEnvelope(piecesOf(sources), (s) => sources[s].xs), sources.map((s) => s.ys)) : null;
+    env = sources.length ? evaluateEnvelope(planEnvelope(piecesOf(sources), (s) => sources[s].xs, sources.length), sources.map((s) => s.ys)) : null;
   }
   const conv = p.verticalDomain === 'twt_ms' && resolved ? makeTwtToDepth(resolved) : (y: number) => y;
   return {

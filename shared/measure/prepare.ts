@@ -15,10 +15,10 @@
  * their own vertical position (they are not snapped to the top).
  */
 import type { Interpretation, BuildupInput, DepthContext } from '../schemas/interpretation';
-import { applyCalibration, fitCalibration, type CalibrationFit, type CalibrationMode, type Tie } from './calibration';
+import { applyCalibration, fitCalibration, type Affine, type CalibrationFit, type CalibrationMode, type Tie } from './calibration';
 import { envelopeAt, evaluateEnvelope, piecesOf, planEnvelope, type Envelope, type EnvelopePlan } from './envelope';
 import { MeasureInputError } from './errors';
-import { orderByX, type Point } from './geometry';
+import type { Point } from './geometry';
 import { makeTwtToDepth, type ResolvedVelocityModel, type VelocityModel } from './velocity';
 
 export interface Surface {
@@ -74,19 +74,46 @@ export function calibrationOf(coordinates: string, calibration: CalibrationIn): 
   return fitCalibration(ties, mode);
 }
 
-function surface(path: string, pts: readonly Point[], order: boolean): Surface {
-  const p = order ? orderByX(pts) : pts;
-  return { path, xs: Float64Array.from(p, (q) => q[0]), ys: Float64Array.from(p, (q) => q[1]), te: null };
+/**
+ * A surface in section coordinates from input points through `toXY`
+ * (identity or calibration). Tops and bases (`order`) are put in increasing
+ * x like `orderByX`: reversed when traced right to left, then stably sorted.
+ */
+function surface(path: string, pts: readonly (readonly number[])[], affine: Affine | null, order: boolean): Surface {
+  const n = pts.length;
+  let xs = new Float64Array(n);
+  let ys = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    const u = pts[i][0];
+    const v = pts[i][1];
+    if (affine) {
+      xs[i] = affine.a * u + affine.b * v + affine.c;
+      ys[i] = affine.d * u + affine.e * v + affine.f;
+    } else {
+      xs[i] = u;
+      ys[i] = v;
+    }
+  }
+  if (order && n > 1) {
+    if (xs[0] > xs[n - 1]) { xs.reverse(); ys.reverse(); }
+    let sorted = true;
+    for (let i = 1; i < n; i++) if (xs[i] < xs[i - 1]) { sorted = false; break; }
+    if (!sorted) {
+      const idx = Array.from({ length: n }, (_, i) => i).sort((p, q) => xs[p] - xs[q] || p - q);
+      xs = Float64Array.from(idx, (i) => xs[i]);
+      ys = Float64Array.from(idx, (i) => ys[i]);
+    }
+  }
+  return { path, xs, ys, te: null };
 }
 
-function prepareBuildup(b: BuildupInput, bi: number, toWorld: (p: readonly number[]) => [number, number], needEnvelope: boolean): PreparedBuildup {
+function prepareBuildup(b: BuildupInput, bi: number, toWorld: (p: readonly number[]) => [number, number], affine: Affine | null, needEnvelope: boolean): PreparedBuildup {
   const path = `buildups[${bi}]`;
-  const w = (pl: readonly (readonly number[])[]) => pl.map((p) => toWorld(p));
-  const base = surface(`${path}.base`, w(b.base), true);
+  const base = surface(`${path}.base`, b.base, affine, true);
   if (!(base.xs[base.xs.length - 1] > base.xs[0])) throw new MeasureInputError(`${path}.base`, 'needs an x-extent (all its points share one x)');
-  const tops = b.cycles.map((c, ci) => surface(`${path}.cycles[${ci}].top`, w(c.top), true));
-  const flanksL = b.cycles.map((c, ci) => (c.flankLeft ? surface(`${path}.cycles[${ci}].flankLeft`, w(c.flankLeft), false) : null));
-  const flanksR = b.cycles.map((c, ci) => (c.flankRight ? surface(`${path}.cycles[${ci}].flankRight`, w(c.flankRight), false) : null));
+  const tops = b.cycles.map((c, ci) => surface(`${path}.cycles[${ci}].top`, c.top, affine, true));
+  const flanksL = b.cycles.map((c, ci) => (c.flankLeft ? surface(`${path}.cycles[${ci}].flankLeft`, c.flankLeft, affine, false) : null));
+  const flanksR = b.cycles.map((c, ci) => (c.flankRight ? surface(`${path}.cycles[${ci}].flankRight`, c.flankRight, affine, false) : null));
   const pt = (p: readonly number[], pp: string): PointIn => {
     const [x, y] = toWorld(p);
     return { path: pp, x, y, te: NaN };
@@ -99,13 +126,16 @@ function prepareBuildup(b: BuildupInput, bi: number, toWorld: (p: readonly numbe
   });
   const terminations = b.terminations.map((t, ti) => ({ ...pt(t.at, `${path}.terminations[${ti}].at`), type: t.type }));
   const sources = [...tops, ...flanksL.filter((f): f is Surface => !!f), ...flanksR.filter((f): f is Surface => !!f)];
-  const plan = planEnvelope(piecesOf(sources), (s) => sources[s].xs);
+  const plan = planEnvelope(piecesOf(sources), (s) => sources[s].xs, sources.length);
   let envelopeTwt: Envelope | null = null;
   if (needEnvelope) {
     envelopeTwt = evaluateEnvelope(plan, sources.map((s) => s.ys));
     const env = envelopeTwt;
     const fill = (s: Surface | null) => {
-      if (s) s.te = Float64Array.from(s.xs, (x) => envelopeAt(env, x));
+      if (!s) return;
+      const te = new Float64Array(s.xs.length);
+      for (let i = 0; i < te.length; i++) te[i] = envelopeAt(env, s.xs[i]);
+      s.te = te;
     };
     fill(base);
     tops.forEach(fill);
@@ -139,7 +169,7 @@ export function prepare(it: Interpretation | (DepthContext & { buildups: Buildup
     : (p: readonly number[]) => [p[0], p[1]] as [number, number];
   const velocity = it.verticalDomain === 'twt_ms' ? ((it.velocity ?? null) as VelocityModel | null) : null;
   const needEnvelope = velocity?.kind === 'buildup';
-  const buildups = it.buildups.map((b, bi) => prepareBuildup(b, bi, toWorld, needEnvelope));
+  const buildups = it.buildups.map((b, bi) => prepareBuildup(b, bi, toWorld, calibration?.affine ?? null, needEnvelope));
   return { verticalDomain: it.verticalDomain, coordinates: it.coordinates, calibration, velocity, toWorld, buildups };
 }
 

@@ -18,10 +18,11 @@
 import seedrandom from 'seedrandom';
 import { flankAngles } from './flank';
 import { interpolateAt } from './geometry';
-import { evaluateEnvelope, integrateProfile } from './envelope';
+import { evaluateEnvelopeFlat, integrateProfile, type Envelope } from './envelope';
 import { crestOf } from './buildup';
 import { depthOf, type PreparedBuildup, type PreparedInterpretation, type Surface } from './prepare';
-import { drawVelocityModel, hasRanges, makeTwtToDepth } from './velocity';
+import { hasRanges, makeTwtToDepth, triangularQuantile } from './velocity';
+import { linearSamplerFor, modelFromVector, velocityParams, type LinearDraw } from './linear-ranges';
 
 export interface Percentiles {
   p90: number;
@@ -53,72 +54,112 @@ export function exceedancePercentiles(values: ArrayLike<number>): Percentiles {
   return { p90: quantileSorted(s, 0.1), p50: quantileSorted(s, 0.5), p10: quantileSorted(s, 0.9) };
 }
 
-interface Sampler {
-  run(conv: (y: number, te: number) => number, k: number): void;
-  result(): BuildupRanges;
+interface Store {
+  height: Float64Array;
+  area: Float64Array;
+  volume: Float64Array;
+  fl: (Float64Array | null)[];
+  fr: (Float64Array | null)[];
 }
 
-function samplerFor(b: PreparedBuildup, draws: number): Sampler {
-  const buf = new Map<Surface, Float64Array>();
-  const zb = (s: Surface) => {
-    let z = buf.get(s);
-    if (!z) { z = new Float64Array(s.ys.length); buf.set(s, z); }
-    return z;
-  };
-  const n = b.tops.length;
-  const height = new Float64Array(draws);
-  const area = new Float64Array(draws);
-  const volume = new Float64Array(draws);
-  const fl = b.flanksL.map((f) => (f ? new Float64Array(draws) : null));
-  const fr = b.flanksR.map((f) => (f ? new Float64Array(draws) : null));
-  const youngest = b.tops[n - 1];
-  // a top that is also a flank source is converted once
+function storeFor(b: PreparedBuildup, draws: number): Store {
   return {
-    run(conv, k) {
-      const baseZ = depthOf(b.base, conv, zb(b.base));
-      const sourcesZ = b.sources.map((s) => depthOf(s, conv, zb(s)));
-      const topZ = buf.get(youngest)!;
-      const crest = crestOf(youngest.xs, topZ);
-      height[k] = interpolateAt(b.base.xs, baseZ, crest[0]) - crest[1];
-      const env = evaluateEnvelope(b.plan, sourcesZ);
-      const integ = integrateProfile(env, b.base.xs, baseZ, crest[0]);
-      area[k] = integ.area;
-      volume[k] = Math.PI * (integ.momentLeft + integ.momentRight);
-      for (let i = 0; i < n; i++) {
-        const L = b.flanksL[i];
-        const R = b.flanksR[i];
-        if (L) fl[i]![k] = flankAngles(L.xs, buf.get(L)!).flankAngleDeg ?? NaN;
-        if (R) fr[i]![k] = flankAngles(R.xs, buf.get(R)!).flankAngleDeg ?? NaN;
-      }
-    },
-    result() {
-      return {
-        draws,
-        heightM: exceedancePercentiles(height),
-        areaM2: exceedancePercentiles(area),
-        volumeM3: exceedancePercentiles(volume),
-        cycles: b.tops.map((_, i) => ({
-          index: i + 1,
-          left: { flankAngleDeg: fl[i] ? exceedancePercentiles(fl[i]!) : null },
-          right: { flankAngleDeg: fr[i] ? exceedancePercentiles(fr[i]!) : null },
-        })),
-      };
-    },
+    height: new Float64Array(draws),
+    area: new Float64Array(draws),
+    volume: new Float64Array(draws),
+    fl: b.flanksL.map((f) => (f ? new Float64Array(draws) : null)),
+    fr: b.flanksR.map((f) => (f ? new Float64Array(draws) : null)),
   };
+}
+
+function rangesOf(st: Store, draws: number): BuildupRanges {
+  return {
+    draws,
+    heightM: exceedancePercentiles(st.height),
+    areaM2: exceedancePercentiles(st.area),
+    volumeM3: exceedancePercentiles(st.volume),
+    cycles: st.fl.map((_, i) => ({
+      index: i + 1,
+      left: { flankAngleDeg: st.fl[i] ? exceedancePercentiles(st.fl[i]!) : null },
+      right: { flankAngleDeg: st.fr[i] ? exceedancePercentiles(st.fr[i]!) : null },
+    })),
+  };
+}
+
+/** Direct sampler: reconvert every vertex and recompute envelope, area, volume and flanks for each draw. */
+function directSamplerFor(b: PreparedBuildup, st: Store): (conv: (y: number, te: number) => number, k: number) => void {
+  const n = b.tops.length;
+  const plan = b.plan;
+  const srcOff = plan.srcOff;
+  const Z = new Float64Array(srcOff[srcOff.length - 1]);
+  const views = b.sources.map((_, s) => Z.subarray(srcOff[s], srcOff[s + 1]));
+  const viewOf = new Map<Surface, Float64Array>(b.sources.map((s, k) => [s, views[k]]));
+  const baseZ = new Float64Array(b.base.ys.length);
+  const youngest = b.tops[n - 1];
+  const topZ = viewOf.get(youngest)!;
+  let env: Envelope | undefined;
+  return (conv, k) => {
+    depthOf(b.base, conv, baseZ);
+    for (let s = 0; s < b.sources.length; s++) depthOf(b.sources[s], conv, views[s]);
+    const crest = crestOf(youngest.xs, topZ);
+    st.height[k] = interpolateAt(b.base.xs, baseZ, crest[0]) - crest[1];
+    env = evaluateEnvelopeFlat(plan, Z, env);
+    const integ = integrateProfile(env, b.base.xs, baseZ, crest[0]);
+    st.area[k] = integ.area;
+    st.volume[k] = Math.PI * (integ.momentLeft + integ.momentRight);
+    for (let i = 0; i < n; i++) {
+      const L = b.flanksL[i];
+      const R = b.flanksR[i];
+      if (L) st.fl[i]![k] = flankAngles(L.xs, viewOf.get(L)!).flankAngleDeg ?? NaN;
+      if (R) st.fr[i]![k] = flankAngles(R.xs, viewOf.get(R)!).flankAngleDeg ?? NaN;
+    }
+  };
+}
+
+export interface MonteCarloOptions {
+  draws: number;
+  seed: string | number;
+  /** 'auto' (default) uses the linearised sampler where the model allows it; 'direct' recomputes everything per draw. */
+  method?: 'auto' | 'direct';
 }
 
 /**
  * Ranges for every buildup, or null when no velocity is a range (or the
- * section is already in depth). Deterministic for a given seed.
+ * section is already in depth). Deterministic for a given seed: each draw
+ * takes one uniform number per range, in the model's field order.
  */
-export function monteCarlo(p: PreparedInterpretation, opts: { draws: number; seed: string | number }): BuildupRanges[] | null {
+export function monteCarlo(p: PreparedInterpretation, opts: MonteCarloOptions): BuildupRanges[] | null {
   const model = p.velocity;
   if (p.verticalDomain !== 'twt_ms' || !model || !hasRanges(model)) return null;
   const rng = seedrandom(String(opts.seed));
-  const samplers = p.buildups.map((b) => samplerFor(b, opts.draws));
+  const params = velocityParams(model);
+  const V = new Float64Array(params.length);
+  const stores = p.buildups.map((b) => storeFor(b, opts.draws));
+  const linear = p.buildups.map((b) => (opts.method === 'direct' ? null : linearSamplerFor(b, model)));
+  const direct = p.buildups.map((b, i) => (linear[i] ? null : directSamplerFor(b, stores[i])));
+  const needConv = direct.some((d) => d);
+  const out: LinearDraw = { heightM: 0, areaM2: 0, volumeM3: 0, left: new Float64Array(0), right: new Float64Array(0) };
   for (let k = 0; k < opts.draws; k++) {
-    const conv = makeTwtToDepth(drawVelocityModel(model, rng));
-    for (const s of samplers) s.run(conv, k);
+    for (let i = 0; i < params.length; i++) {
+      const r = params[i].range;
+      V[i] = r ? triangularQuantile(r, rng()) : params[i].mode;
+    }
+    const conv = needConv ? makeTwtToDepth(modelFromVector(model, V)) : null;
+    p.buildups.forEach((b, bi) => {
+      const st = stores[bi];
+      const lin = linear[bi];
+      if (lin) {
+        if (out.left.length !== b.tops.length) { out.left = new Float64Array(b.tops.length); out.right = new Float64Array(b.tops.length); }
+        lin.draw(V, out);
+        st.height[k] = out.heightM;
+        st.area[k] = out.areaM2;
+        st.volume[k] = out.volumeM3;
+        for (let c = 0; c < b.tops.length; c++) {
+          if (st.fl[c]) st.fl[c]![k] = out.left[c];
+          if (st.fr[c]) st.fr[c]![k] = out.right[c];
+        }
+      } else direct[bi]!(conv!, k);
+    });
   }
-  return samplers.map((s) => s.result());
+  return stores.map((st) => rangesOf(st, opts.draws));
 }

@@ -21,8 +21,34 @@ import { formatIssuePath } from '../api-errors';
 /** An error message that says "is required" when the field is missing. */
 const req = (what: string) => (iss: { input?: unknown }) => (iss.input === undefined ? 'is required' : what);
 const num = (what = 'must be a finite number') => z.number({ error: req(what) });
-const point = z.tuple([num(), num()], { error: req('must be a point [x, y] of two finite numbers') });
-const polyline = z.array(point, { error: req('must be a list of points [[x, y], ...]') }).min(2, 'needs at least 2 points');
+const POINT_MSG = 'must be a point [x, y] of two finite numbers';
+
+/** Problem with a point value, as [relative path, message], or null. A hand loop: zod tuples cost too much on 100 000-vertex traces. */
+function pointProblem(v: unknown): [(string | number)[], string] | null {
+  if (v === undefined) return [[], 'is required'];
+  if (!Array.isArray(v) || v.length !== 2) return [[], POINT_MSG];
+  for (let k = 0; k < 2; k++) {
+    const c = v[k];
+    if (typeof c !== 'number' || !Number.isFinite(c)) return [[k], 'must be a finite number'];
+  }
+  return null;
+}
+
+const point = z.custom<[number, number]>(() => true).superRefine((v, ctx) => {
+  const bad = pointProblem(v);
+  if (bad) ctx.addIssue({ code: 'custom', path: bad[0], message: bad[1], continue: false });
+});
+
+/** A polyline of at least 2 finite points (validated in one pass; paths name the bad point and coordinate). */
+const polyline = z.custom<[number, number][]>(() => true).superRefine((v, ctx) => {
+  if (v === undefined) return void ctx.addIssue({ code: 'custom', message: 'is required', continue: false });
+  if (!Array.isArray(v)) return void ctx.addIssue({ code: 'custom', message: 'must be a list of points [[x, y], ...]', continue: false });
+  if (v.length < 2) return void ctx.addIssue({ code: 'custom', message: 'needs at least 2 points', continue: false });
+  for (let i = 0; i < v.length; i++) {
+    const bad = pointProblem(v[i]);
+    if (bad) return void ctx.addIssue({ code: 'custom', path: [i, ...bad[0]], message: bad[1], continue: false });
+  }
+});
 
 /** A velocity range in m/s: min ≤ mode ≤ max, all > 0. */
 export const velocityRangeSchema = z

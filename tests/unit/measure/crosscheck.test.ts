@@ -156,7 +156,7 @@ print(json.dumps(out))`;
     const ref = runPython(shapelyPy!, script, cases) as number[][];
     cases.forEach((c, i) => {
       const cols = c.surfaces.map((s) => orderByX(s)).map((s) => ({ xs: s.map((p) => p[0]), zs: s.map((p) => p[1]) }));
-      const plan = planEnvelope(piecesOf(cols), (k) => cols[k].xs);
+      const plan = planEnvelope(piecesOf(cols), (k) => cols[k].xs, cols.length);
       const env = evaluateEnvelope(plan, cols.map((q) => q.zs));
       const r = integrateProfile(env, c.base.map((p) => p[0]), c.base.map((p) => p[1]), c.xc);
       const tol = (v: number) => 1e-7 * Math.max(1, Math.abs(v));

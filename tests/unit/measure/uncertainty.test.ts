@@ -65,3 +65,48 @@ describe('Monte Carlo ranges', () => {
     expect(triangularQuantile({ min: 5, mode: 5, max: 5 }, 0.7)).toBe(5);
   });
 });
+
+import { linearSamplerFor, monteCarlo, parseInterpretation } from '../../../shared/measure';
+import { prepare } from '../../../shared/measure/prepare';
+import { firstDifference } from './helpers';
+
+/** A noisy multi-cycle knoll whose flanks cut older tops (many crossings, so many exactly evaluated intervals). */
+function noisyKnoll(n: number, velocity: unknown) {
+  let seed = 99;
+  const rnd = () => ((seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648);
+  const line = (x0: number, x1: number, f: (x: number) => number) =>
+    Array.from({ length: n }, (_, i) => {
+      const x = x0 + ((x1 - x0) * i) / (n - 1);
+      return [x, f(x) + (i > 0 && i < n - 1 ? (rnd() - 0.5) * 4 : 0)];
+    });
+  const cycles = [];
+  for (let i = 0; i < 5; i++) {
+    const L = 2000 + 600 * i, R = 18000 - 500 * i, t = 1900 - 60 * i, mid = (L + R) / 2;
+    const top = line(L, R, (x) => t - 15 * Math.exp(-(((x - mid) / 2000) ** 2)));
+    cycles.push({
+      index: i + 1, top, marginLeft: top[0], marginRight: top[n - 1],
+      flankLeft: line(L, L - 400, (x) => t + ((L - x) / 400) * 100),
+      flankRight: line(R, R + 400, (x) => t + ((x - R) / 400) * 100),
+    });
+  }
+  return { verticalDomain: 'twt_ms', velocity, buildups: [{ base: line(0, 20000, (x) => 2000 - 40 * Math.sin(x / 3000)), cycles }] };
+}
+
+describe('linearised Monte Carlo equals direct recomputation', () => {
+  const cases: [string, unknown][] = [
+    ['Kestrel Knoll fixture, buildup model', loadIn('kestrel-knoll-twt-buildup-ranges.json')],
+    ['noisy knoll, buildup model', noisyKnoll(150, { kind: 'buildup', water: { v: { min: 1480, mode: 1500, max: 1530 }, seafloorMs: 400 }, overburden: { v: { min: 1800, mode: 2200, max: 2700 } }, carbonate: { v: { min: 3500, mode: 4500, max: 5800 } } })],
+    ['noisy knoll, layers', noisyKnoll(150, { kind: 'layers', layers: [{ topMs: 0, v: 1500 }, { topMs: 900, v: { min: 2000, mode: 2400, max: 2900 } }, { topMs: 1750, v: { min: 3000, mode: 4000, max: 5000 } }] })],
+    ['noisy knoll, linear law', noisyKnoll(150, { kind: 'linear', v0: { min: 1600, mode: 1800, max: 2100 }, k: 0.6 })],
+    ['platform, constant', (() => { const d = depthDocToTwt(loadIn('platform-depth.json'), { kind: 'constant', v: 4000 }); d.velocity = { kind: 'constant', v: { min: 3000, mode: 4000, max: 5000 } }; return d; })()],
+  ];
+  for (const [name, doc] of cases) {
+    it(name, () => {
+      const p = prepare(parseInterpretation(doc));
+      const fast = monteCarlo(p, { draws: 60, seed: 'cmp' });
+      const direct = monteCarlo(p, { draws: 60, seed: 'cmp', method: 'direct' });
+      expect(linearSamplerFor(p.buildups[0], p.velocity!)).not.toBeNull();
+      expect(firstDifference(fast, direct, '', 1e-8, 1e-6)).toBeNull();
+    });
+  }
+});

@@ -1,0 +1,371 @@
+/**
+ * Fast Monte Carlo sampler for one buildup, exploiting that every velocity
+ * model of measurement-spec §3 is linear in its velocities: a vertex's
+ * depth is z = Σ_k V_k · C_k, with coefficients C_k fixed by its TWT (and, for
+ * the `buildup` model, by the TWT envelope at its x), e.g. z = Σ v_i·Δt_i/2000
+ * for layers (Sheriff & Geldart 1995) or z = v0·(exp(k·t/2000) − 1)/k for the
+ * linear law with fixed k (Geldart & Sheriff 2004).
+ *
+ * Made once per buildup: the coefficients of every vertex, and for every
+ * grid interval of the envelope sweep the pieces that can be the shallowest
+ * for some velocity set inside the ranges' box (a piece is dropped where
+ * another is at least as shallow at both ends for every velocity set: the
+ * minimum of a linear form over a box is taken corner-wise). Where a single
+ * piece remains and the base lies below it for every velocity set, the
+ * interval's area and first moment are linear in the velocities and are
+ * summed into a few coefficient vectors. Each draw then costs a few dot
+ * products, the crest among the vertices that can be shallowest, the
+ * remaining ("complex") intervals evaluated exactly, and the flanks.
+ *
+ * Exactness: in exact arithmetic the result equals the direct recomputation
+ * (tests compare the two); if the model turns out not to be linear within
+ * 1e-9 relative, the caller falls back to the direct sampler.
+ */
+import { flankAngles } from './flank';
+import { interpolateAt } from './geometry';
+import { piecesOf, planEnvelope } from './envelope';
+import type { PreparedBuildup } from './prepare';
+import { isRange, makeTwtToDepth, resolveVelocityModel, type Range, type Speed, type VelocityModel } from './velocity';
+
+export interface VelocityParam {
+  path: string;
+  min: number;
+  mode: number;
+  max: number;
+  range: Range | null;
+}
+
+/** The velocities of a model in resolve order (fixed values have min = mode = max). */
+export function velocityParams(model: VelocityModel): VelocityParam[] {
+  const out: VelocityParam[] = [];
+  resolveVelocityModel(model, (s: Speed, path) => {
+    if (isRange(s)) out.push({ path, min: s.min, mode: s.mode, max: s.max, range: s });
+    else out.push({ path, min: s, mode: s, max: s, range: null });
+    return 0;
+  });
+  return out;
+}
+
+/** The model with its velocities taken from a vector (resolve order). */
+export function modelFromVector(model: VelocityModel, v: ArrayLike<number>) {
+  let i = 0;
+  return resolveVelocityModel(model, () => v[i++]);
+}
+
+export interface LinearDraw {
+  heightM: number;
+  areaM2: number;
+  volumeM3: number;
+  /** Flank angle per cycle, NaN without a flank. */
+  left: Float64Array;
+  right: Float64Array;
+}
+
+export interface LinearSampler {
+  draw(V: Float64Array, out: LinearDraw): void;
+  /** Intervals evaluated exactly in every draw (for diagnostics and tests). */
+  complexIntervals: number;
+}
+
+/** Build the fast sampler, or null if the model is not linear in its velocities for this geometry. */
+export function linearSamplerFor(b: PreparedBuildup, model: VelocityModel): LinearSampler | null {
+  const params = velocityParams(model);
+  const K = params.length;
+  const lo = Float64Array.from(params, (p) => p.min);
+  const hi = Float64Array.from(params, (p) => p.max);
+  const mode = Float64Array.from(params, (p) => p.mode);
+  const convs = params.map((_, k) => makeTwtToDepth(modelFromVector(model, params.map((__, j) => (j === k ? 1 : 0)))));
+  const convMode = makeTwtToDepth(modelFromVector(model, mode));
+  const sources = b.sources;
+  const ns = sources.length;
+  const plan = planEnvelope(piecesOf(sources), (s) => sources[s].xs, ns, b.base.xs);
+  const { xs, g0, g1, off, srcOff, a: ea, b: eb, w: ew, order } = plan;
+  const total = srcOff[ns];
+
+  // vertex coefficients, checked against the direct conversion at the modes
+  const C = new Float64Array(total * K);
+  for (let s = 0; s < ns; s++) {
+    const sf = sources[s];
+    for (let i = 0; i < sf.ys.length; i++) {
+      const te = sf.te ? sf.te[i] : NaN;
+      const row = (srcOff[s] + i) * K;
+      let z = 0;
+      for (let k = 0; k < K; k++) {
+        C[row + k] = convs[k](sf.ys[i], te);
+        z += mode[k] * C[row + k];
+      }
+      const zd = convMode(sf.ys[i], te);
+      if (!(Math.abs(z - zd) <= 1e-9 * Math.max(1, Math.abs(zd)))) return null;
+    }
+  }
+  const nb = b.base.ys.length;
+  const CB = new Float64Array(nb * K);
+  for (let i = 0; i < nb; i++) {
+    const te = b.base.te ? b.base.te[i] : NaN;
+    let z = 0;
+    for (let k = 0; k < K; k++) {
+      CB[i * K + k] = convs[k](b.base.ys[i], te);
+      z += mode[k] * CB[i * K + k];
+    }
+    const zd = convMode(b.base.ys[i], te);
+    if (!(Math.abs(z - zd) <= 1e-9 * Math.max(1, Math.abs(zd)))) return null;
+  }
+
+  const minBox = (d: Float64Array, o = 0) => {
+    let s = 0;
+    for (let k = 0; k < K; k++) { const v = d[o + k]; s += v >= 0 ? v * lo[k] : v * hi[k]; }
+    return s;
+  };
+  const maxBox = (d: Float64Array, o = 0) => {
+    let s = 0;
+    for (let k = 0; k < K; k++) { const v = d[o + k]; s += v >= 0 ? v * hi[k] : v * lo[k]; }
+    return s;
+  };
+  const tmp = new Float64Array(K);
+
+  // crest candidates: vertices of the youngest top not strictly deeper than the mode crest for every velocity set
+  const n = b.tops.length;
+  const ys = sources.indexOf(b.tops[n - 1]);
+  const yOff = srcOff[ys];
+  const yN = srcOff[ys + 1] - yOff;
+  let c0 = 0;
+  let c0z = Infinity;
+  for (let i = 0; i < yN; i++) {
+    let z = 0;
+    for (let k = 0; k < K; k++) z += mode[k] * C[(yOff + i) * K + k];
+    if (z < c0z) { c0z = z; c0 = i; }
+  }
+  const crestIdx: number[] = [];
+  for (let i = 0; i < yN; i++) {
+    for (let k = 0; k < K; k++) tmp[k] = C[(yOff + i) * K + k] - C[(yOff + c0) * K + k];
+    if (!(minBox(tmp) > 0)) crestIdx.push(i);
+  }
+  const youngXs = sources[ys].xs;
+  let xcMin = Infinity;
+  let xcMax = -Infinity;
+  for (const i of crestIdx) { xcMin = Math.min(xcMin, youngXs[i]); xcMax = Math.max(xcMax, youngXs[i]); }
+  const xref = youngXs[c0];
+  const crestRows = Int32Array.from(crestIdx, (i) => (yOff + i) * K);
+  const crestX = Float64Array.from(crestIdx, (i) => youngXs[i]);
+
+  // sweep: linear sums for simple intervals, stored coefficients for complex ones
+  const aL = new Float64Array(K), mL = new Float64Array(K), aR = new Float64Array(K), mR = new Float64Array(K);
+  const np = g0.length;
+  const active = new Int32Array(np);
+  let na = 0;
+  let next = 0;
+  const TL = new Float64Array(np * K);
+  const TR = new Float64Array(np * K);
+  const vL = new Float64Array(np);
+  const vR = new Float64Array(np);
+  const keep = new Uint8Array(np);
+  const BL = new Float64Array(K), BR = new Float64Array(K), HL = new Float64Array(K), HR = new Float64Array(K);
+  const cxX: number[] = []; // xa, xb per complex interval
+  const cxCount: number[] = [];
+  const cxCoef: number[] = []; // per complex interval: BL, BR, then per candidate TL, TR
+  const bx = b.base.xs;
+  let bi = 0;
+  const dominatedBoth = (p: number, q: number) => {
+    for (let k = 0; k < K; k++) tmp[k] = TL[p * K + k] - TL[q * K + k];
+    if (!(minBox(tmp) >= 0)) return false;
+    for (let k = 0; k < K; k++) tmp[k] = TR[p * K + k] - TR[q * K + k];
+    return minBox(tmp) >= 0;
+  };
+  for (let j = 0; j < xs.length - 1; j++) {
+    let m = 0;
+    for (let k = 0; k < na; k++) if (g1[active[k]] > j) active[m++] = active[k];
+    na = m;
+    while (next < np && g0[order[next]] <= j) {
+      const p = order[next++];
+      if (g1[p] > j) active[na++] = p;
+    }
+    if (na === 0) continue;
+    const xa = xs[j];
+    const xb = xs[j + 1];
+    // base coefficients at both ends, from the base segment covering (xa, xb)
+    const xm = 0.5 * (xa + xb);
+    if (xm <= bx[0] || xm >= bx[nb - 1]) {
+      const r = xm <= bx[0] ? 0 : nb - 1;
+      for (let k = 0; k < K; k++) { BL[k] = CB[r * K + k]; BR[k] = CB[r * K + k]; }
+    } else {
+      while (bi < nb - 1 && bx[bi + 1] <= xm) bi++;
+      while (bi > 0 && bx[bi] > xm) bi--;
+      const span = bx[bi + 1] - bx[bi];
+      const ta = (xa - bx[bi]) / span;
+      const tb = (xb - bx[bi]) / span;
+      for (let k = 0; k < K; k++) {
+        const c0k = CB[bi * K + k];
+        const d = CB[(bi + 1) * K + k] - c0k;
+        BL[k] = c0k + ta * d;
+        BR[k] = c0k + tb * d;
+      }
+    }
+    let qL = -1, qR = -1;
+    for (let t = 0; t < na; t++) {
+      const p = active[t];
+      const e0 = off[p] + j - g0[p];
+      const e1 = e0 + 1;
+      let sl = 0, sr = 0;
+      for (let k = 0; k < K; k++) {
+        const l = C[ea[e0] * K + k] + ew[e0] * (C[eb[e0] * K + k] - C[ea[e0] * K + k]);
+        const r = C[ea[e1] * K + k] + ew[e1] * (C[eb[e1] * K + k] - C[ea[e1] * K + k]);
+        TL[p * K + k] = l;
+        TR[p * K + k] = r;
+        sl += mode[k] * l;
+        sr += mode[k] * r;
+      }
+      vL[p] = sl;
+      vR[p] = sr;
+      if (qL < 0 || sl < vL[qL]) qL = p;
+      if (qR < 0 || sr < vR[qR]) qR = p;
+    }
+    const qRkept = qR === qL || !dominatedBoth(qR, qL);
+    let count = 0;
+    let only = -1;
+    for (let t = 0; t < na; t++) {
+      const p = active[t];
+      let k1 = 1;
+      if (p === qL) k1 = 1;
+      else if (p === qR) k1 = qRkept ? 1 : 0;
+      else if (dominatedBoth(p, qL) || (qRkept && dominatedBoth(p, qR))) k1 = 0;
+      keep[p] = k1;
+      if (k1) { count++; only = p; }
+    }
+    let simple = false;
+    if (count === 1) {
+      for (let k = 0; k < K; k++) { HL[k] = BL[k] - TL[only * K + k]; HR[k] = BR[k] - TR[only * K + k]; }
+      if (maxBox(HL) <= 0 && maxBox(HR) <= 0) continue; // base never below the envelope here: no area
+      if (minBox(HL) >= 0 && minBox(HR) >= 0 && (xb <= xcMin || xa >= xcMax)) {
+        simple = true;
+        const d = xb - xa;
+        const pa = xa - xref;
+        const pb = xb - xref;
+        const A = xb <= xcMin ? aL : aR;
+        const M = xb <= xcMin ? mL : mR;
+        for (let k = 0; k < K; k++) {
+          A[k] += (d / 2) * (HL[k] + HR[k]);
+          M[k] += (d / 6) * (pa * (2 * HL[k] + HR[k]) + pb * (HL[k] + 2 * HR[k]));
+        }
+      }
+    }
+    if (!simple) {
+      cxX.push(xa, xb);
+      cxCount.push(count);
+      for (let k = 0; k < K; k++) cxCoef.push(BL[k]);
+      for (let k = 0; k < K; k++) cxCoef.push(BR[k]);
+      for (let t = 0; t < na; t++) {
+        const p = active[t];
+        if (!keep[p]) continue;
+        for (let k = 0; k < K; k++) cxCoef.push(TL[p * K + k]);
+        for (let k = 0; k < K; k++) cxCoef.push(TR[p * K + k]);
+      }
+    }
+  }
+  const cxXs = Float64Array.from(cxX);
+  const cxN = Int32Array.from(cxCount);
+  const cxC = Float64Array.from(cxCoef);
+  const maxCand = cxCount.reduce((x, y) => Math.max(x, y), 1);
+  const cl = new Float64Array(maxCand);
+  const cr = new Float64Array(maxCand);
+  const baseZ = new Float64Array(nb);
+  const flankSrc = [...b.flanksL, ...b.flanksR].map((f) => (f ? sources.indexOf(f) : -1));
+  const flankBuf = flankSrc.map((s) => (s >= 0 ? new Float64Array(srcOff[s + 1] - srcOff[s]) : null));
+  const acc = new Float64Array(4);
+  const dot = (arr: Float64Array, o: number, V: Float64Array) => {
+    let s = 0;
+    for (let k = 0; k < K; k++) s += arr[o + k] * V[k];
+    return s;
+  };
+  const addTrap = (a: number, bb: number, ha: number, hb: number, xc: number) => {
+    if (!(bb > a) || (ha <= 0 && hb <= 0)) return;
+    if (ha < 0) { a = a + ((bb - a) * -ha) / (hb - ha); ha = 0; }
+    else if (hb < 0) { bb = a + ((bb - a) * ha) / (ha - hb); hb = 0; }
+    const d = bb - a;
+    const area = ((ha + hb) / 2) * d;
+    const mom = (d / 6) * ((a - xref) * (2 * ha + hb) + (bb - xref) * (ha + 2 * hb));
+    if (bb <= xc) { acc[0] += area; acc[2] += mom; }
+    else { acc[1] += area; acc[3] += mom; }
+  };
+
+  return {
+    complexIntervals: cxN.length,
+    draw(V, out) {
+      // crest
+      let zmin = Infinity;
+      for (let c = 0; c < crestRows.length; c++) { const z = dot(C, crestRows[c], V); if (z < zmin) zmin = z; }
+      const eps = 1e-9 * Math.max(1, Math.abs(zmin));
+      let xlo = Infinity, xhi = -Infinity;
+      for (let c = 0; c < crestRows.length; c++) {
+        if (dot(C, crestRows[c], V) <= zmin + eps) { if (crestX[c] < xlo) xlo = crestX[c]; if (crestX[c] > xhi) xhi = crestX[c]; }
+      }
+      const xc = (xlo + xhi) / 2;
+      for (let i = 0; i < nb; i++) baseZ[i] = dot(CB, i * K, V);
+      out.heightM = interpolateAt(bx, baseZ, xc) - zmin;
+      // area and moments: linear sums plus complex intervals
+      acc[0] = dot(aL, 0, V); acc[1] = dot(aR, 0, V); acc[2] = dot(mL, 0, V); acc[3] = dot(mR, 0, V);
+      let o = 0;
+      for (let q = 0; q < cxN.length; q++) {
+        const xa = cxXs[2 * q];
+        const xb = cxXs[2 * q + 1];
+        const bl = dot(cxC, o, V);
+        const br = dot(cxC, o + K, V);
+        o += 2 * K;
+        const m = cxN[q];
+        let argL = 0;
+        for (let c = 0; c < m; c++) {
+          cl[c] = dot(cxC, o, V);
+          cr[c] = dot(cxC, o + K, V);
+          o += 2 * K;
+          if (cl[c] < cl[argL] || (cl[c] === cl[argL] && cr[c] < cr[argL])) argL = c;
+        }
+        // lower envelope of the candidate lines on [xa, xb], integrated against the straight base
+        let s = 0;
+        let cur = argL;
+        for (let guard = 0; guard <= m; guard++) {
+          let best = 1;
+          let nxt = -1;
+          for (let c = 0; c < m; c++) {
+            if (c === cur) continue;
+            const dR = cr[c] - cr[cur];
+            if (!(dR < 0)) continue;
+            const dL = cl[c] - cl[cur];
+            let t = dL / (dL - dR);
+            if (t < s) t = s;
+            if (t < best || (t === best && nxt >= 0 && cr[c] < cr[nxt])) { best = t; nxt = c; }
+          }
+          if (best > s) {
+            const x0 = xa + s * (xb - xa);
+            const x1 = best === 1 ? xb : xa + best * (xb - xa);
+            const h0 = bl + s * (br - bl) - (cl[cur] + s * (cr[cur] - cl[cur]));
+            const h1 = bl + best * (br - bl) - (cl[cur] + best * (cr[cur] - cl[cur]));
+            if (x0 < xc && xc < x1) {
+              const tc = (xc - x0) / (x1 - x0);
+              const hc = h0 + tc * (h1 - h0);
+              addTrap(x0, xc, h0, hc, xc);
+              addTrap(xc, x1, hc, h1, xc);
+            } else addTrap(x0, x1, h0, h1, xc);
+          }
+          if (nxt < 0 || best >= 1) break;
+          s = best;
+          cur = nxt;
+        }
+      }
+      const dxc = xc - xref;
+      const momLeft = dxc * acc[0] - acc[2];
+      const momRight = acc[3] - dxc * acc[1];
+      out.areaM2 = acc[0] + acc[1];
+      out.volumeM3 = Math.PI * (momLeft + momRight);
+      // flanks
+      for (let f = 0; f < flankSrc.length; f++) {
+        const s = flankSrc[f];
+        const buf = flankBuf[f];
+        const cycle = f % n;
+        const side = f < n ? out.left : out.right;
+        if (s < 0 || !buf) { side[cycle] = NaN; continue; }
+        const base = srcOff[s] * K;
+        for (let i = 0; i < buf.length; i++) buf[i] = dot(C, base + i * K, V);
+        side[cycle] = flankAngles(sources[s].xs, buf).flankAngleDeg ?? NaN;
+      }
+    },
+  };
+}
