@@ -10,11 +10,11 @@
 import type { BuildupMeasurement } from '../../../shared/measure/index';
 import { cycleColour } from '../../canvas/palette';
 import { palette } from '../../theme';
-import { formatDegrees, formatMetres } from './format';
+import { formatDegrees, formatMetres, formatNumber } from './format';
 
 const AXIS = {
   axisLine: { lineStyle: { color: '#9aa6b0' } },
-  axisLabel: { color: palette.inkMuted, fontSize: 10 },
+  axisLabel: { color: palette.inkMuted, fontSize: 10, formatter: (v: number | string) => (typeof v === 'number' ? formatNumber(v, Number.isInteger(v) ? 0 : 1) : v) },
   splitLine: { lineStyle: { color: palette.line } },
   nameTextStyle: { color: palette.inkMuted, fontSize: 10 },
 };
@@ -59,7 +59,7 @@ export function marginTrajectoryOption(b: BuildupMeasurement) {
     title: { text: 'Margin trajectory', left: 0, top: 0, textStyle: TITLE_STYLE },
     tooltip: { trigger: 'item', formatter: marginTip },
     grid: GRID,
-    xAxis: { type: 'value', name: 'x (m)', nameLocation: 'middle', nameGap: 20, scale: true, ...AXIS },
+    xAxis: { type: 'value', name: 'x (m)', nameLocation: 'middle', nameGap: 20, scale: true, splitNumber: 4, ...AXIS },
     yAxis: { type: 'value', name: 'depth (m)', nameLocation: 'middle', nameGap: 40, inverse: true, scale: true, ...AXIS },
     series: [
       ...tops.map((t) => ({
