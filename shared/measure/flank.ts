@@ -15,6 +15,10 @@ import { DEG, orthogonalRegression, resampleByArcLength, steepestSegmentDeg, typ
 
 export const FLANK_SAMPLES = 257;
 
+let scratchCum = new Float64Array(1024);
+const scratchX = new Float64Array(FLANK_SAMPLES);
+const scratchZ = new Float64Array(FLANK_SAMPLES);
+
 export interface FlankAngles {
   flankAngleDeg: number | null;
   flankMaxDeg: number | null;
@@ -28,8 +32,10 @@ export interface FlankAngles {
 export function flankAngles(xs: ArrayLike<number> | null, zs: ArrayLike<number> | null): FlankAngles {
   if (!xs || !zs || xs.length < 2) return { flankAngleDeg: null, flankMaxDeg: null };
   const n = xs.length;
-  // cumulative arc length and steepest segment
-  const cum = new Float64Array(n);
+  // cumulative arc length and steepest segment (scratch buffers reused between calls: no observable state)
+  if (scratchCum.length < n) scratchCum = new Float64Array(Math.max(n, 2 * scratchCum.length));
+  const cum = scratchCum;
+  cum[0] = 0;
   // steepest segment as the largest |dz|/|dx| (compared by cross-multiplication, one atan2 at the end)
   let bdx = 0;
   let bdz = -1;
@@ -49,8 +55,8 @@ export function flankAngles(xs: ArrayLike<number> | null, zs: ArrayLike<number> 
   if (!(total > 0)) return { flankAngleDeg: null, flankMaxDeg: null };
   // resample at FLANK_SAMPLES equally spaced points and accumulate moments
   const m = FLANK_SAMPLES;
-  const sx = new Float64Array(m);
-  const sz = new Float64Array(m);
+  const sx = scratchX;
+  const sz = scratchZ;
   let seg = 0;
   let mx = 0;
   let mz = 0;

@@ -363,7 +363,13 @@ export function linearSamplerFor(b: PreparedBuildup, model: VelocityModel): Line
         const side = f < n ? out.left : out.right;
         if (s < 0 || !buf) { side[cycle] = NaN; continue; }
         const base = srcOff[s] * K;
-        for (let i = 0; i < buf.length; i++) buf[i] = dot(C, base + i * K, V);
+        if (K === 3) {
+          const v0 = V[0], v1 = V[1], v2 = V[2];
+          for (let i = 0, r = base; i < buf.length; i++, r += 3) buf[i] = C[r] * v0 + C[r + 1] * v1 + C[r + 2] * v2;
+        } else if (K === 1) {
+          const v0 = V[0];
+          for (let i = 0, r = base; i < buf.length; i++, r++) buf[i] = C[r] * v0;
+        } else for (let i = 0; i < buf.length; i++) buf[i] = dot(C, base + i * K, V);
         side[cycle] = flankAngles(sources[s].xs, buf).flankAngleDeg ?? NaN;
       }
     },
