@@ -52,6 +52,8 @@ export function onPolyline(top: readonly Pt[], p: Pt, r: number): Pt | null {
 export class MarginPinTool extends BaseTool {
   readonly id = 'marginPin' as const;
   private _mode: MarginSideMode = 'nearer';
+  /** The click that ends a press on an existing pin/stamp is part of that gesture, not a new placement. */
+  private swallowClick = false;
   private drag: { buildupId: string; cycleId: string; side: Side; moved: boolean } | null = null;
 
   get mode(): MarginSideMode {
@@ -103,6 +105,7 @@ export class MarginPinTool extends BaseTool {
   }
 
   pointerDown(e: ToolPointer): boolean {
+    this.swallowClick = false;
     const h = hitTest(this.env.state(), e.image, this.radiusPx, e.scale, { kinds: ['margin'] });
     if (!h || h.kind !== 'margin') return false;
     this.env.select(h.buildupId, h.cycleId, { kind: h.side === 'left' ? 'marginLeft' : 'marginRight' });
@@ -113,11 +116,16 @@ export class MarginPinTool extends BaseTool {
   pointerUp(_e: ToolPointer): boolean {
     if (!this.drag) return false;
     this.drag = null;
+    this.swallowClick = true;
     this.env.endGesture();
     return true;
   }
 
   click(e: ToolPointer): boolean {
+    if (this.swallowClick) {
+      this.swallowClick = false;
+      return true;
+    }
     const cur = this.current(e.image[0]);
     if ('message' in cur) {
       this.setPreview({ kind: 'margin', at: null, side: null, cycleIndex: null, message: cur.message });

@@ -23,6 +23,8 @@ export const TERMINATION_LABEL: Record<TerminationType, string> = {
 export class StampTool extends BaseTool {
   readonly id = 'stamp' as const;
   private _type: TerminationType = 'onlap';
+  /** The click that ends a press on an existing pin/stamp is part of that gesture, not a new placement. */
+  private swallowClick = false;
   private drag: { buildupId: string; terminationId: string; moved: boolean } | null = null;
 
   get type(): TerminationType {
@@ -37,6 +39,7 @@ export class StampTool extends BaseTool {
   }
 
   pointerDown(e: ToolPointer): boolean {
+    this.swallowClick = false;
     const h = hitTest(this.env.state(), e.image, this.radiusPx, e.scale, { kinds: ['termination'] });
     if (!h || h.kind !== 'termination') return false;
     this.env.select(h.buildupId, null, { kind: 'termination', terminationId: h.terminationId });
@@ -61,11 +64,16 @@ export class StampTool extends BaseTool {
   pointerUp(_e: ToolPointer): boolean {
     if (!this.drag) return false;
     this.drag = null;
+    this.swallowClick = true;
     this.env.endGesture();
     return true;
   }
 
   click(e: ToolPointer): boolean {
+    if (this.swallowClick) {
+      this.swallowClick = false;
+      return true;
+    }
     const s = this.snapPoint(e.image, e.scale);
     const at = s.hit ? s.point : tidy(s.point);
     const b = this.targetBuildup(at[0]);

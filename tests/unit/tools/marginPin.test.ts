@@ -53,6 +53,16 @@ describe('Margin pin tool', () => {
     expect(t.preview.kind === 'margin' && t.preview.message).toMatch(/Select a cycle/);
   });
 
+  it('a press and release on a pin (no drag) only selects it', () => {
+    const t = new MarginPinTool(s.env);
+    s.store.select('b1', 'c2');
+    t.pointerDown(at(700, 592)); // c2's right pin
+    t.pointerUp(at(700, 592));
+    t.click(at(700, 592));
+    expect(s.dispatched).toEqual([]);
+    expect(s.store.selection).toMatchObject({ cycleId: 'c2', element: { kind: 'marginRight' } });
+  });
+
   it('dragging a pin slides it along its top as one undo step', () => {
     const t = new MarginPinTool(s.env);
     const before = s.store.buildups;

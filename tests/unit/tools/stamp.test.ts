@@ -45,6 +45,19 @@ describe('Termination stamp tool', () => {
     expect(s.store.buildups).toStrictEqual(before);
   });
 
+  it('a press and release on a stamp (no drag) selects it and places nothing', () => {
+    const t = new StampTool(s.env);
+    t.pointerDown(at(610, 530));
+    t.pointerUp(at(610, 530));
+    t.click(at(610, 530)); // the stage's click that ends the same press
+    expect(s.dispatched).toEqual([]);
+    expect(s.store.selection.element).toEqual({ kind: 'termination', terminationId: 't2' });
+    // The next plain click places a stamp again.
+    t.pointerDown(at(200, 200));
+    t.click(at(200, 200));
+    expect(s.names()).toEqual(['addTermination']);
+  });
+
   it('refuses an unknown type', () => {
     const t = new StampTool(s.env);
     expect(() => t.setType('overlap' as never)).toThrow(/onlap, downlap, toplap, truncation/);
