@@ -1,0 +1,440 @@
+/**
+ * Canvas benchmark: frames per second while panning the interpretation
+ * canvas with 10 cycles × 2,000 vertices over a 20,000 × 6,000 px section.
+ *
+ *   npx tsx tests/bench/canvas.bench.ts [--seconds=6] [--skip-build] [--target=auto|page|harness]
+ *
+ * Setup (all real): a throwaway PostgreSQL cluster in a temp folder, the
+ * Cayline server booted on it (server/index.ts, demo accounts seeded), a
+ * generated 20,000 × 6,000 JPEG uploaded through the API and tiled by the
+ * server's own pyramid job, a calibration, and one buildup whose geometry
+ * (a 2,000-vertex base, 10 cycle tops of 2,000 vertices, 20 flanks, Margin
+ * pins, stamps) is saved through the API.
+ *
+ * Pages measured in headless Debian Chromium (playwright-core):
+ *  - `page`: the app's route /sections/:id/interpret, when the router has it;
+ *  - `harness`: tests/bench/canvas-harness, which assembles SectionStage +
+ *    InterpretationLayer + ToolBar the way that page does, built with Vite
+ *    and served with /api proxied to the same server. Measured with the
+ *    overlay and without it (tiles only), so the overlay's own cost shows.
+ *
+ * A scripted pan (left-button drags across the stage, both directions)
+ * runs while the page counts requestAnimationFrame callbacks. Printed:
+ * fps, the ratio to the rAF rate of an empty page in the same browser (the
+ * ceiling), and the slowest frame. Never fails on time.
+ */
+import fs from 'node:fs';
+import http from 'node:http';
+import os from 'node:os';
+import path from 'node:path';
+import { spawnSync } from 'node:child_process';
+import crypto from 'node:crypto';
+import pg from 'pg';
+import sharp from 'sharp';
+import { chromium, type Page } from 'playwright-core';
+import { ROOT_DIR } from '../../server/config';
+import { removeCluster, startCluster } from '../../server/db/cluster';
+import { DEMO_PASSWORD, seedDemoUsers } from '../../server/db/seeders/demo';
+import { boot } from '../../server/index';
+
+const W = 20000;
+const H = 6000;
+const CYCLES = 10;
+const VERTS = 2000;
+/** Pointer moves per drag (20 px each). */
+const STEPS = 30;
+
+const args = new Map(
+  process.argv.slice(2).map((a) => {
+    const [k, v] = a.replace(/^--/, '').split('=');
+    return [k, v ?? '1'] as const;
+  }),
+);
+const SECONDS = Number(args.get('seconds') ?? 6);
+const SKIP_BUILD = args.has('skip-build');
+const TARGET = (args.get('target') ?? 'auto') as 'auto' | 'page' | 'harness';
+
+const log = (m: string) => console.log(`[canvas.bench] ${m}`);
+
+// ---------------------------------------------------------------------------
+// data
+
+/**
+ * A synthetic greyscale section: layered reflectors draped over a mound with
+ * a slow amplitude change along the line (no per-pixel noise, which would
+ * only make the file big without changing the tiles' decode cost much).
+ */
+async function makeSectionJpeg(): Promise<Buffer> {
+  const px = Buffer.alloc(W * H);
+  for (let u = 0; u < W; u++) {
+    const mound = 900 * Math.exp(-(((u - W / 2) / 3500) ** 2));
+    const amp = 70 + 40 * Math.sin(u / 1300);
+    for (let v = 0; v < H; v++) {
+      const d = v + (v > 1500 ? mound * Math.min(1, (v - 1500) / 1200) : 0);
+      const g = 128 + amp * Math.sin((2 * Math.PI * d) / 40) * (0.6 + 0.4 * Math.sin(d / 300));
+      px[v * W + u] = g < 0 ? 0 : g > 255 ? 255 : g;
+    }
+  }
+  return sharp(px, { raw: { width: W, height: H, channels: 1 } }).jpeg({ quality: 80 }).toBuffer();
+}
+
+type P = [number, number];
+const round = (n: number) => Math.round(n * 100) / 100;
+
+/** Base + 10 backstepping cycles, each top 2,000 vertices with a little relief. */
+function makeGeometry() {
+  const line = (u0: number, u1: number, n: number, v: (u: number) => number): P[] =>
+    Array.from({ length: n }, (_, i) => {
+      const u = u0 + ((u1 - u0) * i) / (n - 1);
+      return [round(u), round(v(u))];
+    });
+  const base = line(2000, 18000, VERTS, (u) => 4600 + 30 * Math.sin(u / 700));
+  const cycles = Array.from({ length: CYCLES }, (_, i) => {
+    const half = 7000 - i * 550;
+    const crest = 4300 - i * 250;
+    const u0 = W / 2 - half;
+    const u1 = W / 2 + half;
+    const top = line(u0, u1, VERTS, (u) => crest + 180 * ((u - W / 2) / half) ** 2 + 12 * Math.sin(u / 90));
+    const mL = top[Math.round(VERTS * 0.12)];
+    const mR = top[Math.round(VERTS * 0.88)];
+    return {
+      index: i + 1,
+      top,
+      marginLeft: mL,
+      marginRight: mR,
+      flankLeft: line(mL[0], mL[0] - 900, 40, (u) => mL[1] + (mL[0] - u) * 0.35),
+      flankRight: line(mR[0], mR[0] + 900, 40, (u) => mR[1] + (u - mR[0]) * 0.35),
+    };
+  });
+  const terminations = Array.from({ length: 12 }, (_, i) => ({
+    type: (['onlap', 'downlap', 'toplap', 'truncation'] as const)[i % 4],
+    at: [round(3000 + i * 1200), round(3500 + (i % 3) * 200)] as P,
+  }));
+  return { base, cycles, terminations, topIsDrowningSurface: true };
+}
+
+// ---------------------------------------------------------------------------
+// server
+
+async function api<T>(base: string, token: string | null, method: string, p: string, body?: unknown): Promise<T> {
+  const r = await fetch(`${base}/api${p}`, {
+    method,
+    headers: { ...(token ? { Authorization: `Bearer ${token}` } : {}), ...(body !== undefined ? { 'Content-Type': 'application/json' } : {}) },
+    body: body !== undefined ? JSON.stringify(body) : undefined,
+  });
+  const text = await r.text();
+  if (!r.ok) throw new Error(`${method} ${p} → ${r.status} ${text.slice(0, 300)}`);
+  return (text ? JSON.parse(text) : null) as T;
+}
+
+/** A static server for the harness build with /api proxied to the app. */
+function serveHarness(dir: string, appUrl: string): Promise<{ url: string; close(): Promise<void> }> {
+  const target = new URL(appUrl);
+  const host = target.hostname === 'localhost' ? '127.0.0.1' : target.hostname;
+  const types: Record<string, string> = { '.html': 'text/html', '.js': 'text/javascript', '.css': 'text/css', '.woff2': 'font/woff2', '.woff': 'font/woff' };
+  const server = http.createServer((req, res) => {
+    if (req.url?.startsWith('/api/')) {
+      const up = http.request({ host, port: target.port, path: req.url, method: req.method, headers: req.headers }, (r) => {
+        res.writeHead(r.statusCode ?? 502, r.headers);
+        r.pipe(res);
+      });
+      up.on('error', () => res.writeHead(502).end());
+      req.pipe(up);
+      return;
+    }
+    const rel = decodeURIComponent(new URL(req.url ?? '/', 'http://x').pathname);
+    const file = path.join(dir, rel === '/' ? 'index.html' : rel);
+    if (!file.startsWith(dir) || !fs.existsSync(file) || fs.statSync(file).isDirectory()) {
+      res.writeHead(200, { 'Content-Type': 'text/html' }).end(fs.readFileSync(path.join(dir, 'index.html')));
+      return;
+    }
+    res.writeHead(200, { 'Content-Type': types[path.extname(file)] ?? 'application/octet-stream' }).end(fs.readFileSync(file));
+  });
+  return new Promise((resolve) =>
+    server.listen(0, '127.0.0.1', () => {
+      const a = server.address() as { port: number };
+      resolve({ url: `http://127.0.0.1:${a.port}`, close: () => new Promise<void>((r) => server.close(() => r())) });
+    }),
+  );
+}
+
+// ---------------------------------------------------------------------------
+// measuring
+
+const RAF_COUNTER = `
+  window.__bench = { frames: 0, maxGap: 0, last: 0, running: false, draws: [], drawMs: 0 };
+  (() => {
+    // Konva puts itself on window; time every layer draw (tiles and overlays alike).
+    const K = window.Konva;
+    if (K && !K.__benchWrapped) {
+      K.__benchWrapped = true;
+      const orig = K.Layer.prototype.drawScene;
+      K.Layer.prototype.drawScene = function (...a) {
+        const t = performance.now();
+        try { return orig.apply(this, a); } finally { window.__bench.drawMs += performance.now() - t; }
+      };
+    }
+  })();
+  window.__benchStart = () => {
+    const b = window.__bench; b.frames = 0; b.maxGap = 0; b.draws = []; b.drawMs = 0; b.last = performance.now(); b.t0 = b.last; b.running = true;
+    const tick = (t) => {
+      if (!b.running) return;
+      b.frames++; b.maxGap = Math.max(b.maxGap, t - b.last); b.last = t;
+      if (b.drawMs > 0) b.draws.push(b.drawMs);
+      b.drawMs = 0;
+      requestAnimationFrame(tick);
+    };
+    requestAnimationFrame(tick);
+  };
+  window.__benchStop = () => {
+    const b = window.__bench; b.running = false;
+    const d = b.draws.slice().sort((x, y) => x - y);
+    const mean = d.length ? d.reduce((s, x) => s + x, 0) / d.length : 0;
+    return { frames: b.frames, ms: performance.now() - b.t0, maxGap: b.maxGap, drawFrames: d.length, drawMean: mean, drawP95: d.length ? d[Math.floor(d.length * 0.95)] : 0 };
+  };
+`;
+
+interface Run {
+  fps: number;
+  maxFrameMs: number;
+  drags: number;
+  /** Pointer moves the page handled per second (each waits for the page to take it). */
+  stepsPerS: number;
+  /** Frames in which Konva drew, and the time its layer draws took in them. */
+  drawFrames: number;
+  drawMeanMs: number;
+  drawP95Ms: number;
+}
+
+async function measure(page: Page, pan: boolean): Promise<Run> {
+  await page.evaluate(RAF_COUNTER);
+  const box = await page.locator('[data-test="section-stage"]').boundingBox().catch(() => null);
+  const vw = page.viewportSize()!;
+  const b = box ?? { x: 0, y: 0, width: vw.width, height: vw.height };
+  const cx = b.x + b.width / 2;
+  const cy = b.y + b.height / 2;
+  await page.evaluate('window.__benchStart()');
+  log(`  measuring ${pan ? 'a scripted pan' : 'an idle page'} for ${SECONDS} s…`);
+  const end = Date.now() + SECONDS * 1000;
+  let drags = 0;
+  while (Date.now() < end) {
+    if (pan) {
+      const dir = drags % 2 === 0 ? 1 : -1;
+      await page.mouse.move(cx - dir * 300, cy - dir * 60);
+      await page.mouse.down();
+      for (let i = 1; i <= STEPS; i++) await page.mouse.move(cx - dir * 300 + dir * 20 * i, cy - dir * 60 + dir * 4 * i);
+      await page.mouse.up();
+      drags++;
+    } else {
+      await page.waitForTimeout(200);
+    }
+  }
+  const r = (await page.evaluate('window.__benchStop()')) as { frames: number; ms: number; maxGap: number; drawFrames: number; drawMean: number; drawP95: number };
+  return {
+    fps: (r.frames * 1000) / r.ms,
+    maxFrameMs: r.maxGap,
+    drags,
+    stepsPerS: (drags * STEPS * 1000) / r.ms,
+    drawFrames: r.drawFrames,
+    drawMeanMs: r.drawMean,
+    drawP95Ms: r.drawP95,
+  };
+}
+
+async function waitForStage(page: Page): Promise<void> {
+  await page.waitForSelector('[data-test="section-stage"] canvas', { timeout: 60_000 });
+  // Let the first tiles arrive so the pan measures steady work, not the first download.
+  await page.waitForFunction(() => {
+    const el = document.querySelector('[data-test="section-stage"]') as HTMLElement | null;
+    return !!el && el.dataset.tilesPending === '0' && Number(el.dataset.tilesDrawn ?? 0) > 0;
+  }, undefined, { timeout: 30_000 }).catch(async () => {
+    const ds = await page.evaluate(() => JSON.stringify((document.querySelector('[data-test="section-stage"]') as HTMLElement | null)?.dataset ?? {}));
+    log(`tiles did not settle within 30 s (${ds}); measuring anyway`);
+  });
+}
+
+// ---------------------------------------------------------------------------
+
+let interrupted: (() => Promise<void>) | null = null;
+for (const sig of ['SIGINT', 'SIGTERM'] as const)
+  process.once(sig, () => {
+    log(`${sig}: cleaning up`);
+    void (interrupted ?? (async () => {}))().finally(() => process.exit(130));
+  });
+
+async function main(): Promise<void> {
+  const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-canvas-bench-'));
+  fs.chmodSync(tmp, 0o755);
+  const cleanups: (() => Promise<void> | void)[] = [() => fs.rmSync(tmp, { recursive: true, force: true })];
+  const cleanUp = async () => {
+    for (const fn of cleanups.splice(0).reverse()) {
+      try {
+        await fn();
+      } catch (e) {
+        log(`cleanup: ${e instanceof Error ? e.message : e}`);
+      }
+    }
+  };
+  interrupted = cleanUp;
+  try {
+    const routerText = fs.readFileSync(path.join(ROOT_DIR, 'client/router/index.ts'), 'utf8');
+    const hasPage = /sections\/:sectionId[^'"]*\/interpret/.test(routerText);
+    const target = TARGET === 'auto' ? (hasPage ? 'page' : 'harness') : TARGET;
+    if (target === 'page' && !hasPage) log('the router has no /sections/:sectionId/interpret route yet; the page run will likely show no overlay');
+
+    // 1. builds
+    if (target === 'page' && !SKIP_BUILD) {
+      log('building the client (vite build)…');
+      const r = spawnSync(path.join(ROOT_DIR, 'node_modules/.bin/vite'), ['build', '--logLevel', 'warn'], { cwd: ROOT_DIR, stdio: 'inherit' });
+      if (r.status !== 0) throw new Error('vite build failed');
+    }
+    const harnessOut = path.join(tmp, 'harness');
+    if (target === 'harness') {
+      log('building the harness…');
+      const { build } = await import('vite');
+      const vue = (await import('@vitejs/plugin-vue')).default;
+      await build({
+        configFile: false,
+        root: path.join(ROOT_DIR, 'tests/bench/canvas-harness'),
+        plugins: [vue()],
+        logLevel: 'warn',
+        build: { outDir: harnessOut, emptyOutDir: true, chunkSizeWarningLimit: 4000 },
+      });
+    }
+
+    // 2. database and server
+    const dataDir = path.join(tmp, 'pg', 'data');
+    process.env.CAYLINE_PG_FSYNC = 'off';
+    const cluster = await startCluster({ dataDir, database: 'postgres', log: () => {} });
+    cleanups.push(async () => {
+      await cluster.stop();
+      removeCluster(dataDir);
+    });
+    const dbName = `bench_${crypto.randomBytes(4).toString('hex')}`;
+    const c = new pg.Client({ connectionString: cluster.url });
+    await c.connect();
+    await c.query(`CREATE DATABASE ${dbName}`);
+    await c.end();
+    const storageDir = path.join(tmp, 'storage');
+    fs.mkdirSync(storageDir, { recursive: true });
+    let projectId: number | null = null;
+    const running = await boot({
+      databaseUrl: cluster.url.replace(/\/postgres$/, `/${dbName}`),
+      listen: true,
+      config: { storageDir, port: 0, bcryptCost: 4, jwtSecret: crypto.randomBytes(24).toString('hex') },
+      afterMigrate: async ({ sequelize }) => {
+        projectId = (await seedDemoUsers(sequelize)).projectId;
+      },
+    });
+    cleanups.push(() => running.close());
+    const base = running.url;
+    log(`server at ${base}`);
+
+    // 3. section, calibration, buildup
+    const login = await api<{ token: string; user: unknown; expiresAt?: string }>(base, null, 'POST', '/auth/login', { email: 'interpreter@tessel.example', password: DEMO_PASSWORD });
+    const token = login.token;
+    if (!projectId) throw new Error('the demo project was not seeded');
+    log(`generating a ${W} × ${H} section…`);
+    const jpeg = await makeSectionJpeg();
+    const form = new FormData();
+    for (const [k, v] of Object.entries({ title: 'TB-11 bench', lineName: 'TB-11', survey: 'TB-2024', verticalDomain: 'twt_ms' })) form.append(k, v);
+    form.append('image', new Blob([new Uint8Array(jpeg)], { type: 'image/jpeg' }), 'tb11-bench.jpg');
+    const up = await fetch(`${base}/api/projects/${projectId}/sections`, { method: 'POST', headers: { Authorization: `Bearer ${token}` }, body: form });
+    if (up.status !== 202 && up.status !== 201) throw new Error(`upload → ${up.status} ${await up.text()}`);
+    const sectionId = ((await up.json()) as { id: number }).id;
+    log(`section ${sectionId} uploaded (${(jpeg.length / 1e6).toFixed(1)} MB); waiting for the tile pyramid…`);
+    const t0 = Date.now();
+    for (;;) {
+      const s = await api<{ status: string; progress: number; failureReason: string | null }>(base, token, 'GET', `/sections/${sectionId}`);
+      if (s.status === 'ready') break;
+      if (s.status === 'failed') throw new Error(`tiling failed: ${s.failureReason}`);
+      if (Date.now() - t0 > 10 * 60_000) throw new Error('tiling took more than 10 minutes');
+      await new Promise((r) => setTimeout(r, 1000));
+    }
+    log(`tiles ready in ${((Date.now() - t0) / 1000).toFixed(1)} s`);
+    await api(base, token, 'PUT', `/sections/${sectionId}/calibration`, {
+      ties: [
+        { px: [0, 0], world: [0, 0] },
+        { px: [W, 0], world: [250000, 0] },
+        { px: [0, H], world: [0, 3000] },
+      ],
+    });
+    const created = await api<{ id: number; version: number }>(base, token, 'POST', `/sections/${sectionId}/buildups`, { name: 'Kestrel Knoll' });
+    await api(base, token, 'PUT', `/buildups/${created.id}`, { version: created.version, geometry: makeGeometry() });
+    log(`buildup saved: ${CYCLES} cycles × ${VERTS} vertices + base`);
+
+    // 4. browser
+    const profile = fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-bench-chromium-'));
+    cleanups.push(() => fs.rmSync(profile, { recursive: true, force: true }));
+    const ctx = await chromium.launchPersistentContext(profile, {
+      executablePath: process.env.CHROMIUM_PATH ?? '/usr/bin/chromium',
+      headless: true,
+      viewport: { width: 1440, height: 900 },
+      args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'],
+    });
+    cleanups.push(() => ctx.close());
+    const page = ctx.pages()[0] ?? (await ctx.newPage());
+    page.setDefaultTimeout(60_000);
+    const errors: string[] = [];
+    page.on('pageerror', (e) => errors.push(String(e)));
+    page.on('console', (m) => {
+      if (m.type() === 'error') errors.push(m.text());
+    });
+    const imageStatus = new Map<number, number>();
+    page.on('response', (r) => {
+      if (/\/(tiles|preview)\b/.test(r.url())) imageStatus.set(r.status(), (imageStatus.get(r.status()) ?? 0) + 1);
+    });
+
+    await page.setContent('<!doctype html><html><body style="margin:0;background:#1d232a"></body></html>');
+    const empty = await measure(page, false);
+    log(`empty page: ${empty.fps.toFixed(1)} rAF/s`);
+
+    const results: { name: string; run: Run }[] = [];
+    if (target === 'page') {
+      await page.addInitScript(
+        ([t, u]) => localStorage.setItem('cayline.session', JSON.stringify({ token: t, expiresAt: null, user: u })),
+        [token, login.user] as const,
+      );
+      await page.goto(`${base}/sections/${sectionId}/interpret`);
+      await waitForStage(page);
+      results.push({ name: 'interpret page, pan', run: await measure(page, true) });
+      await page.screenshot({ path: path.join(ROOT_DIR, 'tests/bench/canvas-bench.png') });
+    } else {
+      const srv = await serveHarness(harnessOut, base);
+      cleanups.push(() => srv.close());
+      for (const overlay of [1, 0]) {
+        await page.goto(`${srv.url}/?section=${sectionId}&token=${encodeURIComponent(token)}&user=${encodeURIComponent(JSON.stringify(login.user))}&overlay=${overlay}`);
+        await page.waitForSelector('[data-ready="1"]', { timeout: 60_000 });
+        await waitForStage(page);
+        if (overlay) await page.screenshot({ path: path.join(os.tmpdir(), 'cayline-canvas-bench-before.png') });
+        results.push({ name: overlay ? 'harness with overlay, pan' : 'harness tiles only, pan', run: await measure(page, true) });
+        if (overlay) await page.screenshot({ path: path.join(os.tmpdir(), 'cayline-canvas-bench.png') });
+      }
+    }
+
+    console.log('');
+    console.log(`Canvas pan benchmark — ${W} × ${H} px section, ${CYCLES} cycles × ${VERTS} vertices, ${SECONDS} s per run, headless Chromium --disable-gpu`);
+    console.log(`  empty page rAF rate (ceiling): ${empty.fps.toFixed(1)} fps`);
+    for (const { name, run } of results)
+      console.log(
+        `  ${name.padEnd(28)} ${run.fps.toFixed(1).padStart(5)} fps (ratio to empty page ${(run.fps / empty.fps).toFixed(2)})   slowest frame ${run.maxFrameMs.toFixed(0)} ms   ` +
+          `pan steps ${run.stepsPerS.toFixed(1)}/s   Konva draw per frame mean ${run.drawMeanMs.toFixed(1)} ms, p95 ${run.drawP95Ms.toFixed(1)} ms (${run.drawFrames} frames)`,
+      );
+    if (results.length === 2) {
+      const [o, t] = [results[0].run, results[1].run];
+      console.log(`  overlay / tiles-only: fps ${(o.fps / t.fps).toFixed(2)}, pan steps ${(o.stepsPerS / t.stepsPerS).toFixed(2)}, draw time ${(o.drawMeanMs / t.drawMeanMs).toFixed(2)}×`);
+    }
+    console.log(`  image responses by status: ${JSON.stringify(Object.fromEntries(imageStatus))}`);
+    if (errors.length) console.log(`  page errors:\n    ${errors.join('\n    ')}`);
+  } finally {
+    await cleanUp();
+  }
+}
+
+main().then(
+  () => process.exit(0),
+  (e) => {
+    console.error(e);
+    process.exit(1);
+  },
+);
