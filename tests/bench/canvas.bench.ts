@@ -53,6 +53,8 @@ const args = new Map(
 const SECONDS = Number(args.get('seconds') ?? 6);
 const SKIP_BUILD = args.has('skip-build');
 const TARGET = (args.get('target') ?? 'auto') as 'auto' | 'page' | 'harness';
+/** Harness runs: 1 = with the overlay, 0 = tiles only, empty = two empty overlay layers (compositing cost alone). */
+const MODES = (args.get('modes') ?? '1,0').split(',');
 
 const log = (m: string) => console.log(`[canvas.bench] ${m}`);
 
@@ -241,6 +243,47 @@ async function measure(page: Page, pan: boolean): Promise<Run> {
   };
 }
 
+/** Screenshots of the tools at work (for a person to look at): --shots. */
+async function toolShots(page: Page): Promise<void> {
+  const shot = (n: string) => page.screenshot({ path: path.join(os.tmpdir(), `cayline-canvas-${n}.png`) });
+  await page.locator('[data-test="stage-fit"]').click();
+  await page.waitForTimeout(400);
+  const box = (await page.locator('[data-test="section-stage"]').boundingBox())!;
+  const at = (fx: number, fy: number) => [box.x + box.width * fx, box.y + box.height * fy] as const;
+  await shot('0-fit');
+  // Select a cycle top near the crest, then zoom in around it.
+  const [sx, sy] = at(0.5, 0.4505);
+  await page.mouse.move(sx, sy);
+  await page.mouse.click(sx, sy);
+  await shot('1-selected');
+  for (let i = 0; i < 6; i++) await page.mouse.wheel(0, -120);
+  await page.waitForTimeout(800);
+  await shot('2-selected-zoomed');
+  // Ruler.
+  await page.keyboard.press('u');
+  await page.mouse.click(...at(0.3, 0.3));
+  await page.mouse.move(...at(0.6, 0.55));
+  await page.mouse.click(...at(0.6, 0.55));
+  await shot('3-ruler');
+  // Trace: three clicks and a rubber band.
+  await page.keyboard.press('Escape');
+  await page.keyboard.press('l');
+  await page.keyboard.press('3');
+  await page.mouse.click(...at(0.35, 0.3));
+  await page.mouse.click(...at(0.3, 0.45));
+  await page.mouse.click(...at(0.27, 0.6));
+  await page.mouse.move(...at(0.2, 0.7));
+  await shot('4-trace');
+  await page.keyboard.press('Escape');
+  await page.keyboard.press('j');
+  await page.mouse.move(...at(0.45, 0.5));
+  await shot('5-stamp');
+  await page.keyboard.press('?');
+  await shot('6-help');
+  await page.keyboard.press('Escape');
+  log(`tool screenshots in ${os.tmpdir()}/cayline-canvas-*.png`);
+}
+
 async function waitForStage(page: Page): Promise<void> {
   await page.waitForSelector('[data-test="section-stage"] canvas', { timeout: 60_000 });
   // Let the first tiles arrive so the pan measures steady work, not the first download.
@@ -402,13 +445,14 @@ async function main(): Promise<void> {
     } else {
       const srv = await serveHarness(harnessOut, base);
       cleanups.push(() => srv.close());
-      for (const overlay of [1, 0]) {
-        await page.goto(`${srv.url}/?section=${sectionId}&token=${encodeURIComponent(token)}&user=${encodeURIComponent(JSON.stringify(login.user))}&overlay=${overlay}`);
+      for (const mode of MODES) {
+        const overlay = mode === '1';
+        await page.goto(`${srv.url}/?section=${sectionId}&token=${encodeURIComponent(token)}&user=${encodeURIComponent(JSON.stringify(login.user))}&overlay=${mode}`);
         await page.waitForSelector('[data-ready="1"]', { timeout: 60_000 });
         await waitForStage(page);
         if (overlay) await page.screenshot({ path: path.join(os.tmpdir(), 'cayline-canvas-bench-before.png') });
-        results.push({ name: overlay ? 'harness with overlay, pan' : 'harness tiles only, pan', run: await measure(page, true) });
-        if (overlay) await page.screenshot({ path: path.join(os.tmpdir(), 'cayline-canvas-bench.png') });
+        results.push({ name: mode === '1' ? 'harness with overlay, pan' : mode === '0' ? 'harness tiles only, pan' : `harness overlay=${mode}, pan`, run: await measure(page, true) });
+        if (overlay && args.has('shots')) await toolShots(page);
       }
     }
 
@@ -420,8 +464,9 @@ async function main(): Promise<void> {
         `  ${name.padEnd(28)} ${run.fps.toFixed(1).padStart(5)} fps (ratio to empty page ${(run.fps / empty.fps).toFixed(2)})   slowest frame ${run.maxFrameMs.toFixed(0)} ms   ` +
           `pan steps ${run.stepsPerS.toFixed(1)}/s   Konva draw per frame mean ${run.drawMeanMs.toFixed(1)} ms, p95 ${run.drawP95Ms.toFixed(1)} ms (${run.drawFrames} frames)`,
       );
-    if (results.length === 2) {
-      const [o, t] = [results[0].run, results[1].run];
+    const o = results.find((r) => r.name === 'harness with overlay, pan')?.run;
+    const t = results.find((r) => r.name === 'harness tiles only, pan')?.run;
+    if (o && t) {
       console.log(`  overlay / tiles-only: fps ${(o.fps / t.fps).toFixed(2)}, pan steps ${(o.stepsPerS / t.stepsPerS).toFixed(2)}, draw time ${(o.drawMeanMs / t.drawMeanMs).toFixed(2)}×`);
     }
     console.log(`  image responses by status: ${JSON.stringify(Object.fromEntries(imageStatus))}`);

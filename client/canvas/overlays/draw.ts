@@ -37,6 +37,49 @@ export function flatPoints(pts: readonly Pt[]): number[] {
   return f;
 }
 
+const lodCache = new WeakMap<readonly Pt[], Map<number, number[]>>();
+
+/**
+ * Level of detail for drawing a long polyline zoomed out: with `bucket`
+ * image px per screen px (a power of two ≥ 2), keep the ends and every
+ * vertex that lies at least `bucket` image px (about one to two screen px)
+ * from the last kept one along u or v; the rest cannot be told apart on
+ * screen. Cached per points array and bucket; bucket < 2 returns every vertex.
+ */
+export function lodPoints(pts: readonly Pt[], bucket: number): number[] {
+  if (!(bucket >= 2) || pts.length < 3) return flatPoints(pts);
+  let byBucket = lodCache.get(pts);
+  if (!byBucket) {
+    byBucket = new Map();
+    lodCache.set(pts, byBucket);
+  }
+  let f = byBucket.get(bucket);
+  if (!f) {
+    f = [pts[0][0], pts[0][1]];
+    let lu = pts[0][0];
+    let lv = pts[0][1];
+    const n = pts.length;
+    for (let i = 1; i < n - 1; i++) {
+      const p = pts[i];
+      if (Math.abs(p[0] - lu) >= bucket || Math.abs(p[1] - lv) >= bucket) {
+        f.push(p[0], p[1]);
+        lu = p[0];
+        lv = p[1];
+      }
+    }
+    f.push(pts[n - 1][0], pts[n - 1][1]);
+    markRaw(f);
+    byBucket.set(bucket, f);
+  }
+  return f;
+}
+
+/** Image px per screen px rounded down to a power of two (1 when zoomed in to 50 % or more). */
+export function lodBucket(scale: number): number {
+  if (!(scale > 0) || scale >= 0.5) return 1;
+  return 2 ** Math.floor(Math.log2(1 / scale));
+}
+
 export type ToScreen = (p: readonly number[]) => [number, number];
 
 export interface ScreenFrame {

@@ -8,7 +8,7 @@ import type { PolylineTarget } from '../actions';
 import { targetKey } from '../actions';
 import { isCycleComplete, type EditorBuildup, type Pt, type Selection, type Side, type TerminationType } from '../model';
 import { BASE_COLOUR, CANVAS_LIGHT_GREY, cycleColour } from '../palette';
-import { flatPoints } from './draw';
+import { flatPoints, lodPoints } from './draw';
 
 export interface LineSpec {
   key: string;
@@ -61,11 +61,16 @@ export function selectedTarget(sel: Selection): PolylineTarget | null {
   return null;
 }
 
-/** Line spec of one polyline (any, selected or not). */
-export function lineSpec(b: EditorBuildup, target: PolylineTarget): LineSpec | null {
+/**
+ * Line spec of one polyline (any, selected or not). `bucket` > 1 draws a
+ * level of detail for zoomed-out views (see lodPoints); the selected line
+ * keeps every vertex.
+ */
+export function lineSpec(b: EditorBuildup, target: PolylineTarget, bucket = 1): LineSpec | null {
+  const flat = (pts: readonly Pt[]) => (bucket > 1 ? lodPoints(pts, bucket) : flatPoints(pts));
   if (target.kind === 'base') {
     if (b.base.length < 2) return null;
-    return { key: targetKey(target), target, points: flatPoints(b.base), stroke: BASE_COLOUR.canvas, strokeWidth: 2 };
+    return { key: targetKey(target), target, points: flat(b.base), stroke: BASE_COLOUR.canvas, strokeWidth: 2 };
   }
   const i = b.cycles.findIndex((c) => c.id === target.cycleId);
   if (i < 0) return null;
@@ -74,20 +79,20 @@ export function lineSpec(b: EditorBuildup, target: PolylineTarget): LineSpec | n
   if (!pts || pts.length < 2) return null;
   const colour = cycleCanvasColour(i);
   if (target.kind === 'top') {
-    const spec: LineSpec = { key: targetKey(target), target, points: flatPoints(pts), stroke: colour, strokeWidth: 2 };
+    const spec: LineSpec = { key: targetKey(target), target, points: flat(pts), stroke: colour, strokeWidth: 2 };
     if (b.topIsDrowningSurface && i === b.cycles.length - 1) spec.drowning = true;
     return spec;
   }
-  return { key: targetKey(target), target, points: flatPoints(pts), stroke: colour, strokeWidth: 1.6, dash: FLANK_DASH };
+  return { key: targetKey(target), target, points: flat(pts), stroke: colour, strokeWidth: 1.6, dash: FLANK_DASH };
 }
 
 /** Every line except `skip` (the selected one, drawn on the selection layer). */
-export function staticLines(buildups: readonly EditorBuildup[], skip: PolylineTarget | null): LineSpec[] {
+export function staticLines(buildups: readonly EditorBuildup[], skip: PolylineTarget | null, bucket = 1): LineSpec[] {
   const skipKey = skip ? targetKey(skip) : null;
   const out: LineSpec[] = [];
   const push = (b: EditorBuildup, t: PolylineTarget) => {
     if (skipKey !== null && targetKey(t) === skipKey) return;
-    const s = lineSpec(b, t);
+    const s = lineSpec(b, t, bucket);
     if (s) out.push(s);
   };
   for (const b of buildups) {

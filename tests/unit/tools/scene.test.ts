@@ -3,7 +3,8 @@ import { actions } from '../../../client/canvas/actions';
 import { createDoc, dispatch } from '../../../client/canvas/history';
 import { EMPTY_SELECTION, toInterpretationInput } from '../../../client/canvas/model';
 import { BASE_COLOUR, cycleColour } from '../../../client/canvas/palette';
-import { flatPoints } from '../../../client/canvas/overlays/draw';
+import { flatPoints, lodBucket, lodPoints } from '../../../client/canvas/overlays/draw';
+import { line } from '../canvas/fixtures';
 import { flankLabels, midpointOf, pinsOf, selectedTarget, stampsOf, staticLines, trajectoryLines } from '../../../client/canvas/overlays/scene';
 import { measure } from '../../../shared/measure/index';
 import { kestrel, marrow } from '../canvas/fixtures';
@@ -75,5 +76,26 @@ describe('overlay scene', () => {
     expect(labels[0].at).toEqual(midpointOf(b.cycles[0].flankLeft!));
     expect(midpointOf([[0, 0], [10, 0], [10, 10]])).toEqual([10, 0]);
     expect(flankLabels([b], null)).toEqual([]);
+  });
+
+  it('draws long lines zoomed out with a level of detail that keeps the ends and stays within a bucket', () => {
+    const pts = line(0, 16000, 2000, (u) => 3000 + 150 * Math.sin(u / 300));
+    expect(lodBucket(1)).toBe(1);
+    expect(lodBucket(0.5)).toBe(1);
+    expect(lodBucket(0.3)).toBe(2);
+    expect(lodBucket(0.07)).toBe(8);
+    expect(lodPoints(pts, 1)).toBe(flatPoints(pts));
+    const f = lodPoints(pts, 16);
+    expect(lodPoints(pts, 16)).toBe(f); // cached
+    expect(f.length / 2).toBeLessThan(pts.length);
+    expect(f.slice(0, 2)).toEqual(pts[0]);
+    expect(f.slice(-2)).toEqual(pts[pts.length - 1]);
+    // Every dropped vertex lies within one bucket (along u and v) of the last kept vertex before it.
+    let k = 0;
+    for (const p of pts) {
+      while (k + 2 < f.length && f[k + 2] <= p[0]) k += 2;
+      expect(Math.abs(p[0] - f[k])).toBeLessThan(16 + 1e-9);
+      expect(Math.abs(p[1] - f[k + 1])).toBeLessThan(16 + 1e-9);
+    }
   });
 });
