@@ -283,8 +283,8 @@ export function drawHandles(f: ScreenFrame, pts: readonly Pt[], colour: string, 
   for (let i = 0; i < pts.length; i++) {
     const [x, y] = f.toScreen(pts[i]);
     if (!f.visible(x, y, 8)) continue;
-    // Skip handles that would sit on top of the previous one (dense lines zoomed out).
-    if (i !== active && Math.abs(x - lastX) < 3 && Math.abs(y - lastY) < 3) continue;
+    // Dense lines zoomed out: skip handles closer than 7 px to the last one drawn (zoom in to grab them).
+    if (i !== active && i !== 0 && i !== pts.length - 1 && Math.abs(x - lastX) < 7 && Math.abs(y - lastY) < 7) continue;
     lastX = x;
     lastY = y;
     const s = i === active ? 5 : 3.5;
