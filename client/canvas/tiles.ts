@@ -144,7 +144,7 @@ export class TileRenderer {
 
   /** Recompute what the view needs; cheap when nothing changed. */
   update(view: View, box: Size, pixelRatio = 1): void {
-    this.lastView = { scale: view.scale, x: view.x, y: view.y };
+    this.lastView = { ...view };
     this.lastBox = { width: box.width, height: box.height };
     this.lastRatio = pixelRatio;
     const crisp = view.scale >= CRISP_FROM_SCALE;
@@ -154,7 +154,8 @@ export class TileRenderer {
       this.publish();
       return;
     }
-    const level = chooseLevel(p, view.scale, pixelRatio);
+    // With a vertical display stretch the finer of the two axes decides the level.
+    const level = chooseLevel(p, view.scale * Math.max(1, view.stretchY ?? 1), pixelRatio);
     const rect = visibleRect(view, box);
     const inner = visibleTileRange(p, level, rect, 0);
     const outer = visibleTileRange(p, level, rect, 1);

@@ -6,10 +6,12 @@
  *   top-left corner; the unit of every stored interpretation record.
  * - screen pixels: CSS pixels inside the stage's box, (0, 0) at its top-left.
  *
- * A view is `{ scale, x, y }`: `screen = image · scale + (x, y)`, i.e. `scale`
- * is screen pixels per image pixel and `(x, y)` is where the image origin
- * lands on screen. The stage applies exactly this transform, so overlay
- * layers draw in image pixels.
+ * A view is `{ scale, x, y, stretchY? }`: `screen = (u · scale + x,
+ * v · scale · stretchY + y)`, i.e. `scale` is screen pixels per image pixel
+ * across, `stretchY` (default 1) an extra vertical stretch of the display
+ * (vertical exaggeration), and `(x, y)` is where the image origin lands on
+ * screen. The stage applies exactly this transform, so overlay layers draw
+ * in image pixels and every coordinate handed out stays in true image pixels.
  *
  * Tile pyramid (the server's Deep Zoom style layout): level `maxLevel` is the
  * full-resolution image; each level below halves both sides (rounded up), so
@@ -17,7 +19,7 @@
  * square in level pixels, plus `overlap` pixels on every side that has a
  * neighbour.
  */
-import { computed, reactive, readonly, ref, type MaybeRefOrGetter, toValue } from 'vue';
+import { computed, reactive, readonly, ref, watch, type MaybeRefOrGetter, toValue } from 'vue';
 
 export type Pt = [number, number];
 
@@ -27,6 +29,14 @@ export interface View {
   /** Screen position of the image origin. */
   x: number;
   y: number;
+  /** Display stretch of the vertical axis (screen px per image px down = scale · stretchY); 1 when absent. */
+  stretchY?: number;
+}
+
+/** The vertical display stretch of a view (1 when unset). */
+export function stretchOf(v: View): number {
+  const s = v.stretchY;
+  return s !== undefined && s > 0 && Number.isFinite(s) ? s : 1;
 }
 
 export interface Size {
@@ -77,11 +87,16 @@ export interface TilePlacement {
 }
 
 export function imageToScreen(v: View, p: readonly number[]): Pt {
-  return [p[0] * v.scale + v.x, p[1] * v.scale + v.y];
+  return [p[0] * v.scale + v.x, p[1] * v.scale * stretchOf(v) + v.y];
 }
 
 export function screenToImage(v: View, p: readonly number[]): Pt {
-  return [(p[0] - v.x) / v.scale, (p[1] - v.y) / v.scale];
+  return [(p[0] - v.x) / v.scale, (p[1] - v.y) / (v.scale * stretchOf(v))];
+}
+
+/** Put the stretch `sy` on a view when it is not 1 (views without a stretch stay `{ scale, x, y }`). */
+function withStretch(v: View, sy: number): View {
+  return sy === 1 ? v : { ...v, stretchY: sy };
 }
 
 export function clamp(n: number, lo: number, hi: number): number {
@@ -100,19 +115,27 @@ export function zoomAround(v: View, anchor: readonly number[], factor: number, m
 /** Set the scale to `scale` keeping the image point under `anchor` fixed. */
 export function zoomTo(v: View, anchor: readonly number[], scale: number): View {
   const [u, w] = screenToImage(v, anchor);
-  return { scale, x: anchor[0] - u * scale, y: anchor[1] - w * scale };
+  const sy = stretchOf(v);
+  return withStretch({ scale, x: anchor[0] - u * scale, y: anchor[1] - w * scale * sy }, sy);
 }
 
-/** The view that shows the whole image centred in the box with `padding` screen pixels around it. */
-export function fitView(image: Size, box: Size, padding = 16): View {
+/**
+ * The view that shows the whole image centred in the box with `padding`
+ * screen pixels around it, drawn with the vertical display stretch `stretchY`.
+ */
+export function fitView(image: Size, box: Size, padding = 16, stretchY = 1): View {
+  const sy = stretchY > 0 && Number.isFinite(stretchY) ? stretchY : 1;
   const aw = Math.max(1, box.width - 2 * padding);
   const ah = Math.max(1, box.height - 2 * padding);
-  const scale = Math.min(aw / Math.max(1, image.width), ah / Math.max(1, image.height));
-  return {
-    scale,
-    x: (box.width - image.width * scale) / 2,
-    y: (box.height - image.height * scale) / 2,
-  };
+  const scale = Math.min(aw / Math.max(1, image.width), ah / Math.max(1, image.height * sy));
+  return withStretch(
+    {
+      scale,
+      x: (box.width - image.width * scale) / 2,
+      y: (box.height - image.height * scale * sy) / 2,
+    },
+    sy,
+  );
 }
 
 /**
@@ -120,15 +143,19 @@ export function fitView(image: Size, box: Size, padding = 16): View {
  * image when it is smaller), so panning can never lose the image.
  */
 export function clampPan(v: View, image: Size, box: Size, keep = 80): View {
+  const sy = stretchOf(v);
   const w = image.width * v.scale;
-  const h = image.height * v.scale;
+  const h = image.height * v.scale * sy;
   const kx = Math.min(keep, w);
   const ky = Math.min(keep, h);
-  return {
-    scale: v.scale,
-    x: clamp(v.x, kx - w, box.width - kx),
-    y: clamp(v.y, ky - h, box.height - ky),
-  };
+  return withStretch(
+    {
+      scale: v.scale,
+      x: clamp(v.x, kx - w, box.width - kx),
+      y: clamp(v.y, ky - h, box.height - ky),
+    },
+    sy,
+  );
 }
 
 /** The part of the image plane the box shows, in image pixels (may extend past the image). */
@@ -249,6 +276,8 @@ export interface ViewportOptions {
   maxScale?: number;
   /** Padding around the image when fitting. Default 16. */
   fitPadding?: number;
+  /** Vertical display stretch (vertical exaggeration of the display). Default 1. */
+  stretchY?: MaybeRefOrGetter<number>;
 }
 
 /**
@@ -257,7 +286,7 @@ export interface ViewportOptions {
  * content; other canvases can create their own.
  */
 export function useViewport(options: ViewportOptions) {
-  const view = reactive<View>({ scale: 1, x: 0, y: 0 });
+  const view = reactive<Required<View>>({ scale: 1, x: 0, y: 0, stretchY: 1 });
   const box = reactive<Size>({ width: 0, height: 0 });
   /** True once the view was fitted (or set) for a known image and box. */
   const ready = ref(false);
@@ -265,12 +294,17 @@ export function useViewport(options: ViewportOptions) {
   const padding = options.fitPadding ?? 16;
 
   const image = computed(() => toValue(options.image));
-  const fitScale = computed(() => fitView(image.value, box, padding).scale);
+  const stretch = computed(() => {
+    const s = options.stretchY === undefined ? 1 : Number(toValue(options.stretchY));
+    return s > 0 && Number.isFinite(s) ? s : 1;
+  });
+  view.stretchY = stretch.value;
+  const fitScale = computed(() => fitView(image.value, box, padding, stretch.value).scale);
   const minScale = computed(() => Math.min(fitScale.value * (options.minFitFraction ?? 0.5), maxScale));
 
   function set(next: View): void {
     const scale = clamp(next.scale, minScale.value, maxScale);
-    const v = clampPan({ scale, x: next.x, y: next.y }, image.value, box);
+    const v = clampPan({ scale, x: next.x, y: next.y, stretchY: view.stretchY }, image.value, box);
     view.scale = v.scale;
     view.x = v.x;
     view.y = v.y;
@@ -278,12 +312,22 @@ export function useViewport(options: ViewportOptions) {
 
   function fit(): void {
     if (image.value.width <= 0 || box.width <= 0) return;
-    const v = fitView(image.value, box, padding);
+    const v = fitView(image.value, box, padding, view.stretchY);
     view.scale = v.scale;
     view.x = v.x;
     view.y = v.y;
     ready.value = true;
   }
+
+  // A new stretch keeps the image point at the box centre where it is.
+  watch(stretch, (sy) => {
+    if (sy === view.stretchY) return;
+    const cy = box.height / 2;
+    const v = (cy - view.y) / (view.scale * view.stretchY);
+    view.stretchY = sy;
+    if (!ready.value) return;
+    set({ scale: view.scale, x: view.x, y: cy - v * view.scale * sy });
+  });
 
   /** Resize the box; the first time both image and box are known the view is fitted. */
   function setBox(width: number, height: number): void {
@@ -296,7 +340,7 @@ export function useViewport(options: ViewportOptions) {
       fit();
     } else if (hadBox) {
       // Keep the image point at the old centre in the new centre.
-      set({ scale: view.scale, x: width / 2 - anchorImg[0] * view.scale, y: height / 2 - anchorImg[1] * view.scale });
+      set({ scale: view.scale, x: width / 2 - anchorImg[0] * view.scale, y: height / 2 - anchorImg[1] * view.scale * view.stretchY });
     }
   }
 
@@ -319,7 +363,7 @@ export function useViewport(options: ViewportOptions) {
   /** Centre the view on an image point, optionally at a new scale. */
   function centerOn(p: readonly number[], scale = view.scale): void {
     const s = clamp(scale, minScale.value, maxScale);
-    set({ scale: s, x: box.width / 2 - p[0] * s, y: box.height / 2 - p[1] * s });
+    set({ scale: s, x: box.width / 2 - p[0] * s, y: box.height / 2 - p[1] * s * view.stretchY });
   }
 
   return {
