@@ -51,6 +51,13 @@ export const router = createRouter({
           meta: { title: 'Section', wide: true },
         },
         {
+          path: 'sections/:sectionId(\\d+)/interpret',
+          name: 'interpret',
+          component: () => import('../pages/InterpretPage.vue'),
+          props: (route) => ({ sectionId: Number(route.params.sectionId) }),
+          meta: { title: 'Interpret', wide: true },
+        },
+        {
           path: 'admin/users',
           name: 'admin-users',
           component: () => import('../pages/AdminUsersPage.vue'),
