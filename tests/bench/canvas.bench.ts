@@ -2,7 +2,7 @@
  * Canvas benchmark: frames per second while panning the interpretation
  * canvas with 10 cycles × 2,000 vertices over a 20,000 × 6,000 px section.
  *
- *   npx tsx tests/bench/canvas.bench.ts [--seconds=6] [--skip-build] [--target=auto|page|harness]
+ *   npx tsx tests/bench/canvas.bench.ts [--seconds=6] [--skip-build] [--shots]
  *
  * Setup (all real): a throwaway PostgreSQL cluster in a temp folder, the
  * Cayline server booted on it (server/index.ts, demo accounts seeded), a
@@ -11,12 +11,10 @@
  * (a 2,000-vertex base, 10 cycle tops of 2,000 vertices, 20 flanks, Margin
  * pins, stamps) is saved through the API.
  *
- * Pages measured in headless Debian Chromium (playwright-core):
- *  - `page`: the app's route /sections/:id/interpret, when the router has it;
- *  - `harness`: tests/bench/canvas-harness, which assembles SectionStage +
- *    InterpretationLayer + ToolBar the way that page does, built with Vite
- *    and served with /api proxied to the same server. Measured with the
- *    overlay and without it (tiles only), so the overlay's own cost shows.
+ * Page measured in headless Debian Chromium (playwright-core): the app's
+ * interpretation canvas, /sections/:id/interpret (built with `vite build`
+ * and served by the Cayline server), with the buildup loaded into the
+ * Ledger, live Readings and autosave running as a person would have them.
  *
  * A scripted pan (left-button drags across the stage, both directions)
  * runs while the page counts requestAnimationFrame callbacks. Printed:
@@ -24,7 +22,6 @@
  * ceiling), and the slowest frame. Never fails on time.
  */
 import fs from 'node:fs';
-import http from 'node:http';
 import os from 'node:os';
 import path from 'node:path';
 import { spawnSync } from 'node:child_process';
@@ -52,9 +49,6 @@ const args = new Map(
 );
 const SECONDS = Number(args.get('seconds') ?? 6);
 const SKIP_BUILD = args.has('skip-build');
-const TARGET = (args.get('target') ?? 'auto') as 'auto' | 'page' | 'harness';
-/** Harness runs: 1 = with the overlay, 0 = tiles only, empty = two empty overlay layers (compositing cost alone). */
-const MODES = (args.get('modes') ?? '1,0').split(',');
 
 const log = (m: string) => console.log(`[canvas.bench] ${m}`);
 
@@ -127,37 +121,6 @@ async function api<T>(base: string, token: string | null, method: string, p: str
   const text = await r.text();
   if (!r.ok) throw new Error(`${method} ${p} → ${r.status} ${text.slice(0, 300)}`);
   return (text ? JSON.parse(text) : null) as T;
-}
-
-/** A static server for the harness build with /api proxied to the app. */
-function serveHarness(dir: string, appUrl: string): Promise<{ url: string; close(): Promise<void> }> {
-  const target = new URL(appUrl);
-  const host = target.hostname === 'localhost' ? '127.0.0.1' : target.hostname;
-  const types: Record<string, string> = { '.html': 'text/html', '.js': 'text/javascript', '.css': 'text/css', '.woff2': 'font/woff2', '.woff': 'font/woff' };
-  const server = http.createServer((req, res) => {
-    if (req.url?.startsWith('/api/')) {
-      const up = http.request({ host, port: target.port, path: req.url, method: req.method, headers: req.headers }, (r) => {
-        res.writeHead(r.statusCode ?? 502, r.headers);
-        r.pipe(res);
-      });
-      up.on('error', () => res.writeHead(502).end());
-      req.pipe(up);
-      return;
-    }
-    const rel = decodeURIComponent(new URL(req.url ?? '/', 'http://x').pathname);
-    const file = path.join(dir, rel === '/' ? 'index.html' : rel);
-    if (!file.startsWith(dir) || !fs.existsSync(file) || fs.statSync(file).isDirectory()) {
-      res.writeHead(200, { 'Content-Type': 'text/html' }).end(fs.readFileSync(path.join(dir, 'index.html')));
-      return;
-    }
-    res.writeHead(200, { 'Content-Type': types[path.extname(file)] ?? 'application/octet-stream' }).end(fs.readFileSync(file));
-  });
-  return new Promise((resolve) =>
-    server.listen(0, '127.0.0.1', () => {
-      const a = server.address() as { port: number };
-      resolve({ url: `http://127.0.0.1:${a.port}`, close: () => new Promise<void>((r) => server.close(() => r())) });
-    }),
-  );
 }
 
 // ---------------------------------------------------------------------------
@@ -320,29 +283,11 @@ async function main(): Promise<void> {
   };
   interrupted = cleanUp;
   try {
-    const routerText = fs.readFileSync(path.join(ROOT_DIR, 'client/router/index.ts'), 'utf8');
-    const hasPage = /sections\/:sectionId[^'"]*\/interpret/.test(routerText);
-    const target = TARGET === 'auto' ? (hasPage ? 'page' : 'harness') : TARGET;
-    if (target === 'page' && !hasPage) log('the router has no /sections/:sectionId/interpret route yet; the page run will likely show no overlay');
-
-    // 1. builds
-    if (target === 'page' && !SKIP_BUILD) {
+    // 1. build
+    if (!SKIP_BUILD) {
       log('building the client (vite build)…');
       const r = spawnSync(path.join(ROOT_DIR, 'node_modules/.bin/vite'), ['build', '--logLevel', 'warn'], { cwd: ROOT_DIR, stdio: 'inherit' });
       if (r.status !== 0) throw new Error('vite build failed');
-    }
-    const harnessOut = path.join(tmp, 'harness');
-    if (target === 'harness') {
-      log('building the harness…');
-      const { build } = await import('vite');
-      const vue = (await import('@vitejs/plugin-vue')).default;
-      await build({
-        configFile: false,
-        root: path.join(ROOT_DIR, 'tests/bench/canvas-harness'),
-        plugins: [vue()],
-        logLevel: 'warn',
-        build: { outDir: harnessOut, emptyOutDir: true, chunkSizeWarningLimit: 4000 },
-      });
     }
 
     // 2. database and server
@@ -433,28 +378,19 @@ async function main(): Promise<void> {
     log(`empty page: ${empty.fps.toFixed(1)} rAF/s`);
 
     const results: { name: string; run: Run }[] = [];
-    if (target === 'page') {
-      await page.addInitScript(
-        ([t, u]) => localStorage.setItem('cayline.session', JSON.stringify({ token: t, expiresAt: null, user: u })),
-        [token, login.user] as const,
-      );
-      await page.goto(`${base}/sections/${sectionId}/interpret`);
-      await waitForStage(page);
-      results.push({ name: 'interpret page, pan', run: await measure(page, true) });
-      await page.screenshot({ path: path.join(ROOT_DIR, 'tests/bench/canvas-bench.png') });
-    } else {
-      const srv = await serveHarness(harnessOut, base);
-      cleanups.push(() => srv.close());
-      for (const mode of MODES) {
-        const overlay = mode === '1';
-        await page.goto(`${srv.url}/?section=${sectionId}&token=${encodeURIComponent(token)}&user=${encodeURIComponent(JSON.stringify(login.user))}&overlay=${mode}`);
-        await page.waitForSelector('[data-ready="1"]', { timeout: 60_000 });
-        await waitForStage(page);
-        if (overlay) await page.screenshot({ path: path.join(os.tmpdir(), 'cayline-canvas-bench-before.png') });
-        results.push({ name: mode === '1' ? 'harness with overlay, pan' : mode === '0' ? 'harness tiles only, pan' : `harness overlay=${mode}, pan`, run: await measure(page, true) });
-        if (overlay && args.has('shots')) await toolShots(page);
-      }
-    }
+    await page.addInitScript(
+      ([t, u]) => localStorage.setItem('cayline.session', JSON.stringify({ token: t, expiresAt: null, user: u })),
+      [token, login.user] as const,
+    );
+    await page.goto(`${base}/sections/${sectionId}/interpret`);
+    await waitForStage(page);
+    await page.waitForFunction(() => document.querySelectorAll('[data-test="ledger-cycle-row"]').length > 0, undefined, { timeout: 60_000 });
+    const cycles = await page.locator('[data-test="ledger-cycle-row"]').count();
+    log(`interpret page loaded: ${cycles} cycles in the Ledger`);
+    results.push({ name: 'interpret page idle', run: await measure(page, false) });
+    results.push({ name: 'interpret page, pan', run: await measure(page, true) });
+    await page.screenshot({ path: path.join(os.tmpdir(), 'cayline-canvas-bench.png') });
+    if (args.has('shots')) await toolShots(page);
 
     console.log('');
     console.log(`Canvas pan benchmark — ${W} × ${H} px section, ${CYCLES} cycles × ${VERTS} vertices, ${SECONDS} s per run, headless Chromium --disable-gpu`);
@@ -464,11 +400,9 @@ async function main(): Promise<void> {
         `  ${name.padEnd(28)} ${run.fps.toFixed(1).padStart(5)} fps (ratio to empty page ${(run.fps / empty.fps).toFixed(2)})   slowest frame ${run.maxFrameMs.toFixed(0)} ms   ` +
           `pan steps ${run.stepsPerS.toFixed(1)}/s   Konva draw per frame mean ${run.drawMeanMs.toFixed(1)} ms, p95 ${run.drawP95Ms.toFixed(1)} ms (${run.drawFrames} frames)`,
       );
-    const o = results.find((r) => r.name === 'harness with overlay, pan')?.run;
-    const t = results.find((r) => r.name === 'harness tiles only, pan')?.run;
-    if (o && t) {
-      console.log(`  overlay / tiles-only: fps ${(o.fps / t.fps).toFixed(2)}, pan steps ${(o.stepsPerS / t.stepsPerS).toFixed(2)}, draw time ${(o.drawMeanMs / t.drawMeanMs).toFixed(2)}×`);
-    }
+    const idle = results.find((r) => r.name === 'interpret page idle')?.run;
+    const pan = results.find((r) => r.name === 'interpret page, pan')?.run;
+    if (idle && pan) console.log(`  pan / idle page: fps ${(pan.fps / idle.fps).toFixed(2)}`);
     console.log(`  image responses by status: ${JSON.stringify(Object.fromEntries(imageStatus))}`);
     if (errors.length) console.log(`  page errors:\n    ${errors.join('\n    ')}`);
   } finally {
