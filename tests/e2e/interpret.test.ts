@@ -301,5 +301,42 @@ describe('interpretation canvas', () => {
     await page.keyboard.press('Control+z');
     await expect.poll(() => page.locator('[data-test="ledger-cycle-age-input"]').first().inputValue()).toBe('11.5');
     await expect.poll(() => classOf(page)).toBe('drowned');
+    await expect.poll(() => saveState(page), { timeout: 15_000 }).toBe('saved');
+  });
+
+  it('shows the canvas read-only to a reviewer member', async () => {
+    const p2 = b2!.page;
+    await p2.evaluate(() => localStorage.clear());
+    await signIn(p2, 'reviewer@tessel.example');
+    await p2.goto(`/sections/${tb11}/interpret`);
+    await expect.poll(() => p2.locator('[data-test="ledger-cycle-row"]').count(), { timeout: 15_000 }).toBe(2);
+    expect(await saveState(p2)).toBe('readonly');
+    expect(await p2.locator('[data-test="tool-trace"]').isDisabled()).toBe(true);
+    expect(await p2.locator('[data-test="tool-ruler"]').isDisabled()).toBe(false);
+    expect(await p2.locator('[data-test="ledger-buildup-create"]').count()).toBe(0);
+    expect(await p2.locator('[data-test="ledger-cycle-add"]').count()).toBe(0);
+    // Tool letters of the editing tools do nothing; the Ruler's works.
+    await p2.locator('[data-test="section-stage"]').focus();
+    await p2.keyboard.press('l');
+    expect(await p2.locator('[data-test="interpret-stage"]').getAttribute('data-tool')).toBe('select');
+    await p2.keyboard.press('u');
+    await expect.poll(() => p2.locator('[data-test="interpret-stage"]').getAttribute('data-tool')).toBe('ruler');
+    // Readings are there for reading.
+    await expect.poll(() => classOf(p2)).toBe('drowned');
+    await b2!.shot('39-reviewer-readonly');
+
+    // Vertical stretch: the display doubles vertically, the readout stays in true image pixels.
+    const stretchInput = p2.locator('[data-test="ve-stretch-input"]');
+    await stretchInput.fill('2');
+    await stretchInput.press('Enter');
+    await expect.poll(async () => (await viewOf(p2)).stretch).toBe(2);
+    const at: Pt = [1300, 470];
+    const [q] = await screenOf(p2, [at]);
+    await p2.mouse.move(q[0], q[1]);
+    const px = (await p2.locator('[data-test="readout-px"]').textContent())!.replace(/(\d),(\d)/g, '$1$2').match(/\d+/g)!.map(Number);
+    expect(Math.abs(px[0] - at[0])).toBeLessThanOrEqual(2);
+    expect(Math.abs(px[1] - at[1])).toBeLessThanOrEqual(2);
+    expect(await p2.locator('[data-test="ve-readout"]').textContent()).toMatch(/^VE ≈ [\d.]+×$/);
+    await b2!.shot('40-stretch-2x');
   });
 });
