@@ -350,7 +350,7 @@ describe('calibration', () => {
   beforeAll(async () => {
     const r = await upload(t, interp, demoId, await makeImage('png', 1000, 500), 'cal.png', {
       ...FIELDS,
-      // about 10.0 km east-west at 27.3° N (invented open-ocean coordinates)
+      // about 10.0 km east-west at 27.3° N (invented coordinates, no named place)
       startLon: '4.0',
       startLat: '27.3',
       endLon: '4.1011',
