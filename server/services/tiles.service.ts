@@ -244,7 +244,17 @@ export async function buildPyramid(srcPath: string, outDir: string, opts: BuildO
     tileSize,
     channels,
     pool: new Pool(Math.max(1, opts.concurrency ?? 4)),
-    jpeg: { quality: opts.quality ?? 90, chromaSubsampling: '4:4:4' },
+    // libjpeg-turbo's fast path: no trellis, no progressive scans, standard
+    // Huffman tables (optimised tables save ~15 % of the bytes at twice the encode time).
+    jpeg: {
+      quality: opts.quality ?? 90,
+      chromaSubsampling: '4:4:4',
+      mozjpeg: false,
+      trellisQuantisation: false,
+      overshootDeringing: false,
+      optimiseScans: false,
+      optimiseCoding: false,
+    },
     tileCount: 0,
   };
   let writer: LevelWriter | null = null;
