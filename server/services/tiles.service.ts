@@ -9,11 +9,14 @@
  * `preview.jpg` (fits in 2048×2048), `thumbnail.jpg` (fits in 320×320) and
  * `pyramid.json`.
  *
- * Why not `sharp().tile()`: it gives no progress. Here the image is decoded
- * once into libvips' uncompressed format on scratch disk, then read back in
- * strips of `tileSize` rows; tiles are encoded on several libuv threads at
- * once (tests/bench/tiles.bench.ts prints both ways). Memory stays bounded:
- * one strip per level plus the preview level.
+ * Why not `sharp().tile()`: it gives no progress (and is slower here). The
+ * image is decoded once by libvips into its uncompressed format on scratch
+ * disk; while the decoder is still writing, finished strips of `tileSize`
+ * rows are read back, so decoding and tiling run on different cores. Tiles
+ * are cut from each strip by libvips and JPEG-encoded on several libuv
+ * threads at once (tests/bench/tiles.bench.ts prints both ways). Memory stays
+ * bounded: a strip per level, the strips of tiles in flight, and the preview
+ * level.
  */
 import fsp from 'node:fs/promises';
 import path from 'node:path';
@@ -46,14 +49,14 @@ export interface BuildOptions {
   quality?: number;
   /** Tile encodings in flight at once (each runs on a libuv thread). */
   concurrency?: number;
-  /** Called with the done fraction 0..1 (decoding counts for DECODE_SHARE, then tile strips). */
+  /** Called with the done fraction 0..1: full-size strips tiled (decoding runs alongside), then the last levels and previews. */
   onProgress?: (fraction: number) => void;
   /** A private local scratch folder (outside `outDir`) for the decoded image. */
   workDir: string;
 }
 
-/** Share of the progress given to decoding (about what it costs next to the tiles, measured). */
-export const DECODE_SHARE = 0.3;
+/** Share of the progress given to the full-size strips (the rest: the small levels' last strips, preview, thumbnail). */
+const PROGRESS_TILES = 0.97;
 const VIPS_HEADER_BYTES = 64;
 
 /** The 64-byte header of libvips' own format: sizes at 4/8/12, band format at 20 (0 = uchar), coding at 24 (0 = none). */
@@ -103,24 +106,44 @@ export function fitInside(width: number, height: number, box: number): { width: 
 }
 
 /** 2×2 box average, output size ceil(w/2) × ceil(h/2), last row/column repeated when odd. */
-export function halve(src: Buffer, w: number, h: number, ch: number): Buffer {
+export function halve(src: Uint8Array, w: number, h: number, ch: number): Buffer {
+  const out = Buffer.allocUnsafe(((w + 1) >> 1) * ((h + 1) >> 1) * ch);
+  halveInto(src, w, h, ch, out, 0);
+  return out;
+}
+
+/**
+ * `halve` writing into `dst` from byte `at`. Plain index loops specialised for
+ * one and three channels (no per-pixel edge tests; the odd last column is
+ * done apart), about twice as fast as the general loop.
+ */
+export function halveInto(src: Uint8Array, w: number, h: number, ch: number, dst: Uint8Array, at: number): void {
   const ow = (w + 1) >> 1;
   const oh = (h + 1) >> 1;
-  const out = Buffer.allocUnsafe(ow * oh * ch);
+  const pairs = w >> 1; // output columns made of two source columns
   const rb = w * ch;
-  let o = 0;
+  if (dst.length < at + ow * oh * ch) throw new Error('halveInto: destination too small');
   for (let j = 0; j < oh; j++) {
-    const r0 = 2 * j * rb;
-    const r1 = (2 * j + 1 < h ? 2 * j + 1 : 2 * j) * rb;
-    for (let i = 0; i < ow; i++) {
-      const c0 = 2 * i * ch;
-      const c1 = (2 * i + 1 < w ? 2 * i + 1 : 2 * i) * ch;
-      for (let k = 0; k < ch; k++) {
-        out[o++] = (src[r0 + c0 + k] + src[r0 + c1 + k] + src[r1 + c0 + k] + src[r1 + c1 + k] + 2) >> 2;
+    let a = 2 * j * rb; // upper source row
+    let b = 2 * j + 1 < h ? a + rb : a; // lower source row (repeated at an odd bottom edge)
+    let o = at + j * ow * ch;
+    if (ch === 1) {
+      for (let i = 0; i < pairs; i++, a += 2, b += 2) dst[o++] = (src[a] + src[a + 1] + src[b] + src[b + 1] + 2) >> 2;
+      if (w & 1) dst[o] = (src[a] + src[b] + 1) >> 1;
+    } else if (ch === 3) {
+      for (let i = 0; i < pairs; i++, a += 6, b += 6, o += 3) {
+        dst[o] = (src[a] + src[a + 3] + src[b] + src[b + 3] + 2) >> 2;
+        dst[o + 1] = (src[a + 1] + src[a + 4] + src[b + 1] + src[b + 4] + 2) >> 2;
+        dst[o + 2] = (src[a + 2] + src[a + 5] + src[b + 2] + src[b + 5] + 2) >> 2;
       }
+      if (w & 1) for (let k = 0; k < 3; k++) dst[o + k] = (src[a + k] + src[b + k] + 1) >> 1;
+    } else {
+      for (let i = 0; i < pairs; i++, a += 2 * ch, b += 2 * ch) {
+        for (let k = 0; k < ch; k++) dst[o++] = (src[a + k] + src[a + ch + k] + src[b + k] + src[b + ch + k] + 2) >> 2;
+      }
+      if (w & 1) for (let k = 0; k < ch; k++) dst[o++] = (src[a + k] + src[b + k] + 1) >> 1;
     }
   }
-  return out;
 }
 
 /** At most `limit` promises in flight; the first failure is rethrown. */
@@ -154,11 +177,17 @@ interface Shared {
   tileCount: number;
 }
 
-/** One pyramid level: collects rows into a strip of `tileSize` rows, writes its tiles, feeds the level below. */
+/**
+ * One pyramid level: collects rows into a strip of `tileSize` rows, writes its
+ * tiles, feeds the level below. A strip is never reused: its tiles are cut
+ * from it by libvips (no copies in JS) while they wait in the pool, and a new
+ * one is allocated for the next rows.
+ */
 class LevelWriter {
-  private strip: Buffer;
-  private filled = 0; // bytes in the strip
+  private strip: Buffer | null = null;
+  private rows = 0; // rows in the strip
   private stripRow = 0; // tile row index of the strip being filled
+  private readonly stripRows: number;
   private readonly rowBytes: number;
   capture: Buffer | null = null;
   private capturedRows = 0;
@@ -169,57 +198,68 @@ class LevelWriter {
     readonly next: LevelWriter | null,
   ) {
     this.rowBytes = level.width * s.channels;
-    this.strip = Buffer.allocUnsafe(Math.min(s.tileSize, level.height) * this.rowBytes);
+    this.stripRows = Math.min(s.tileSize, level.height);
   }
 
-  async addBytes(chunk: Buffer) {
-    let off = 0;
-    while (off < chunk.length) {
-      const n = Math.min(chunk.length - off, this.strip.length - this.filled);
-      chunk.copy(this.strip, this.filled, off, off + n);
-      this.filled += n;
-      off += n;
-      if (this.filled === this.strip.length) await this.flush();
+  /** Take a whole strip of the full-size level (`rows` rows, the buffer is kept). */
+  async addStrip(strip: Buffer, rows: number) {
+    if (this.rows !== 0 || rows !== Math.min(this.stripRows, this.level.height - this.stripRow * this.s.tileSize)) {
+      throw new Error('pyramid: strips out of step');
     }
+    this.strip = strip;
+    this.rows = rows;
+    await this.flush();
+  }
+
+  /** Take the 2×2 average of `rows` rows of the level above (`src`, `srcWidth` wide). */
+  private async addHalfOf(src: Buffer, srcWidth: number, rows: number) {
+    const out = (rows + 1) >> 1;
+    if (this.rows + out > this.stripRows) throw new Error('pyramid: strips out of step');
+    this.strip ??= Buffer.allocUnsafe(this.stripRows * this.rowBytes);
+    halveInto(src, srcWidth, rows, this.s.channels, this.strip, this.rows * this.rowBytes);
+    this.rows += out;
+    if (this.rows === this.stripRows) await this.flush();
   }
 
   private async flush() {
-    if (this.filled === 0) return;
-    if (this.filled % this.rowBytes !== 0) throw new Error('pyramid: the decoder stopped in the middle of a row');
-    const rows = this.filled / this.rowBytes;
-    const { tileSize: T, channels: ch, pool } = this.s;
+    const strip = this.strip;
+    const rows = this.rows;
+    if (!strip || rows === 0) return;
+    this.strip = null;
+    this.rows = 0;
+    const { tileSize: T, channels: ch, pool, jpeg } = this.s;
     const { width, z } = this.level;
     const dir = path.join(this.s.outDir, 'tiles', String(z));
     if (this.stripRow === 0) await fsp.mkdir(dir, { recursive: true });
+    const raw = { width, height: rows, channels: ch as 1 | 3 };
+    const space = ch === 1 ? 'b-w' : 'srgb'; // keep greyscale tiles single-channel (sharp would widen them to sRGB)
     for (let x = 0; x * T < width; x++) {
       const tw = Math.min(T, width - x * T);
-      const tile = Buffer.allocUnsafe(tw * rows * ch);
-      for (let r = 0; r < rows; r++) {
-        const from = r * this.rowBytes + x * T * ch;
-        this.strip.copy(tile, r * tw * ch, from, from + tw * ch);
-      }
       const file = path.join(dir, `${x}_${this.stripRow}.${TILE_EXT}`);
-      const jpeg = this.s.jpeg;
-      const space = ch === 1 ? 'b-w' : 'srgb'; // keep greyscale tiles single-channel (sharp would widen them to sRGB)
-      await pool.add(() => sharp(tile, { raw: { width: tw, height: rows, channels: ch as 1 | 3 } }).toColourspace(space).jpeg(jpeg).toFile(file));
+      await pool.add(() => {
+        let img = sharp(strip, { raw });
+        if (tw !== width) img = img.extract({ left: x * T, top: 0, width: tw, height: rows });
+        return img.toColourspace(space).jpeg(jpeg).toFile(file);
+      });
       this.s.tileCount++;
     }
     if (this.capture) {
-      this.strip.copy(this.capture, this.capturedRows * this.rowBytes, 0, this.filled);
+      strip.copy(this.capture, this.capturedRows * this.rowBytes, 0, rows * this.rowBytes);
       this.capturedRows += rows;
     }
-    const half = this.next ? halve(this.strip.subarray(0, this.filled), width, rows, ch) : null;
-    this.filled = 0;
     this.stripRow++;
-    if (half) await this.next!.addBytes(half);
+    if (this.next) await this.next.addHalfOf(strip, width, rows);
   }
 
   async finish() {
     await this.flush();
+    if (this.stripRow !== this.level.rows) throw new Error(`pyramid: level ${this.level.z} incomplete`);
     if (this.capturedRows && this.capturedRows !== this.level.height) throw new Error('pyramid: preview level incomplete');
     if (this.next) await this.next.finish();
   }
 }
+
+const sleep = (ms: number) => new Promise((resolve) => setTimeout(resolve, ms));
 
 /**
  * Decode `srcPath` once and write the pyramid, preview and thumbnail into
@@ -228,6 +268,7 @@ class LevelWriter {
  */
 export async function buildPyramid(srcPath: string, outDir: string, opts: BuildOptions): Promise<PyramidResult> {
   const tileSize = opts.tileSize ?? TILE_SIZE;
+  if (!(Number.isInteger(tileSize) && tileSize >= 2 && tileSize % 2 === 0)) throw new Error(`tileSize: must be an even integer ≥ 2, got ${tileSize}`);
   const meta = await sharp(srcPath, { limitInputPixels: opts.limitInputPixels }).metadata();
   const width = meta.width;
   const height = meta.height;
@@ -272,35 +313,62 @@ export async function buildPyramid(srcPath: string, outDir: string, opts: BuildO
   const source = [...writers].reverse().find((w) => w.level.width >= preview.width && w.level.height >= preview.height) ?? top;
   source.capture = Buffer.allocUnsafe(source.level.width * source.level.height * channels);
 
-  // Stage 1: decode once into libvips' uncompressed format on local scratch
-  // disk (libvips streams it: memory stays bounded for huge images).
+  // libvips decodes once into its uncompressed format on local scratch disk
+  // (streamed: memory stays bounded for huge images) and writes it top to
+  // bottom; the strips are tiled as soon as their rows are on disk, so
+  // decoding (one thread) and tiling (the others) overlap.
   const decoded = path.join(opts.workDir, `decoded-${process.pid}-${Date.now()}.v`);
+  let decodeEnded = false;
+  let decodeError: unknown = null;
+  let decoder = sharp(srcPath, { limitInputPixels: opts.limitInputPixels, sequentialRead: true });
+  if (meta.hasAlpha) decoder = decoder.flatten({ background: '#ffffff' });
+  const decoding = decoder
+    .toColourspace(grey ? 'b-w' : 'srgb')
+    .toFile(decoded)
+    .then(
+      () => void (decodeEnded = true),
+      (e) => void ((decodeError = e), (decodeEnded = true)),
+    );
+  let pause = 2;
+  /** Wait until the decoded file holds `bytes` bytes; throws if decoding failed or stopped short. */
+  const decodedUpTo = async (bytes: number) => {
+    for (;;) {
+      const ended = decodeEnded; // read before the size: an ended decoder has written everything
+      if (decodeError) throw decodeError;
+      const size = await fsp.stat(decoded).then((st) => st.size, () => 0);
+      if (size >= bytes) return;
+      if (ended) throw new Error('the decoded image ended early');
+      await Promise.race([sleep(pause), decoding]);
+      pause = Math.min(20, pause * 2);
+    }
+  };
   try {
-    let decoder = sharp(srcPath, { limitInputPixels: opts.limitInputPixels, sequentialRead: true });
-    if (meta.hasAlpha) decoder = decoder.flatten({ background: '#ffffff' });
-    await decoder.toColourspace(grey ? 'b-w' : 'srgb').toFile(decoded);
-    opts.onProgress?.(DECODE_SHARE);
-
-    // Stage 2: read it in strips of `tileSize` rows; each level writes its tiles and feeds the next.
+    await decodedUpTo(VIPS_HEADER_BYTES);
     const fh = await fsp.open(decoded, 'r');
     try {
       const header = Buffer.alloc(VIPS_HEADER_BYTES);
       await fh.read(header, 0, VIPS_HEADER_BYTES, 0);
       checkVipsHeader(header, width, height, channels);
       const rowBytes = width * channels;
-      const strip = Buffer.allocUnsafe(Math.min(tileSize, height) * rowBytes);
       for (let y = 0; y < height; y += tileSize) {
         const rows = Math.min(tileSize, height - y);
         const want = rows * rowBytes;
-        const { bytesRead } = await fh.read(strip, 0, want, VIPS_HEADER_BYTES + y * rowBytes);
+        const at = VIPS_HEADER_BYTES + y * rowBytes;
+        await decodedUpTo(at + want);
+        pause = 2;
+        const strip = Buffer.allocUnsafe(want);
+        const { bytesRead } = await fh.read(strip, 0, want, at);
         if (bytesRead !== want) throw new Error('the decoded image ended early');
-        await top.addBytes(strip.subarray(0, want));
-        opts.onProgress?.(DECODE_SHARE + (1 - DECODE_SHARE) * ((y + rows) / height));
+        await top.addStrip(strip, rows);
+        opts.onProgress?.(PROGRESS_TILES * ((y + rows) / height));
       }
     } finally {
       await fh.close();
     }
+    await decoding;
+    if (decodeError) throw decodeError;
   } finally {
+    await decoding; // never remove the file under a running decoder
     await fsp.rm(decoded, { force: true });
   }
   await top.finish();
@@ -315,6 +383,7 @@ export async function buildPyramid(srcPath: string, outDir: string, opts: BuildO
       .jpeg({ quality })
       .toFile(path.join(outDir, name));
   }
+  opts.onProgress?.(1);
 
   const result: PyramidResult = {
     width,
