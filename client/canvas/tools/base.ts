@@ -124,3 +124,36 @@ export abstract class BaseTool implements ToolController {
 export function tidy(p: Pt): Pt {
   return [Math.round(p[0] * 100) / 100, Math.round(p[1] * 100) / 100];
 }
+
+/**
+ * A tool that places an object with a click and moves an existing one with a
+ * drag (Margin pin, Termination stamp). The click that ends a drag must not
+ * also place a new object, so a finished drag swallows the next click.
+ */
+export abstract class DragOrPlaceTool<D> extends BaseTool {
+  protected drag: D | null = null;
+  private swallowClick = false;
+
+  /** Call from pointerDown when the press grabbed an existing object (or with null when it did not). */
+  protected beginDrag(d: D | null): boolean {
+    this.swallowClick = false;
+    this.drag = d;
+    return d !== null;
+  }
+
+  pointerUp(_e: ToolPointer): boolean {
+    if (!this.drag) return false;
+    this.drag = null;
+    this.swallowClick = true;
+    this.env.endGesture();
+    return true;
+  }
+
+  /** True (once) when this click only ends a drag. */
+  protected clickEndsDrag(): boolean {
+    if (!this.swallowClick) return false;
+    this.swallowClick = false;
+    return true;
+  }
+}
+

@@ -12,7 +12,7 @@
 import { actions } from '../actions';
 import { dist2, type Pt } from '../geometry';
 import type { EditorBuildup, EditorCycle, Side } from '../model';
-import { BaseTool, tidy } from './base';
+import { DragOrPlaceTool, tidy } from './base';
 import { hitTest, nearestOnPolyline } from './hitTest';
 import { MARGIN_SIDE_MODES, type MarginSideMode, type ToolKey, type ToolPointer } from './types';
 
@@ -49,12 +49,9 @@ export function onPolyline(top: readonly Pt[], p: Pt, r: number): Pt | null {
   return near ? tidy(near.point) : null;
 }
 
-export class MarginPinTool extends BaseTool {
+export class MarginPinTool extends DragOrPlaceTool<{ buildupId: string; cycleId: string; side: Side; moved: boolean }> {
   readonly id = 'marginPin' as const;
   private _mode: MarginSideMode = 'nearer';
-  /** The click that ends a press on an existing pin/stamp is part of that gesture, not a new placement. */
-  private swallowClick = false;
-  private drag: { buildupId: string; cycleId: string; side: Side; moved: boolean } | null = null;
 
   get mode(): MarginSideMode {
     return this._mode;
@@ -105,27 +102,14 @@ export class MarginPinTool extends BaseTool {
   }
 
   pointerDown(e: ToolPointer): boolean {
-    this.swallowClick = false;
     const h = hitTest(this.env.state(), e.image, this.radiusPx, e.scale, { kinds: ['margin'] });
-    if (!h || h.kind !== 'margin') return false;
+    if (h?.kind !== 'margin') return this.beginDrag(null);
     this.env.select(h.buildupId, h.cycleId, { kind: h.side === 'left' ? 'marginLeft' : 'marginRight' });
-    this.drag = { buildupId: h.buildupId, cycleId: h.cycleId, side: h.side, moved: false };
-    return true;
-  }
-
-  pointerUp(_e: ToolPointer): boolean {
-    if (!this.drag) return false;
-    this.drag = null;
-    this.swallowClick = true;
-    this.env.endGesture();
-    return true;
+    return this.beginDrag({ buildupId: h.buildupId, cycleId: h.cycleId, side: h.side, moved: false });
   }
 
   click(e: ToolPointer): boolean {
-    if (this.swallowClick) {
-      this.swallowClick = false;
-      return true;
-    }
+    if (this.clickEndsDrag()) return true;
     const cur = this.current(e.image[0]);
     if ('message' in cur) {
       this.setPreview({ kind: 'margin', at: null, side: null, cycleIndex: null, message: cur.message });

@@ -9,7 +9,7 @@
  */
 import { actions } from '../actions';
 import { TERMINATION_TYPES, newId, type TerminationType } from '../model';
-import { BaseTool, tidy } from './base';
+import { DragOrPlaceTool, tidy } from './base';
 import { hitTest } from './hitTest';
 import type { ToolKey, ToolPointer } from './types';
 
@@ -20,12 +20,9 @@ export const TERMINATION_LABEL: Record<TerminationType, string> = {
   truncation: 'Truncation',
 };
 
-export class StampTool extends BaseTool {
+export class StampTool extends DragOrPlaceTool<{ buildupId: string; terminationId: string; moved: boolean }> {
   readonly id = 'stamp' as const;
   private _type: TerminationType = 'onlap';
-  /** The click that ends a press on an existing pin/stamp is part of that gesture, not a new placement. */
-  private swallowClick = false;
-  private drag: { buildupId: string; terminationId: string; moved: boolean } | null = null;
 
   get type(): TerminationType {
     return this._type;
@@ -39,11 +36,10 @@ export class StampTool extends BaseTool {
   }
 
   pointerDown(e: ToolPointer): boolean {
-    this.swallowClick = false;
     const h = hitTest(this.env.state(), e.image, this.radiusPx, e.scale, { kinds: ['termination'] });
-    if (!h || h.kind !== 'termination') return false;
+    if (h?.kind !== 'termination') return this.beginDrag(null);
     this.env.select(h.buildupId, null, { kind: 'termination', terminationId: h.terminationId });
-    this.drag = { buildupId: h.buildupId, terminationId: h.terminationId, moved: false };
+    this.beginDrag({ buildupId: h.buildupId, terminationId: h.terminationId, moved: false });
     this.setPreview({ kind: 'stamp', at: null, type: this._type, snap: null });
     return true;
   }
@@ -61,19 +57,8 @@ export class StampTool extends BaseTool {
     return false;
   }
 
-  pointerUp(_e: ToolPointer): boolean {
-    if (!this.drag) return false;
-    this.drag = null;
-    this.swallowClick = true;
-    this.env.endGesture();
-    return true;
-  }
-
   click(e: ToolPointer): boolean {
-    if (this.swallowClick) {
-      this.swallowClick = false;
-      return true;
-    }
+    if (this.clickEndsDrag()) return true;
     const s = this.snapPoint(e.image, e.scale);
     const at = s.hit ? s.point : tidy(s.point);
     const b = this.targetBuildup(at[0]);
