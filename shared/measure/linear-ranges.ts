@@ -21,8 +21,8 @@
  * (tests compare the two); if the model turns out not to be linear within
  * 1e-9 relative, the caller falls back to the direct sampler.
  */
-import { flankAngles } from './flank';
-import { interpolateAt } from './geometry';
+import { FLANK_SAMPLES } from './flank';
+import { DEG, interpolateAt } from './geometry';
 import { piecesOf, planEnvelope } from './envelope';
 import type { PreparedBuildup } from './prepare';
 import { isRange, makeTwtToDepth, resolveVelocityModel, type Range, type Speed, type VelocityModel } from './velocity';
@@ -269,7 +269,7 @@ export function linearSamplerFor(b: PreparedBuildup, model: VelocityModel): Line
   const cr = new Float64Array(maxCand);
   const baseZ = new Float64Array(nb);
   const flankSrc = [...b.flanksL, ...b.flanksR].map((f) => (f ? sources.indexOf(f) : -1));
-  const flankBuf = flankSrc.map((s) => (s >= 0 ? new Float64Array(srcOff[s + 1] - srcOff[s]) : null));
+  const flanks = flankSrc.map((s) => (s >= 0 ? flankScratch(sources[s].xs, C, srcOff[s], K) : null));
   const acc = new Float64Array(4);
   const dot = (arr: Float64Array, o: number, V: Float64Array) => {
     let s = 0;
@@ -356,22 +356,145 @@ export function linearSamplerFor(b: PreparedBuildup, model: VelocityModel): Line
       out.areaM2 = acc[0] + acc[1];
       out.volumeM3 = Math.PI * (momLeft + momRight);
       // flanks
-      for (let f = 0; f < flankSrc.length; f++) {
-        const s = flankSrc[f];
-        const buf = flankBuf[f];
-        const cycle = f % n;
-        const side = f < n ? out.left : out.right;
-        if (s < 0 || !buf) { side[cycle] = NaN; continue; }
-        const base = srcOff[s] * K;
-        if (K === 3) {
-          const v0 = V[0], v1 = V[1], v2 = V[2];
-          for (let i = 0, r = base; i < buf.length; i++, r += 3) buf[i] = C[r] * v0 + C[r + 1] * v1 + C[r + 2] * v2;
-        } else if (K === 1) {
-          const v0 = V[0];
-          for (let i = 0, r = base; i < buf.length; i++, r++) buf[i] = C[r] * v0;
-        } else for (let i = 0; i < buf.length; i++) buf[i] = dot(C, base + i * K, V);
-        side[cycle] = flankAngles(sources[s].xs, buf).flankAngleDeg ?? NaN;
+      for (let f = 0; f < flanks.length; f++) {
+        const fd = flanks[f];
+        (f < n ? out.left : out.right)[f % n] = fd ? flankAngleOfDraw(fd, V) : NaN;
       }
     },
   };
+}
+
+/**
+ * One flank's preallocated data for the per-draw angle: x, x steps squared,
+ * depth coefficients one array per velocity (sequential reads), and scratch
+ * for depths, cumulative arc length and the resampled points.
+ */
+interface FlankScratch {
+  n: number;
+  K: number;
+  xs: Float64Array;
+  dxx: Float64Array;
+  cols: Float64Array[];
+  z: Float64Array;
+  cum: Float64Array;
+  sx: Float64Array;
+  sz: Float64Array;
+}
+
+function flankScratch(xs: Float64Array, C: Float64Array, row0: number, K: number): FlankScratch {
+  const n = xs.length;
+  const dxx = new Float64Array(n);
+  for (let i = 1; i < n; i++) {
+    const dx = xs[i] - xs[i - 1];
+    dxx[i] = dx * dx;
+  }
+  const cols: Float64Array[] = [];
+  for (let k = 0; k < K; k++) {
+    const col = new Float64Array(n);
+    for (let i = 0; i < n; i++) col[i] = C[(row0 + i) * K + k];
+    cols.push(col);
+  }
+  return { n, K, xs, dxx, cols, z: new Float64Array(n), cum: new Float64Array(n), sx: new Float64Array(FLANK_SAMPLES), sz: new Float64Array(FLANK_SAMPLES) };
+}
+
+/** Depths of the flank's vertices (z = Σ_k C_k·V_k, summed in k order like the direct dot product) and their cumulative arc length; returns the total. */
+function depthsAndArc3(f: FlankScratch, v0: number, v1: number, v2: number): number {
+  const n = f.n, z = f.z, cum = f.cum, dxx = f.dxx;
+  const c0 = f.cols[0], c1 = f.cols[1], c2 = f.cols[2];
+  let zp = c0[0] * v0 + c1[0] * v1 + c2[0] * v2;
+  z[0] = zp;
+  cum[0] = 0;
+  let c = 0;
+  for (let i = 1; i < n; i++) {
+    const zi = c0[i] * v0 + c1[i] * v1 + c2[i] * v2;
+    const dz = zi - zp;
+    c += Math.sqrt(dxx[i] + dz * dz);
+    z[i] = zi;
+    cum[i] = c;
+    zp = zi;
+  }
+  return c;
+}
+
+function depthsAndArc(f: FlankScratch, V: Float64Array): number {
+  const n = f.n, K = f.K, z = f.z, cum = f.cum, dxx = f.dxx, cols = f.cols;
+  for (let i = 0; i < n; i++) z[i] = 0;
+  for (let k = 0; k < K; k++) {
+    const col = cols[k];
+    const v = V[k];
+    for (let i = 0; i < n; i++) z[i] += col[i] * v;
+  }
+  cum[0] = 0;
+  let c = 0;
+  for (let i = 1; i < n; i++) {
+    const dz = z[i] - z[i - 1];
+    c += Math.sqrt(dxx[i] + dz * dz);
+    cum[i] = c;
+  }
+  return c;
+}
+
+/**
+ * Flank angle for one velocity set V: the same arithmetic as `flankAngles`
+ * (same depths, cumulative arc length, FLANK_SAMPLES equal-arc-length
+ * points and two-pass orthogonal regression), so it is bit-for-bit
+ * `flankAngles(xs, depths).flankAngleDeg`; NaN where that is null. The
+ * steepest segment is not computed (the ranges do not report it), and each
+ * sample's segment is found by galloping forward from the previous one
+ * (the cumulative length is non-decreasing, so this is the segment the
+ * linear scan of `flankAngles` stops at).
+ */
+function flankAngleOfDraw(f: FlankScratch, V: Float64Array): number {
+  const n = f.n;
+  if (n < 2) return NaN;
+  const total = f.K === 3 ? depthsAndArc3(f, V[0], V[1], V[2]) : depthsAndArc(f, V);
+  if (!(total > 0)) return NaN;
+  const xs = f.xs, z = f.z, cum = f.cum, sx = f.sx, sz = f.sz;
+  const m = FLANK_SAMPLES;
+  const last = n - 2;
+  let seg = 0;
+  let mx = 0;
+  let mz = 0;
+  for (let k = 0; k < m; k++) {
+    const s = k === m - 1 ? total : (total * k) / (m - 1);
+    // smallest j ≥ seg with j = last or cum[j + 1] ≥ s
+    if (seg < last && cum[seg + 1] < s) {
+      let lo = seg + 1; // predicate false at lo − 1
+      let step = 1;
+      let hi = lo;
+      while (hi < last && cum[hi + 1] < s) {
+        lo = hi + 1;
+        step *= 2;
+        hi = Math.min(last, lo + step);
+      }
+      // predicate true at hi (or hi = last), false below lo
+      while (lo < hi) {
+        const mid = (lo + hi) >> 1;
+        if (cum[mid + 1] < s) lo = mid + 1;
+        else hi = mid;
+      }
+      seg = hi;
+    }
+    const len = cum[seg + 1] - cum[seg];
+    const t = len > 0 ? (s - cum[seg]) / len : 0;
+    const x = xs[seg] + t * (xs[seg + 1] - xs[seg]);
+    const zz = z[seg] + t * (z[seg + 1] - z[seg]);
+    sx[k] = x;
+    sz[k] = zz;
+    mx += x;
+    mz += zz;
+  }
+  mx /= m;
+  mz /= m;
+  let sxx = 0, szz = 0, sxz = 0;
+  for (let k = 0; k < m; k++) {
+    const dx = sx[k] - mx;
+    const dz = sz[k] - mz;
+    sxx += dx * dx;
+    szz += dz * dz;
+    sxz += dx * dz;
+  }
+  // major axis of the covariance (orthogonal regression), folded to 0–90° below horizontal
+  const theta = Math.abs(0.5 * Math.atan2(2 * sxz, sxx - szz)) * DEG;
+  return theta > 90 ? 180 - theta : theta;
 }
