@@ -61,8 +61,23 @@ export interface LinearDraw {
   right: Float64Array;
 }
 
+/** Per-draw results of a batch, indexed by draw; a flank array is null where that flank was not traced (nothing is written). */
+export interface LinearBatch {
+  heightM: Float64Array;
+  areaM2: Float64Array;
+  volumeM3: Float64Array;
+  left: (Float64Array | null)[];
+  right: (Float64Array | null)[];
+}
+
 export interface LinearSampler {
   draw(V: Float64Array, out: LinearDraw): void;
+  /**
+   * The same numbers as `draw` for `draws` velocity sets stored one after
+   * the other in `Vs` (K values each, resolve order). Flanks are done one
+   * flank at a time over all draws, so each flank's data stays in cache.
+   */
+  drawMany(Vs: Float64Array, draws: number, out: LinearBatch): void;
   /** Intervals evaluated exactly in every draw (for diagnostics and tests). */
   complexIntervals: number;
 }
@@ -287,78 +302,101 @@ export function linearSamplerFor(b: PreparedBuildup, model: VelocityModel): Line
     else { acc[1] += area; acc[3] += mom; }
   };
 
+  const core = (V: Float64Array, out: { heightM: number; areaM2: number; volumeM3: number }) => {
+    // crest
+    let zmin = Infinity;
+    for (let c = 0; c < crestRows.length; c++) { const z = dot(C, crestRows[c], V); if (z < zmin) zmin = z; }
+    const eps = 1e-9 * Math.max(1, Math.abs(zmin));
+    let xlo = Infinity, xhi = -Infinity;
+    for (let c = 0; c < crestRows.length; c++) {
+      if (dot(C, crestRows[c], V) <= zmin + eps) { if (crestX[c] < xlo) xlo = crestX[c]; if (crestX[c] > xhi) xhi = crestX[c]; }
+    }
+    const xc = (xlo + xhi) / 2;
+    for (let i = 0; i < nb; i++) baseZ[i] = dot(CB, i * K, V);
+    out.heightM = interpolateAt(bx, baseZ, xc) - zmin;
+    // area and moments: linear sums plus complex intervals
+    acc[0] = dot(aL, 0, V); acc[1] = dot(aR, 0, V); acc[2] = dot(mL, 0, V); acc[3] = dot(mR, 0, V);
+    let o = 0;
+    for (let q = 0; q < cxN.length; q++) {
+      const xa = cxXs[2 * q];
+      const xb = cxXs[2 * q + 1];
+      const bl = dot(cxC, o, V);
+      const br = dot(cxC, o + K, V);
+      o += 2 * K;
+      const m = cxN[q];
+      let argL = 0;
+      for (let c = 0; c < m; c++) {
+        cl[c] = dot(cxC, o, V);
+        cr[c] = dot(cxC, o + K, V);
+        o += 2 * K;
+        if (cl[c] < cl[argL] || (cl[c] === cl[argL] && cr[c] < cr[argL])) argL = c;
+      }
+      // lower envelope of the candidate lines on [xa, xb], integrated against the straight base
+      let s = 0;
+      let cur = argL;
+      for (let guard = 0; guard <= m; guard++) {
+        let best = 1;
+        let nxt = -1;
+        for (let c = 0; c < m; c++) {
+          if (c === cur) continue;
+          const dR = cr[c] - cr[cur];
+          if (!(dR < 0)) continue;
+          const dL = cl[c] - cl[cur];
+          let t = dL / (dL - dR);
+          if (t < s) t = s;
+          if (t < best || (t === best && nxt >= 0 && cr[c] < cr[nxt])) { best = t; nxt = c; }
+        }
+        if (best > s) {
+          const x0 = xa + s * (xb - xa);
+          const x1 = best === 1 ? xb : xa + best * (xb - xa);
+          const h0 = bl + s * (br - bl) - (cl[cur] + s * (cr[cur] - cl[cur]));
+          const h1 = bl + best * (br - bl) - (cl[cur] + best * (cr[cur] - cl[cur]));
+          if (x0 < xc && xc < x1) {
+            const tc = (xc - x0) / (x1 - x0);
+            const hc = h0 + tc * (h1 - h0);
+            addTrap(x0, xc, h0, hc, xc);
+            addTrap(xc, x1, hc, h1, xc);
+          } else addTrap(x0, x1, h0, h1, xc);
+        }
+        if (nxt < 0 || best >= 1) break;
+        s = best;
+        cur = nxt;
+      }
+    }
+    const dxc = xc - xref;
+    const momLeft = dxc * acc[0] - acc[2];
+    const momRight = acc[3] - dxc * acc[1];
+    out.areaM2 = acc[0] + acc[1];
+    out.volumeM3 = Math.PI * (momLeft + momRight);
+  };
+  const Vd = new Float64Array(K);
+  const one = { heightM: 0, areaM2: 0, volumeM3: 0 };
+
   return {
     complexIntervals: cxN.length,
     draw(V, out) {
-      // crest
-      let zmin = Infinity;
-      for (let c = 0; c < crestRows.length; c++) { const z = dot(C, crestRows[c], V); if (z < zmin) zmin = z; }
-      const eps = 1e-9 * Math.max(1, Math.abs(zmin));
-      let xlo = Infinity, xhi = -Infinity;
-      for (let c = 0; c < crestRows.length; c++) {
-        if (dot(C, crestRows[c], V) <= zmin + eps) { if (crestX[c] < xlo) xlo = crestX[c]; if (crestX[c] > xhi) xhi = crestX[c]; }
-      }
-      const xc = (xlo + xhi) / 2;
-      for (let i = 0; i < nb; i++) baseZ[i] = dot(CB, i * K, V);
-      out.heightM = interpolateAt(bx, baseZ, xc) - zmin;
-      // area and moments: linear sums plus complex intervals
-      acc[0] = dot(aL, 0, V); acc[1] = dot(aR, 0, V); acc[2] = dot(mL, 0, V); acc[3] = dot(mR, 0, V);
-      let o = 0;
-      for (let q = 0; q < cxN.length; q++) {
-        const xa = cxXs[2 * q];
-        const xb = cxXs[2 * q + 1];
-        const bl = dot(cxC, o, V);
-        const br = dot(cxC, o + K, V);
-        o += 2 * K;
-        const m = cxN[q];
-        let argL = 0;
-        for (let c = 0; c < m; c++) {
-          cl[c] = dot(cxC, o, V);
-          cr[c] = dot(cxC, o + K, V);
-          o += 2 * K;
-          if (cl[c] < cl[argL] || (cl[c] === cl[argL] && cr[c] < cr[argL])) argL = c;
-        }
-        // lower envelope of the candidate lines on [xa, xb], integrated against the straight base
-        let s = 0;
-        let cur = argL;
-        for (let guard = 0; guard <= m; guard++) {
-          let best = 1;
-          let nxt = -1;
-          for (let c = 0; c < m; c++) {
-            if (c === cur) continue;
-            const dR = cr[c] - cr[cur];
-            if (!(dR < 0)) continue;
-            const dL = cl[c] - cl[cur];
-            let t = dL / (dL - dR);
-            if (t < s) t = s;
-            if (t < best || (t === best && nxt >= 0 && cr[c] < cr[nxt])) { best = t; nxt = c; }
-          }
-          if (best > s) {
-            const x0 = xa + s * (xb - xa);
-            const x1 = best === 1 ? xb : xa + best * (xb - xa);
-            const h0 = bl + s * (br - bl) - (cl[cur] + s * (cr[cur] - cl[cur]));
-            const h1 = bl + best * (br - bl) - (cl[cur] + best * (cr[cur] - cl[cur]));
-            if (x0 < xc && xc < x1) {
-              const tc = (xc - x0) / (x1 - x0);
-              const hc = h0 + tc * (h1 - h0);
-              addTrap(x0, xc, h0, hc, xc);
-              addTrap(xc, x1, hc, h1, xc);
-            } else addTrap(x0, x1, h0, h1, xc);
-          }
-          if (nxt < 0 || best >= 1) break;
-          s = best;
-          cur = nxt;
-        }
-      }
-      const dxc = xc - xref;
-      const momLeft = dxc * acc[0] - acc[2];
-      const momRight = acc[3] - dxc * acc[1];
-      out.areaM2 = acc[0] + acc[1];
-      out.volumeM3 = Math.PI * (momLeft + momRight);
-      // flanks
+      core(V, out);
       for (let f = 0; f < flanks.length; f++) {
         const fd = flanks[f];
         (f < n ? out.left : out.right)[f % n] = fd ? flankAngleOfDraw(fd, V) : NaN;
+      }
+    },
+    drawMany(Vs, draws, out) {
+      for (let d = 0; d < draws; d++) {
+        for (let k = 0; k < K; k++) Vd[k] = Vs[d * K + k];
+        core(Vd, one);
+        out.heightM[d] = one.heightM;
+        out.areaM2[d] = one.areaM2;
+        out.volumeM3[d] = one.volumeM3;
+      }
+      for (let f = 0; f < flanks.length; f++) {
+        const fd = flanks[f];
+        const dst = (f < n ? out.left : out.right)[f % n];
+        if (!dst) continue;
+        for (let d = 0; d < draws; d++) {
+          for (let k = 0; k < K; k++) Vd[k] = Vs[d * K + k];
+          dst[d] = fd ? flankAngleOfDraw(fd, Vd) : NaN;
+        }
       }
     },
   };
@@ -366,17 +404,25 @@ export function linearSamplerFor(b: PreparedBuildup, model: VelocityModel): Line
 
 /**
  * One flank's preallocated data for the per-draw angle: x, x steps squared,
- * depth coefficients one array per velocity (sequential reads), and scratch
- * for depths, cumulative arc length and the resampled points.
+ * the depth coefficients that vary along the flank (one array per velocity,
+ * read sequentially), the ones that do not (e.g. the water layer above a
+ * flank below the seafloor) as single numbers, and scratch for the
+ * cumulative arc length and the resampled points.
  */
 interface FlankScratch {
   n: number;
-  K: number;
   xs: Float64Array;
   dxx: Float64Array;
-  cols: Float64Array[];
+  /** Velocities with a constant coefficient along the flank, and that coefficient. */
+  constK: Int32Array;
+  constC: Float64Array;
+  /** Velocities whose coefficient varies, and the coefficient per vertex. */
+  varK: Int32Array;
+  varC: Float64Array[];
   z: Float64Array;
   cum: Float64Array;
+  /** Segment of each sample in the previous draw: the starting guess of the next. */
+  hint: Int32Array;
   sx: Float64Array;
   sz: Float64Array;
 }
@@ -388,68 +434,166 @@ function flankScratch(xs: Float64Array, C: Float64Array, row0: number, K: number
     const dx = xs[i] - xs[i - 1];
     dxx[i] = dx * dx;
   }
-  const cols: Float64Array[] = [];
+  const constK: number[] = [];
+  const constC: number[] = [];
+  const varK: number[] = [];
+  const varC: Float64Array[] = [];
   for (let k = 0; k < K; k++) {
     const col = new Float64Array(n);
-    for (let i = 0; i < n; i++) col[i] = C[(row0 + i) * K + k];
-    cols.push(col);
+    let same = true;
+    for (let i = 0; i < n; i++) {
+      col[i] = C[(row0 + i) * K + k];
+      if (!Object.is(col[i], col[0])) same = false;
+    }
+    if (same) { constK.push(k); constC.push(col[0]); }
+    else { varK.push(k); varC.push(col); }
   }
-  return { n, K, xs, dxx, cols, z: new Float64Array(n), cum: new Float64Array(n), sx: new Float64Array(FLANK_SAMPLES), sz: new Float64Array(FLANK_SAMPLES) };
+  return {
+    n, xs, dxx,
+    constK: Int32Array.from(constK), constC: Float64Array.from(constC),
+    varK: Int32Array.from(varK), varC,
+    z: new Float64Array(n), cum: new Float64Array(n), hint: new Int32Array(FLANK_SAMPLES), sx: new Float64Array(FLANK_SAMPLES), sz: new Float64Array(FLANK_SAMPLES),
+  };
 }
 
-/** Depths of the flank's vertices (z = Σ_k C_k·V_k, summed in k order like the direct dot product) and their cumulative arc length; returns the total. */
-function depthsAndArc3(f: FlankScratch, v0: number, v1: number, v2: number): number {
+/** The constant part of the flank's depths for velocities V. */
+function constantDepth(f: FlankScratch, V: Float64Array): number {
+  let a = 0;
+  for (let j = 0; j < f.constK.length; j++) a += f.constC[j] * V[f.constK[j]];
+  return a;
+}
+
+/**
+ * Depth of vertex i: the constant part plus the varying terms in velocity
+ * order — the same sums as the arc-length loops below, so the same bits.
+ */
+function depthAt(f: FlankScratch, a: number, V: Float64Array, i: number): number {
+  let z = a;
+  for (let j = 0; j < f.varK.length; j++) z += f.varC[j][i] * V[f.varK[j]];
+  return z;
+}
+
+/**
+ * Cumulative arc length of the flank for velocities V (depths z = a + Σ
+ * varying terms, summed like `depthAt`); returns the total. When the
+ * constant coefficients come first in velocity order (as for the water
+ * layer of the `buildup` model) the depths are bit-for-bit Σ_k C_k·V_k.
+ */
+function arcLength(f: FlankScratch, a: number, V: Float64Array): number {
   const n = f.n, z = f.z, cum = f.cum, dxx = f.dxx;
-  const c0 = f.cols[0], c1 = f.cols[1], c2 = f.cols[2];
-  let zp = c0[0] * v0 + c1[0] * v1 + c2[0] * v2;
-  z[0] = zp;
+  const nv = f.varK.length;
   cum[0] = 0;
   let c = 0;
-  for (let i = 1; i < n; i++) {
-    const zi = c0[i] * v0 + c1[i] * v1 + c2[i] * v2;
-    const dz = zi - zp;
-    c += Math.sqrt(dxx[i] + dz * dz);
-    z[i] = zi;
-    cum[i] = c;
-    zp = zi;
-  }
-  return c;
-}
-
-function depthsAndArc(f: FlankScratch, V: Float64Array): number {
-  const n = f.n, K = f.K, z = f.z, cum = f.cum, dxx = f.dxx, cols = f.cols;
-  for (let i = 0; i < n; i++) z[i] = 0;
-  for (let k = 0; k < K; k++) {
-    const col = cols[k];
-    const v = V[k];
-    for (let i = 0; i < n; i++) z[i] += col[i] * v;
-  }
-  cum[0] = 0;
-  let c = 0;
-  for (let i = 1; i < n; i++) {
-    const dz = z[i] - z[i - 1];
-    c += Math.sqrt(dxx[i] + dz * dz);
-    cum[i] = c;
+  if (nv === 1) {
+    const c0 = f.varC[0];
+    const v0 = V[f.varK[0]];
+    let zp = a + c0[0] * v0;
+    z[0] = zp;
+    for (let i = 1; i < n; i++) {
+      const zi = a + c0[i] * v0;
+      const dz = zi - zp;
+      c += Math.sqrt(dxx[i] + dz * dz);
+      z[i] = zi;
+      cum[i] = c;
+      zp = zi;
+    }
+  } else if (nv === 2) {
+    const c0 = f.varC[0], c1 = f.varC[1];
+    const v0 = V[f.varK[0]], v1 = V[f.varK[1]];
+    let zp = a + c0[0] * v0 + c1[0] * v1;
+    z[0] = zp;
+    for (let i = 1; i < n; i++) {
+      const zi = a + c0[i] * v0 + c1[i] * v1;
+      const dz = zi - zp;
+      c += Math.sqrt(dxx[i] + dz * dz);
+      z[i] = zi;
+      cum[i] = c;
+      zp = zi;
+    }
+  } else if (nv === 3) {
+    const c0 = f.varC[0], c1 = f.varC[1], c2 = f.varC[2];
+    const v0 = V[f.varK[0]], v1 = V[f.varK[1]], v2 = V[f.varK[2]];
+    let zp = a + c0[0] * v0 + c1[0] * v1 + c2[0] * v2;
+    z[0] = zp;
+    for (let i = 1; i < n; i++) {
+      const zi = a + c0[i] * v0 + c1[i] * v1 + c2[i] * v2;
+      const dz = zi - zp;
+      c += Math.sqrt(dxx[i] + dz * dz);
+      z[i] = zi;
+      cum[i] = c;
+      zp = zi;
+    }
+  } else {
+    let zp = depthAt(f, a, V, 0);
+    z[0] = zp;
+    for (let i = 1; i < n; i++) {
+      const zi = depthAt(f, a, V, i);
+      const dz = zi - zp;
+      c += Math.sqrt(dxx[i] + dz * dz);
+      z[i] = zi;
+      cum[i] = c;
+      zp = zi;
+    }
   }
   return c;
 }
 
 /**
+ * The segment a sample at arc length s falls on: the smallest j in
+ * [lo, last] with j = last or cum[j + 1] ≥ s (the one the forward scan of
+ * `flankAngles` stops at; the condition is monotone in j because cum is
+ * non-decreasing). Starts from a guess (the previous draw's segment, which
+ * rarely moves between draws) and walks a few steps, then bisects.
+ */
+function segmentOf(cum: Float64Array, s: number, lo: number, last: number, guess: number): number {
+  let j = guess < lo ? lo : guess > last ? last : guess;
+  if (j < last && cum[j + 1] < s) {
+    // condition false at j: move up
+    for (let step = 0; step < 8; step++) {
+      j++;
+      if (j === last || cum[j + 1] >= s) return j;
+    }
+    let a = j + 1; // false below a
+    let b = last; // true at b
+    while (a < b) {
+      const mid = (a + b) >> 1;
+      if (cum[mid + 1] < s) a = mid + 1;
+      else b = mid;
+    }
+    return b;
+  }
+  // condition true at j: move down while it holds at j − 1
+  for (let step = 0; step < 8; step++) {
+    if (j === lo || cum[j] < s) return j;
+    j--;
+  }
+  if (j === lo || cum[j] < s) return j;
+  let a = lo; // search [lo, j] for the first true
+  let b = j;
+  while (a < b) {
+    const mid = (a + b) >> 1;
+    if (mid === last || cum[mid + 1] >= s) b = mid;
+    else a = mid + 1;
+  }
+  return b;
+}
+
+/**
  * Flank angle for one velocity set V: the same arithmetic as `flankAngles`
- * (same depths, cumulative arc length, FLANK_SAMPLES equal-arc-length
- * points and two-pass orthogonal regression), so it is bit-for-bit
- * `flankAngles(xs, depths).flankAngleDeg`; NaN where that is null. The
- * steepest segment is not computed (the ranges do not report it), and each
- * sample's segment is found by galloping forward from the previous one
- * (the cumulative length is non-decreasing, so this is the segment the
- * linear scan of `flankAngles` stops at).
+ * (cumulative arc length, FLANK_SAMPLES equal-arc-length points, two-pass
+ * orthogonal regression) on the depths above, so it equals
+ * `flankAngles(xs, depths).flankAngleDeg` (bit for bit when the depths are);
+ * NaN where that is null. The steepest segment is not computed (the ranges
+ * do not report it), and each sample's segment is found by `segmentOf`
+ * from the segment it fell on in the previous draw.
  */
 function flankAngleOfDraw(f: FlankScratch, V: Float64Array): number {
   const n = f.n;
   if (n < 2) return NaN;
-  const total = f.K === 3 ? depthsAndArc3(f, V[0], V[1], V[2]) : depthsAndArc(f, V);
+  const a = constantDepth(f, V);
+  const total = arcLength(f, a, V);
   if (!(total > 0)) return NaN;
-  const xs = f.xs, z = f.z, cum = f.cum, sx = f.sx, sz = f.sz;
+  const xs = f.xs, z = f.z, cum = f.cum, hint = f.hint, sx = f.sx, sz = f.sz;
   const m = FLANK_SAMPLES;
   const last = n - 2;
   let seg = 0;
@@ -457,24 +601,8 @@ function flankAngleOfDraw(f: FlankScratch, V: Float64Array): number {
   let mz = 0;
   for (let k = 0; k < m; k++) {
     const s = k === m - 1 ? total : (total * k) / (m - 1);
-    // smallest j ≥ seg with j = last or cum[j + 1] ≥ s
-    if (seg < last && cum[seg + 1] < s) {
-      let lo = seg + 1; // predicate false at lo − 1
-      let step = 1;
-      let hi = lo;
-      while (hi < last && cum[hi + 1] < s) {
-        lo = hi + 1;
-        step *= 2;
-        hi = Math.min(last, lo + step);
-      }
-      // predicate true at hi (or hi = last), false below lo
-      while (lo < hi) {
-        const mid = (lo + hi) >> 1;
-        if (cum[mid + 1] < s) lo = mid + 1;
-        else hi = mid;
-      }
-      seg = hi;
-    }
+    seg = segmentOf(cum, s, seg, last, hint[k]);
+    hint[k] = seg;
     const len = cum[seg + 1] - cum[seg];
     const t = len > 0 ? (s - cum[seg]) / len : 0;
     const x = xs[seg] + t * (xs[seg + 1] - xs[seg]);

@@ -22,7 +22,7 @@ import { evaluateEnvelopeFlat, integrateProfile, type Envelope } from './envelop
 import { crestOf } from './buildup';
 import { depthOf, type PreparedBuildup, type PreparedInterpretation, type Surface } from './prepare';
 import { hasRanges, makeTwtToDepth, triangularQuantile } from './velocity';
-import { linearSamplerFor, modelFromVector, velocityParams, type LinearDraw } from './linear-ranges';
+import { linearSamplerFor, modelFromVector, velocityParams } from './linear-ranges';
 
 export interface Percentiles {
   p90: number;
@@ -133,33 +133,26 @@ export function monteCarlo(p: PreparedInterpretation, opts: MonteCarloOptions): 
   if (p.verticalDomain !== 'twt_ms' || !model || !hasRanges(model)) return null;
   const rng = seedrandom(String(opts.seed));
   const params = velocityParams(model);
-  const V = new Float64Array(params.length);
-  const stores = p.buildups.map((b) => storeFor(b, opts.draws));
-  const linear = p.buildups.map((b) => (opts.method === 'direct' ? null : linearSamplerFor(b, model)));
-  const direct = p.buildups.map((b, i) => (linear[i] ? null : directSamplerFor(b, stores[i])));
-  const needConv = direct.some((d) => d);
-  const out: LinearDraw = { heightM: 0, areaM2: 0, volumeM3: 0, left: new Float64Array(0), right: new Float64Array(0) };
-  for (let k = 0; k < opts.draws; k++) {
-    for (let i = 0; i < params.length; i++) {
+  const K = params.length;
+  const draws = opts.draws;
+  // every velocity set first (draw by draw, one uniform number per range in field order)
+  const Vs = new Float64Array(draws * K);
+  for (let k = 0; k < draws; k++) {
+    for (let i = 0; i < K; i++) {
       const r = params[i].range;
-      V[i] = r ? triangularQuantile(r, rng()) : params[i].mode;
+      Vs[k * K + i] = r ? triangularQuantile(r, rng()) : params[i].mode;
     }
-    const conv = needConv ? makeTwtToDepth(modelFromVector(model, V)) : null;
-    p.buildups.forEach((b, bi) => {
-      const st = stores[bi];
-      const lin = linear[bi];
-      if (lin) {
-        if (out.left.length !== b.tops.length) { out.left = new Float64Array(b.tops.length); out.right = new Float64Array(b.tops.length); }
-        lin.draw(V, out);
-        st.height[k] = out.heightM;
-        st.area[k] = out.areaM2;
-        st.volume[k] = out.volumeM3;
-        for (let c = 0; c < b.tops.length; c++) {
-          if (st.fl[c]) st.fl[c]![k] = out.left[c];
-          if (st.fr[c]) st.fr[c]![k] = out.right[c];
-        }
-      } else direct[bi]!(conv!, k);
-    });
   }
+  const stores = p.buildups.map((b) => storeFor(b, draws));
+  p.buildups.forEach((b, bi) => {
+    const st = stores[bi];
+    const lin = opts.method === 'direct' ? null : linearSamplerFor(b, model);
+    if (lin) {
+      lin.drawMany(Vs, draws, { heightM: st.height, areaM2: st.area, volumeM3: st.volume, left: st.fl, right: st.fr });
+      return;
+    }
+    const direct = directSamplerFor(b, st);
+    for (let k = 0; k < draws; k++) direct(makeTwtToDepth(modelFromVector(model, Vs.subarray(k * K, k * K + K))), k);
+  });
   return stores.map((st) => rangesOf(st, opts.draws));
 }
