@@ -22,7 +22,7 @@
  * 1e-9 relative, the caller falls back to the direct sampler.
  */
 import { FLANK_SAMPLES } from './flank';
-import { DEG, interpolateAt } from './geometry';
+import { DEG, segmentIndex } from './geometry';
 import { piecesOf, planEnvelope } from './envelope';
 import type { PreparedBuildup } from './prepare';
 import { isRange, makeTwtToDepth, resolveVelocityModel, type Range, type Speed, type VelocityModel } from './velocity';
@@ -162,6 +162,7 @@ export function linearSamplerFor(b: PreparedBuildup, model: VelocityModel): Line
   const xref = youngXs[c0];
   const crestRows = Int32Array.from(crestIdx, (i) => (yOff + i) * K);
   const crestX = Float64Array.from(crestIdx, (i) => youngXs[i]);
+  const crestZ = new Float64Array(crestIdx.length);
 
   // sweep: linear sums for simple intervals, stored coefficients for complex ones
   const aL = new Float64Array(K), mL = new Float64Array(K), aR = new Float64Array(K), mR = new Float64Array(K);
@@ -282,7 +283,6 @@ export function linearSamplerFor(b: PreparedBuildup, model: VelocityModel): Line
   const maxCand = cxCount.reduce((x, y) => Math.max(x, y), 1);
   const cl = new Float64Array(maxCand);
   const cr = new Float64Array(maxCand);
-  const baseZ = new Float64Array(nb);
   const flankSrc = [...b.flanksL, ...b.flanksR].map((f) => (f ? sources.indexOf(f) : -1));
   const flanks = flankSrc.map((s) => (s >= 0 ? flankScratch(sources[s].xs, C, srcOff[s], K) : null));
   const acc = new Float64Array(4);
@@ -302,18 +302,35 @@ export function linearSamplerFor(b: PreparedBuildup, model: VelocityModel): Line
     else { acc[1] += area; acc[3] += mom; }
   };
 
+  /** `interpolateAt(base xs, base depths, x)`, forming only the depths it reads. */
+  const baseAt = (x: number, V: Float64Array) => {
+    if (x <= bx[0]) {
+      if (x < bx[0]) return dot(CB, 0, V);
+      let i = 0;
+      while (i + 1 < nb && bx[i + 1] === bx[0]) i++;
+      return dot(CB, i * K, V);
+    }
+    if (x >= bx[nb - 1]) return dot(CB, (nb - 1) * K, V);
+    const i = segmentIndex(bx, x);
+    const x0 = bx[i];
+    const x1 = bx[i + 1];
+    if (x1 === x0) return dot(CB, (i + 1) * K, V);
+    const w = (x - x0) / (x1 - x0);
+    const z0 = dot(CB, i * K, V);
+    return z0 + w * (dot(CB, (i + 1) * K, V) - z0);
+  };
+
   const core = (V: Float64Array, out: { heightM: number; areaM2: number; volumeM3: number }) => {
     // crest
     let zmin = Infinity;
-    for (let c = 0; c < crestRows.length; c++) { const z = dot(C, crestRows[c], V); if (z < zmin) zmin = z; }
+    for (let c = 0; c < crestRows.length; c++) { const z = dot(C, crestRows[c], V); crestZ[c] = z; if (z < zmin) zmin = z; }
     const eps = 1e-9 * Math.max(1, Math.abs(zmin));
     let xlo = Infinity, xhi = -Infinity;
     for (let c = 0; c < crestRows.length; c++) {
-      if (dot(C, crestRows[c], V) <= zmin + eps) { if (crestX[c] < xlo) xlo = crestX[c]; if (crestX[c] > xhi) xhi = crestX[c]; }
+      if (crestZ[c] <= zmin + eps) { if (crestX[c] < xlo) xlo = crestX[c]; if (crestX[c] > xhi) xhi = crestX[c]; }
     }
     const xc = (xlo + xhi) / 2;
-    for (let i = 0; i < nb; i++) baseZ[i] = dot(CB, i * K, V);
-    out.heightM = interpolateAt(bx, baseZ, xc) - zmin;
+    out.heightM = baseAt(xc, V) - zmin;
     // area and moments: linear sums plus complex intervals
     acc[0] = dot(aL, 0, V); acc[1] = dot(aR, 0, V); acc[2] = dot(mL, 0, V); acc[3] = dot(mR, 0, V);
     let o = 0;

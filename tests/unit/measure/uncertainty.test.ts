@@ -110,3 +110,76 @@ describe('linearised Monte Carlo equals direct recomputation', () => {
     });
   }
 });
+
+/**
+ * A knoll whose flanks are traced with very uneven spacing: a zigzag of long
+ * segments with, at every corner, a cluster of 24 vertices a few centimetres
+ * apart wiggling sideways. Equal-arc-length samples then jump over whole
+ * clusters (and back, as the velocities change from draw to draw), and a
+ * sample put on the wrong segment would be projected along a wiggle.
+ */
+function unevenFlankKnoll(velocity: unknown) {
+  const doc = noisyKnoll(60, velocity);
+  for (const c of doc.buildups[0].cycles) {
+    for (const key of ['flankLeft', 'flankRight'] as const) {
+      const f = c[key] as number[][];
+      const [x0, y0] = f[0];
+      const [x1, y1] = f[f.length - 1];
+      const pts: number[][] = [];
+      const corners = 13;
+      for (let q = 0; q < corners; q++) {
+        const u = q / (corners - 1);
+        const x = x0 + u * (x1 - x0);
+        const y = y0 + u * (y1 - y0) + (q > 0 && q < corners - 1 ? (q % 2 ? 8 : -8) : 0);
+        pts.push([x, y]);
+        if (q === corners - 1) break;
+        for (let w = 1; w <= 24; w++) pts.push([x + Math.sign(x1 - x0) * 0.04 * w, y + (w % 2 ? 0.02 : -0.02)]);
+      }
+      c[key] = pts;
+    }
+  }
+  return doc;
+}
+
+describe('linearised Monte Carlo: batch and uneven flanks', () => {
+  const buildupModel = { kind: 'buildup', water: { v: { min: 1480, mode: 1500, max: 1530 }, seafloorMs: 400 }, overburden: { v: { min: 1800, mode: 2200, max: 2700 } }, carbonate: { v: { min: 3500, mode: 4500, max: 5800 } } };
+
+  it('unevenly traced flanks: fast sampler equals direct recomputation', () => {
+    const p = prepare(parseInterpretation(unevenFlankKnoll(buildupModel)));
+    expect(linearSamplerFor(p.buildups[0], p.velocity!)).not.toBeNull();
+    const fast = monteCarlo(p, { draws: 80, seed: 'uneven' });
+    const direct = monteCarlo(p, { draws: 80, seed: 'uneven', method: 'direct' });
+    expect(firstDifference(fast, direct, '', 1e-8, 1e-6)).toBeNull();
+  });
+
+  it('drawMany gives exactly the numbers of draw, draw by draw', () => {
+    for (const doc of [noisyKnoll(150, buildupModel), unevenFlankKnoll(buildupModel)]) {
+      const p = prepare(parseInterpretation(doc));
+      const b = p.buildups[0];
+      const n = b.tops.length;
+      const K = 3;
+      const draws = 25;
+      let seed = 3;
+      const rnd = () => ((seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648);
+      const lo = [1480, 1800, 3500];
+      const hi = [1530, 2700, 5800];
+      const Vs = Float64Array.from({ length: draws * K }, (_, i) => lo[i % K] + rnd() * (hi[i % K] - lo[i % K]));
+      const mk = () => new Float64Array(draws);
+      const batch = { heightM: mk(), areaM2: mk(), volumeM3: mk(), left: Array.from({ length: n }, mk), right: Array.from({ length: n }, mk) };
+      linearSamplerFor(b, p.velocity!)!.drawMany(Vs, draws, batch);
+      const one = linearSamplerFor(b, p.velocity!)!;
+      const out = { heightM: 0, areaM2: 0, volumeM3: 0, left: new Float64Array(n), right: new Float64Array(n) };
+      for (let d = 0; d < draws; d++) {
+        one.draw(Vs.slice(d * K, d * K + K), out);
+        expect(batch.heightM[d]).toBe(out.heightM);
+        expect(batch.areaM2[d]).toBe(out.areaM2);
+        expect(batch.volumeM3[d]).toBe(out.volumeM3);
+        for (let c = 0; c < n; c++) {
+          expect(batch.left[c][d]).toBe(out.left[c]);
+          expect(batch.right[c][d]).toBe(out.right[c]);
+          expect(out.left[c]).toBeGreaterThan(0);
+        }
+      }
+    }
+  });
+});
