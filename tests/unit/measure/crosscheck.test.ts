@@ -4,9 +4,9 @@
  * calibration, shapely for polygon area/centroid and for the area and
  * half-profile moments of buildup profiles (union of the regions below each
  * surface and above the base). Each test calls a python3 that can import the
- * library and skips, saying why, only when none can.
+ * library (tests/helpers/python-ref.ts): when none can, it fails in CI
+ * (CI=true, CAYLINE_REQUIRE_REFERENCES=1) and is skipped, saying why, elsewhere.
  */
-import { execFileSync } from 'node:child_process';
 import seedrandom from 'seedrandom';
 import { describe, expect, it } from 'vitest';
 import {
@@ -21,31 +21,14 @@ import {
   type Point,
   type Tie,
 } from '../../../shared/measure';
+import { needReference, pythonReference, runPython } from '../../helpers/python-ref';
 
-function pythonWith(module: string): string | null {
-  for (const exe of ['python3', '/usr/bin/python3', 'python']) {
-    try {
-      execFileSync(exe, ['-c', `import ${module}`], { stdio: 'ignore' });
-      return exe;
-    } catch {
-      /* try the next interpreter */
-    }
-  }
-  return null;
-}
+const numpyRef = pythonReference('numpy');
+const shapelyRef = pythonReference('shapely');
 
-function runPython(exe: string, script: string, input: unknown): unknown {
-  const out = execFileSync(exe, ['-c', script], { input: JSON.stringify(input), encoding: 'utf8', maxBuffer: 64 * 1024 * 1024 });
-  return JSON.parse(out);
-}
-
-const numpyPy = pythonWith('numpy');
-const shapelyPy = pythonWith('shapely');
-if (!numpyPy) console.warn('SKIP numpy cross-check: no python3 can import numpy (apt-get install python3-numpy)');
-if (!shapelyPy) console.warn('SKIP shapely cross-check: no python3 can import shapely (apt-get install python3-shapely)');
-
-describe.skipIf(!numpyPy)('calibration against numpy.linalg.lstsq', () => {
-  it('affine fit, residuals and RMS agree on noisy random ties', () => {
+describe('calibration against numpy.linalg.lstsq', () => {
+  it('affine fit, residuals and RMS agree on noisy random ties', (ctx) => {
+    const numpyPy = needReference(ctx, numpyRef);
     const rng = seedrandom('ties');
     const cases: Tie[][] = [];
     for (let c = 0; c < 20; c++) {
@@ -69,7 +52,7 @@ for ties in json.load(sys.stdin):
     rx = X - A @ px; ry = Y - A @ py
     out.append({'p': list(px) + list(py), 'rx': list(rx), 'ry': list(ry), 'rmsx': float(np.sqrt(np.mean(rx**2))), 'rmsy': float(np.sqrt(np.mean(ry**2)))})
 print(json.dumps(out))`;
-    const ref = runPython(numpyPy!, script, cases) as { p: number[]; rx: number[]; ry: number[]; rmsx: number; rmsy: number }[];
+    const ref = runPython(numpyPy, script, cases) as { p: number[]; rx: number[]; ry: number[]; rmsx: number; rmsy: number }[];
     cases.forEach((ties, i) => {
       const fit = fitCalibration(ties);
       const m = fit.affine;
@@ -94,8 +77,9 @@ function starPolygon(rng: () => number, n: number): Point[] {
   });
 }
 
-describe.skipIf(!shapelyPy)('geometry against shapely', () => {
-  it('shoelace area and centroid of random polygons', () => {
+describe('geometry against shapely', () => {
+  it('shoelace area and centroid of random polygons', (ctx) => {
+    const shapelyPy = needReference(ctx, shapelyRef);
     const rng = seedrandom('polygons');
     const polys = Array.from({ length: 50 }, () => starPolygon(rng, 3 + Math.floor(rng() * 40)));
     // shapely Polygon.area and .centroid (references.md: python3-shapely)
@@ -103,7 +87,7 @@ describe.skipIf(!shapelyPy)('geometry against shapely', () => {
 import json, sys
 from shapely.geometry import Polygon
 print(json.dumps([[p.area, p.centroid.x, p.centroid.y] for p in (Polygon(q) for q in json.load(sys.stdin))]))`;
-    const ref = runPython(shapelyPy!, script, polys) as number[][];
+    const ref = runPython(shapelyPy, script, polys) as number[][];
     polys.forEach((p, i) => {
       expect(shoelaceArea(p)).toBeCloseTo(ref[i][0], 6);
       const c = polygonCentroid(p);
@@ -112,7 +96,8 @@ print(json.dumps([[p.area, p.centroid.x, p.centroid.y] for p in (Polygon(q) for 
     });
   });
 
-  it('buildup profile area and half-profile moments equal the shapely union of the regions under each surface', () => {
+  it('buildup profile area and half-profile moments equal the shapely union of the regions under each surface', (ctx) => {
+    const shapelyPy = needReference(ctx, shapelyRef);
     const rng = seedrandom('profiles');
     const cases: { surfaces: Point[][]; base: Point[]; xc: number }[] = [];
     for (let c = 0; c < 25; c++) {
@@ -153,7 +138,7 @@ for c in json.load(sys.stdin):
     mr = right.area * (right.centroid.x - xc) if right.area > 0 else 0.0
     out.append([region.area, left.area, right.area, ml, mr])
 print(json.dumps(out))`;
-    const ref = runPython(shapelyPy!, script, cases) as number[][];
+    const ref = runPython(shapelyPy, script, cases) as number[][];
     cases.forEach((c, i) => {
       const cols = c.surfaces.map((s) => orderByX(s)).map((s) => ({ xs: s.map((p) => p[0]), zs: s.map((p) => p[1]) }));
       const plan = planEnvelope(piecesOf(cols), (k) => cols[k].xs, cols.length);

@@ -1,6 +1,6 @@
-import { spawnSync } from 'node:child_process';
 import { describe, expect, it } from 'vitest';
 import seedrandom from 'seedrandom';
+import { needReference, pythonReference, runPython } from '../../helpers/python-ref';
 import { convolveSame, ricker, rickerSampled, rickerTable, stampSpike } from '../../../server/scripts/synth/ricker';
 
 // Ricker (1953), Geophysics 18 — w(t) = (1 − 2π²f²t²)·exp(−π²f²t²); computed checks as listed
@@ -64,18 +64,9 @@ describe('sparse stamping equals dense convolution', () => {
 // Independent reference: numpy (python3-numpy / python3-scipy, references.md "Reference libraries
 // for cross-checks"). scipy.signal.ricker is gone from recent scipy, so the wavelet is computed from
 // the Ricker (1953) formula in numpy, and the convolution by numpy.convolve and scipy.signal.convolve.
-function python(script: string, input: unknown): { ok: true; out: any } | { ok: false; why: string } {
-  const r = spawnSync('python3', ['-c', script], { input: JSON.stringify(input), encoding: 'utf8', maxBuffer: 64 << 20 });
-  if (r.error) return { ok: false, why: String(r.error.message) };
-  if (r.status !== 0) return { ok: false, why: r.stderr.trim().split('\n').pop() ?? 'python3 failed' };
-  return { ok: true, out: JSON.parse(r.stdout) };
-}
-const probe = python('import json, sys, numpy; print(json.dumps(numpy.__version__))', null);
-const hasNumpy = probe.ok;
-if (!hasNumpy) console.warn(`SKIPPED numpy cross-check: python3 with numpy cannot be imported (${probe.why})`);
-const scipyProbe = hasNumpy ? python('import json, scipy.signal; print(json.dumps(1))', null) : probe;
-const hasScipy = scipyProbe.ok;
-if (hasNumpy && !hasScipy) console.warn(`SKIPPED scipy.signal.convolve cross-check: ${scipyProbe.ok ? '' : scipyProbe.why}`);
+// Both libraries are required references (tests/helpers/python-ref.ts): missing in CI → the test fails;
+// elsewhere → skipped with the reason, never passed.
+const numpyScipyRef = pythonReference(['numpy', 'scipy.signal']);
 
 const PY = `
 import json, sys
@@ -103,8 +94,9 @@ out['frac'] = acc.tolist()
 print(json.dumps(out))
 `;
 
-describe.skipIf(!hasNumpy)('cross-check against numpy / scipy', () => {
-  it('wavelet, dense and sparse convolution agree with numpy.convolve (and scipy.signal.convolve)', () => {
+describe('cross-check against numpy / scipy', () => {
+  it('wavelet, dense and sparse convolution agree with numpy.convolve and scipy.signal.convolve', (ctx) => {
+    const py = needReference(ctx, numpyScipyRef);
     const f = 30;
     const dt = 0.001;
     const w = rickerSampled(f, dt);
@@ -114,11 +106,9 @@ describe.skipIf(!hasNumpy)('cross-check against numpy / scipy', () => {
     for (let i = 0; i < 60; i++) refl[Math.floor(rng() * n)] = Math.round((rng() - 0.5) * 1e4) / 1e4;
     const frac: [number, number][] = [];
     for (let i = 0; i < 30; i++) frac.push([rng() * n, rng() - 0.5]);
-    const res = python(PY, { f, dt, half: w.centre, refl, n, frac, scipy: hasScipy });
-    if (!res.ok) throw new Error(res.why);
-    const ref = res.out as { w: number[]; conv: number[]; conv_scipy?: number[]; frac: number[] };
+    const ref = runPython(py, PY, { f, dt, half: w.centre, refl, n, frac, scipy: true }) as { w: number[]; conv: number[]; conv_scipy: number[]; frac: number[] };
     expect(ref.w.length).toBe(w.values.length);
-    if (hasScipy) expect(ref.conv_scipy?.length).toBe(n);
+    expect(ref.conv_scipy.length).toBe(n);
     for (let k = 0; k < w.values.length; k++) expect(w.values[k]).toBeCloseTo(ref.w[k], 12);
     const dense = convolveSame(refl, w);
     const sparse = new Float64Array(n);
@@ -127,7 +117,7 @@ describe.skipIf(!hasNumpy)('cross-check against numpy / scipy', () => {
     for (let i = 0; i < n; i++) {
       expect(dense[i]).toBeCloseTo(ref.conv[i], 10);
       expect(sparse[i]).toBeCloseTo(ref.conv[i], 9);
-      if (ref.conv_scipy) expect(sparse[i]).toBeCloseTo(ref.conv_scipy[i], 9);
+      expect(sparse[i]).toBeCloseTo(ref.conv_scipy[i], 9);
     }
     // spikes between samples: the tabulated wavelet (32× oversampled, linear) within 1e-4
     const fr = new Float64Array(n);
