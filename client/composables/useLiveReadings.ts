@@ -313,7 +313,7 @@ export function useLiveReadings(args: LiveReadingsArgs): LiveReadings {
   const issues = computed(() => {
     const b = buildup.value;
     if (!b) return [];
-    return [...measurabilityIssues(b), ...contextIssues(ctx.value)];
+    return [...measurabilityIssues(b, ctx.value?.calibrationTies), ...contextIssues(ctx.value)];
   });
   const leftOut = computed(() => (buildup.value ? incompleteCycleNotes(buildup.value) : []));
 

@@ -8,6 +8,7 @@
  */
 import { z } from 'zod';
 import { formatIssuePath } from '../api-errors';
+import { applyCalibration, fitCalibration, type Affine } from '../measure/calibration';
 import { isPt, uRange, type Pt } from './geometry';
 
 export type { Pt } from './geometry';
@@ -323,18 +324,54 @@ export function measurableCycles(b: EditorBuildup): EditorCycle[] {
   return b.cycles.filter(isCycleComplete);
 }
 
+/** The pixel → section map of a list of Ties (affine least squares, as the engine fits it), or null when it cannot be fitted. */
+function sectionMapOf(ties: readonly CalibrationTie[]): Affine | null {
+  try {
+    return fitCalibration(ties as CalibrationTie[], 'affine').affine;
+  } catch {
+    return null;
+  }
+}
+
+/** `12.3` style number for messages. */
+const fmtX = (v: number) => String(Math.round(v * 10) / 10);
+
 /**
  * Why a buildup cannot be measured yet, as `path: reason` strings (empty when
  * it can). Paths are relative to the buildup, with editor positions.
+ *
+ * With the section's Ties (`calibration`), the Margin pins are checked against
+ * their top's x-range in SECTION x, as the engine does (contract §4): under a
+ * rotated or sheared calibration pixel columns are not section x. Ties that
+ * cannot be fitted yet skip that check (the calibration issue is reported on
+ * its own). Without `calibration` (no section context) the check falls back
+ * to pixel columns, exact only for a calibration without rotation or shear.
  */
-export function measurabilityIssues(b: EditorBuildup): string[] {
+export function measurabilityIssues(b: EditorBuildup, calibration?: readonly CalibrationTie[] | null): string[] {
   const issues: string[] = [];
+  const map = calibration ? sectionMapOf(calibration) : null;
   if (b.base.length < 2) issues.push('base: needs at least 2 points');
   else if (b.base.every((p) => p[0] === b.base[0][0])) issues.push('base: needs a u-extent (all its points share one u)');
   const complete = b.cycles.map(isCycleComplete);
   if (!complete.some(Boolean)) issues.push('cycles: needs at least one cycle with a top of 2+ points and both margins');
   b.cycles.forEach((c, i) => {
     if (!complete[i]) return;
+    if (calibration) {
+      if (!map) return;
+      let x0 = Infinity;
+      let x1 = -Infinity;
+      for (const p of c.top) {
+        const x = applyCalibration(map, p)[0];
+        if (x < x0) x0 = x;
+        if (x > x1) x1 = x;
+      }
+      const tol = 1e-9 * Math.max(Math.abs(x0), Math.abs(x1));
+      for (const side of ['marginLeft', 'marginRight'] as const) {
+        const x = applyCalibration(map, c[side]!)[0];
+        if (x < x0 - tol || x > x1 + tol) issues.push(`cycles[${i}].${side}: outside the top's x-range (${fmtX(x0)} to ${fmtX(x1)} m along the section; the pin is at ${fmtX(x)})`);
+      }
+      return;
+    }
     const r = uRange(c.top)!;
     for (const side of ['marginLeft', 'marginRight'] as const) {
       const m = c[side]!;
@@ -361,8 +398,9 @@ export function measurabilityIssues(b: EditorBuildup): string[] {
   return issues;
 }
 
-export function isMeasurable(b: EditorBuildup): boolean {
-  return measurabilityIssues(b).length === 0;
+/** Whether `measurabilityIssues(b, calibration)` is empty. */
+export function isMeasurable(b: EditorBuildup, calibration?: readonly CalibrationTie[] | null): boolean {
+  return measurabilityIssues(b, calibration).length === 0;
 }
 
 /** A flank worth sending: 2+ points that do not all coincide. */
@@ -385,7 +423,7 @@ export function toInterpretationInput(
   if (ctx.verticalDomain !== 'twt_ms' && ctx.verticalDomain !== 'depth_m')
     throw new ModelError('verticalDomain', `must be "twt_ms" or "depth_m"`);
   const out: InterpretationBuildupInput[] = list.map((b, bi) => {
-    const issues = measurabilityIssues(b);
+    const issues = measurabilityIssues(b, ctx.calibrationTies);
     if (issues.length) {
       const [path, ...rest] = issues[0].split(': ');
       throw new ModelError(`buildups[${bi}].${path}`, rest.join(': '));

@@ -11,12 +11,16 @@
  * Choices: `coordinates` defaults to "world"; `calibration` may be a plain
  * list of ties (affine mode) or `{ mode: "affine" | "axes", ties }`;
  * `velocity` is required for `twt_ms` and ignored for `depth_m`; the
- * x-range check of margins is made in the input's own coordinates (pixels
- * or metres); unknown option names are refused (typos would otherwise pass
+ * x-range check of margins is made in section coordinates (contract §4):
+ * pixel inputs go through their fitted calibration first, because under a
+ * rotated or sheared map pixel columns are not section x (a calibration that
+ * cannot be fitted skips the check; the engine refuses it on its own);
+ * unknown option names are refused (typos would otherwise pass
  * silently), unknown interpretation fields are ignored.
  */
 import { z } from 'zod';
 import { formatIssuePath } from '../api-errors';
+import { fitCalibration, type Tie } from '../measure/calibration';
 
 /** An error message that says "is required" when the field is missing. */
 const req = (what: string) => (iss: { input?: unknown }) => (iss.input === undefined ? 'is required' : what);
@@ -136,12 +140,30 @@ export const buildupSchema = z.object({
   topIsDrowningSurface: z.boolean({ error: req('must be true or false') }).default(false),
 });
 
-const span = (pl: readonly (readonly number[])[]) => {
+/** Section x of an input point: identity for world coordinates, the fitted calibration for pixels. */
+type XOf = (p: readonly number[]) => number;
+const ownX: XOf = (p) => p[0];
+
+const span = (pl: readonly (readonly number[])[], xOf: XOf = ownX) => {
   let lo = Infinity;
   let hi = -Infinity;
-  for (const p of pl) { if (p[0] < lo) lo = p[0]; if (p[0] > hi) hi = p[0]; }
+  for (const p of pl) { const x = xOf(p); if (x < lo) lo = x; if (x > hi) hi = x; }
   return [lo, hi] as const;
 };
+
+/** Section x of pixel points through the calibration, or null when it cannot be fitted (refused later with its own message). */
+function sectionXOf(calibration: z.output<typeof calibrationSchema>): XOf | null {
+  try {
+    const ties = (Array.isArray(calibration) ? calibration : calibration.ties) as Tie[];
+    const { a, b, c } = fitCalibration(ties, Array.isArray(calibration) ? 'affine' : calibration.mode).affine;
+    return (p) => a * p[0] + b * p[1] + c;
+  } catch {
+    return null;
+  }
+}
+
+/** Rounding allowance of the margin x-range check: relative to the top's x magnitude (no absolute floor, so tiny and huge geometry behave alike). */
+export const marginTolerance = (t0: number, t1: number) => 1e-9 * Math.max(Math.abs(t0), Math.abs(t1));
 
 /** The interpretation (measurement-spec §4). */
 export const interpretationSchema = z
@@ -158,6 +180,7 @@ export const interpretationSchema = z
       ctx.addIssue({ code: 'custom', path: ['calibration'], message: 'is required when coordinates are "pixels"' });
     if (it.verticalDomain === 'twt_ms' && !it.velocity)
       ctx.addIssue({ code: 'custom', path: ['velocity'], message: 'is required when verticalDomain is "twt_ms"' });
+    const xOf = it.coordinates === 'pixels' ? (it.calibration ? sectionXOf(it.calibration) : null) : ownX;
     it.buildups.forEach((b, bi) => {
       const at = (...p: (string | number)[]) => ['buildups', bi, ...p];
       const [b0, b1] = span(b.base);
@@ -166,12 +189,15 @@ export const interpretationSchema = z
       b.cycles.forEach((c, ci) => {
         if (c.index !== ci + 1)
           ctx.addIssue({ code: 'custom', path: at('cycles', ci, 'index'), message: `must be ${ci + 1}: cycles are numbered 1 = oldest, in order` });
-        const [t0, t1] = span(c.top);
-        const tol = 1e-9 * Math.max(1, Math.abs(t0), Math.abs(t1));
-        for (const side of ['marginLeft', 'marginRight'] as const) {
-          const x = c[side][0];
-          if (x < t0 - tol || x > t1 + tol)
-            ctx.addIssue({ code: 'custom', path: at('cycles', ci, side), message: `outside the top's x-range (${t0} to ${t1})` });
+        // in section x (pixels through the calibration), never in pixel columns
+        if (xOf) {
+          const [t0, t1] = span(c.top, xOf);
+          const tol = marginTolerance(t0, t1);
+          for (const side of ['marginLeft', 'marginRight'] as const) {
+            const x = xOf(c[side]);
+            if (x < t0 - tol || x > t1 + tol)
+              ctx.addIssue({ code: 'custom', path: at('cycles', ci, side), message: `outside the top's x-range (${t0} to ${t1})` });
+          }
         }
         for (const side of ['flankLeft', 'flankRight'] as const) {
           const f = c[side];

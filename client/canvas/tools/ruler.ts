@@ -43,7 +43,7 @@ export function rulerContext(opts: {
   const ctx: RulerContext = { verticalDomain: opts.verticalDomain, coordinates: 'pixels', calibration: opts.ties.map((t) => ({ px: t.px, world: t.world })) };
   if (opts.velocity) ctx.velocity = opts.velocity;
   if (opts.velocity?.kind === 'buildup' && opts.buildups) {
-    const ok = opts.buildups.filter(isMeasurable);
+    const ok = opts.buildups.filter((b) => isMeasurable(b, opts.ties));
     if (ok.length)
       ctx.buildups = toInterpretationInput(ok, { calibrationTies: ctx.calibration, verticalDomain: ctx.verticalDomain, velocity: opts.velocity }).buildups;
   }
