@@ -10,8 +10,9 @@
  * mean of the left and right volumes — an estimate that assumes a round
  * buildup.
  *
- * Choices: vertices "share" the smallest z when within 1e-9 (relative,
- * at least 1e-9 m) of it, so a flat crest survives floating-point depth
+ * Choices: vertices "share" the smallest z when within 1e-9 of it,
+ * relative to |z| (no absolute floor, so a buildup drawn at any scale finds
+ * the same crest), so a flat crest survives floating-point depth
  * conversion; the asymmetry hint needs a flank-angle difference of at least
  * `asymmetryMinDeg` and the steeper side to have backstepped no more than the
  * other, and is worded as a hint only.
@@ -25,7 +26,7 @@ import type { CycleMetrics } from './cycles';
 export function crestOf(xs: ArrayLike<number>, zs: ArrayLike<number>): Point {
   let zmin = Infinity;
   for (let i = 0; i < zs.length; i++) if (zs[i] < zmin) zmin = zs[i];
-  const eps = 1e-9 * Math.max(1, Math.abs(zmin));
+  const eps = 1e-9 * Math.abs(zmin);
   let lo = Infinity;
   let hi = -Infinity;
   for (let i = 0; i < zs.length; i++) {

@@ -14,7 +14,9 @@
  * Choices: a mean aggradation ≤ 0 is "downstepping" for buildups too (the
  * net trajectory of a buildup whose margins fell); "narrowing top widths"
  * and "thinning cycles" are reported (steps beyond 1e-9 relative) when each of the last two cycle steps
- * (or the only one) narrows or thins.
+ * (or the only one) narrows or thins. Rounding allowances are relative to the
+ * geometry's own magnitude, never absolute floors, so the same buildup drawn
+ * at any scale gets the same class.
  */
 import { DEG } from './geometry';
 
@@ -28,12 +30,25 @@ export function trajectoryDeg(backstepM: number | null, aggradationM: number | n
   return Math.atan2(aggradationM, -backstepM) * DEG;
 }
 
-/** Aggradation at or below this (m) counts as none: rounding of depth conversion must not turn a flat margin into a rising one. */
-export const AGGRADATION_EPS_M = 1e-6;
+/** Differences below this fraction of the coordinates' magnitude are rounding (calibration, depth conversion), not geometry. */
+export const ROUNDING_REL = 1e-9;
 
-/** Class of a trajectory with tolerance `tolDeg` around 90°; mean aggradation ≤ 0 → downstepping. */
-export function classifyTrajectory(trajDeg: number, meanAggradationM: number, tolDeg: number): TrajectoryClass {
-  if (!(meanAggradationM > AGGRADATION_EPS_M)) return 'downstepping';
+/**
+ * Aggradation at or below this (m) counts as none, so rounding of the
+ * calibration and depth conversion cannot turn a flat margin into a rising
+ * one: ROUNDING_REL × the largest |x| or |z| of the margin points compared.
+ * It scales with the geometry (a fixed floor in metres would call a rising
+ * millimetre-scale model flat and a flat kilometre-deep one rising).
+ */
+export function aggradationFloorM(points: readonly (readonly number[])[]): number {
+  let m = 0;
+  for (const p of points) m = Math.max(m, Math.abs(p[0]), Math.abs(p[1]));
+  return ROUNDING_REL * m;
+}
+
+/** Class of a trajectory with tolerance `tolDeg` around 90°; mean aggradation ≤ `floorM` (see aggradationFloorM) → downstepping. */
+export function classifyTrajectory(trajDeg: number, meanAggradationM: number, tolDeg: number, floorM = 0): TrajectoryClass {
+  if (!(meanAggradationM > floorM)) return 'downstepping';
   if (trajDeg < 90 - tolDeg) return 'prograding';
   if (trajDeg <= 90 + tolDeg) return 'aggrading';
   return 'backstepping';
@@ -69,6 +84,8 @@ export interface ClassificationInput {
   topWidthsM: number[];
   thicknessesM: number[];
   marginsXM: [number, number];
+  /** Rounding allowance of the net aggradation (m), from aggradationFloorM of the margins compared; 0 when absent. */
+  aggradationFloorM?: number;
   aggradingToleranceDeg: number;
   drownedMinTerminations: number;
   terminationToleranceM: number;
@@ -86,8 +103,8 @@ function lastStepsDecrease(v: number[]): boolean {
   const n = v.length;
   if (n < 2) return false;
   const steps = Math.min(2, n - 1);
-  // a step counts when it is larger than rounding (1e-9 relative): depth conversion round trips must not invent a trend
-  for (let k = 0; k < steps; k++) if (!(v[n - 1 - k] < v[n - 2 - k] - 1e-9 * Math.max(1, Math.abs(v[n - 2 - k])))) return false;
+  // a step counts when it is larger than rounding (relative, no absolute floor): depth conversion round trips must not invent a trend
+  for (let k = 0; k < steps; k++) if (!(v[n - 1 - k] < v[n - 2 - k] - ROUNDING_REL * Math.abs(v[n - 2 - k]))) return false;
   return true;
 }
 
@@ -129,7 +146,7 @@ export function classifyBuildup(c: ClassificationInput): Classification {
       evidence.push('one cycle: no margin shift measurable');
     } else evidence.push('One cycle only: no margin trajectory measurable.');
   } else if (c.netTrajectoryDeg != null && c.netBackstepM != null && c.netAggradationM != null) {
-    const traj = classifyTrajectory(c.netTrajectoryDeg, c.netAggradationM, c.aggradingToleranceDeg);
+    const traj = classifyTrajectory(c.netTrajectoryDeg, c.netAggradationM, c.aggradingToleranceDeg, c.aggradationFloorM ?? 0);
     const sentence = `net margin trajectory from cycle 1 to cycle ${n} is ${f1(c.netTrajectoryDeg)}° (mean backstep ${f1(c.netBackstepM)} m, mean aggradation ${f1(c.netAggradationM)} m, both sides averaged)`;
     if (!cls) {
       cls = traj;

@@ -17,7 +17,7 @@
  * accumulationRateMPerMyr = thickness at the centre ÷ age span, which also
  * uses the base age for cycle 1.
  */
-import { classifyTrajectory, trajectoryDeg, type TrajectoryClass } from './classify';
+import { aggradationFloorM, classifyTrajectory, trajectoryDeg, type TrajectoryClass } from './classify';
 import { flankAngles } from './flank';
 import { interpolateAt, type Point } from './geometry';
 import type { DepthBuildup } from './prepare';
@@ -67,9 +67,11 @@ export function cycleMetrics(d: DepthBuildup, meta: readonly CycleMeta[], baseAg
     const below = i === 0 ? d.base : d.tops[i - 1];
     const h = interpolateAt(below.xs, below.zs, c) - interpolateAt(top.xs, top.zs, c);
     let lb: number | null = null, rb: number | null = null, la: number | null = null, ra: number | null = null;
+    let floor = 0;
     if (i > 0) {
       const L0 = d.marginsL[i - 1];
       const R0 = d.marginsR[i - 1];
+      floor = aggradationFloorM([L0, L, R0, R]);
       lb = L[0] - L0[0];
       rb = R0[0] - R[0];
       la = L0[1] - L[1];
@@ -92,7 +94,7 @@ export function cycleMetrics(d: DepthBuildup, meta: readonly CycleMeta[], baseAg
       meanBackstepM: mb,
       meanAggradationM: ma,
       trajectoryDeg: traj,
-      class: traj != null && ma != null ? classifyTrajectory(traj, ma, aggradingToleranceDeg) : null,
+      class: traj != null && ma != null ? classifyTrajectory(traj, ma, aggradingToleranceDeg, floor) : null,
       aggradationRateMPerMyr: rateMPerMyr(ma, older, ages[i]),
       accumulationRateMPerMyr: rateMPerMyr(h, older, ages[i]),
       marginLeft: [L[0], L[1]],

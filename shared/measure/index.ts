@@ -18,7 +18,7 @@ import {
 } from '../schemas/interpretation';
 import { cycleMetrics, type CycleMetrics } from './cycles';
 import { asymmetryOf, netTrajectory, profileMetrics, terminationsOnTop, type Asymmetry } from './buildup';
-import { classifyBuildup, type BuildupClass, type DrowningIndicator } from './classify';
+import { aggradationFloorM, classifyBuildup, type BuildupClass, type DrowningIndicator } from './classify';
 import type { CalibrationFit } from './calibration';
 import { MeasureInputError } from './errors';
 import { evaluateEnvelope, envelopeAt, piecesOf, planEnvelope, type Envelope } from './envelope';
@@ -160,6 +160,7 @@ export function measure(input: unknown, options?: unknown): MeasurementOutput {
       topWidthsM: cycles.map((c) => c.topWidthM),
       thicknessesM: cycles.map((c) => c.thicknessM),
       marginsXM: [cycles[n - 1].marginLeft[0], cycles[n - 1].marginRight[0]],
+      aggradationFloorM: aggradationFloorM([d.marginsL[0], d.marginsL[n - 1], d.marginsR[0], d.marginsR[n - 1]]),
       aggradingToleranceDeg: o.aggradingToleranceDeg,
       drownedMinTerminations: o.drownedMinTerminations,
       terminationToleranceM: o.terminationToleranceM,

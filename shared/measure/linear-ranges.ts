@@ -324,7 +324,7 @@ export function linearSamplerFor(b: PreparedBuildup, model: VelocityModel): Line
     // crest
     let zmin = Infinity;
     for (let c = 0; c < crestRows.length; c++) { const z = dot(C, crestRows[c], V); crestZ[c] = z; if (z < zmin) zmin = z; }
-    const eps = 1e-9 * Math.max(1, Math.abs(zmin));
+    const eps = 1e-9 * Math.abs(zmin); // same rule as crestOf (buildup.ts)
     let xlo = Infinity, xhi = -Infinity;
     for (let c = 0; c < crestRows.length; c++) {
       if (crestZ[c] <= zmin + eps) { if (crestX[c] < xlo) xlo = crestX[c]; if (crestX[c] > xhi) xhi = crestX[c]; }
