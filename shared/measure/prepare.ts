@@ -19,7 +19,7 @@ import { applyCalibration, fitCalibration, type Affine, type CalibrationFit, typ
 import { envelopeAt, evaluateEnvelope, piecesOf, planEnvelope, type Envelope, type EnvelopePlan } from './envelope';
 import { MeasureInputError } from './errors';
 import type { Point } from './geometry';
-import { makeTwtToDepth, type ResolvedVelocityModel, type VelocityModel } from './velocity';
+import { linearLawProblem, makeTwtToDepth, type ResolvedVelocityModel, type VelocityModel } from './velocity';
 
 export interface Surface {
   path: string;
@@ -170,6 +170,16 @@ export function prepare(it: Interpretation | (DepthContext & { buildups: Buildup
   const velocity = it.verticalDomain === 'twt_ms' ? ((it.velocity ?? null) as VelocityModel | null) : null;
   const needEnvelope = velocity?.kind === 'buildup';
   const buildups = it.buildups.map((b, bi) => prepareBuildup(b, bi, toWorld, calibration?.affine ?? null, needEnvelope));
+  if (velocity?.kind === 'linear') {
+    // the exponential law must give finite, physical depths over the input's whole TWT range
+    let tMax = -Infinity;
+    for (const b of buildups) {
+      for (const s of [b.base, ...b.sources]) for (let i = 0; i < s.ys.length; i++) if (s.ys[i] > tMax) tMax = s.ys[i];
+      for (const p of [...b.marginsL, ...b.marginsR, ...b.terminations]) if (p.y > tMax) tMax = p.y;
+    }
+    const problem = linearLawProblem(velocity.v0, velocity.k, tMax);
+    if (problem) throw new MeasureInputError('velocity.k', problem);
+  }
   return { verticalDomain: it.verticalDomain, coordinates: it.coordinates, calibration, velocity, toWorld, buildups };
 }
 

@@ -196,6 +196,32 @@ export function depthToTwt(model: ResolvedVelocityModel, zM: number, x?: number,
   return makeDepthToTwt(model)(zM, ze);
 }
 
+/**
+ * Highest instantaneous velocity (m/s) the linear law may reach within the
+ * section. Sedimentary and crystalline crust stay below about 7 km/s (from
+ * memory); Cayline refuses a law that goes beyond 20 km/s, well clear of any
+ * rock, where the exponential has stopped describing a real section.
+ */
+export const LINEAR_LAW_MAX_VELOCITY = 20_000;
+
+/**
+ * Why a linear law v(z) = v0 + k·z cannot convert TWTs up to `tMaxMs`, or
+ * null when it can. z = (v0/k)(e^{k·t/2} − 1) grows exponentially with k·t:
+ * a k that makes the deepest depth non-finite, or the velocity there exceed
+ * LINEAR_LAW_MAX_VELOCITY, is refused (v0 taken at its range maximum). The
+ * message is about `k`, the field to change.
+ */
+export function linearLawProblem(v0: Speed, k: number, tMaxMs: number): string | null {
+  if (!(k > 0) || !(tMaxMs > 0)) return null;
+  const v0max = isRange(v0) ? v0.max : v0;
+  const growth = (k * tMaxMs) / 2000;
+  const zMax = (v0max / k) * Math.expm1(growth);
+  const vMax = v0max * Math.exp(growth);
+  if (Number.isFinite(zMax) && Number.isFinite(vMax) && vMax <= LINEAR_LAW_MAX_VELOCITY) return null;
+  const at = Number.isFinite(zMax) ? `v = ${vMax.toPrecision(3)} m/s at z = ${zMax.toPrecision(3)} m` : 'depths that overflow (not finite)';
+  return `k = ${k} 1/s is too large for this section: at its deepest TWT (${tMaxMs} ms) the linear law v(z) = v0 + k·z gives ${at}, beyond ${LINEAR_LAW_MAX_VELOCITY} m/s; use a smaller k (sediments: about 0.3–1.3 1/s, from memory)`;
+}
+
 /** Instantaneous velocity (m/s) of the linear law at TWT `tMs`: v0·exp(k·t/2), t in s (Geldart & Sheriff 2004). */
 export function linearVelocityAtTwt(v0: number, k: number, tMs: number): number {
   return v0 * Math.exp((k * tMs) / 2000);
