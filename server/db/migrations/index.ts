@@ -6,6 +6,7 @@ import type { MigrationContext } from '../migrate';
 import * as m0001 from './0001-foundation';
 import * as m0002 from './0002-sections';
 import * as m0003 from './0003-buildups';
+import * as m0004 from './0004-project-owner';
 
 export interface Migration {
   name: string;
@@ -17,4 +18,5 @@ export const migrations: Migration[] = [
   { name: '0001-foundation', ...m0001 },
   { name: '0002-sections', ...m0002 },
   { name: '0003-buildups', ...m0003 },
+  { name: '0004-project-owner', ...m0004 },
 ];
