@@ -2,6 +2,8 @@
  * A local stand-in for a hosted mail service: an SMTP server on 127.0.0.1
  * that accepts every message and keeps it as an .eml file under
  * storage/mail/. The app starts it itself; admins read it at /api/admin/mail.
+ * Messages hold first passwords, so the folder is 0700 and each file 0600
+ * (written to a temporary name, then renamed into place).
  */
 import fs from 'node:fs';
 import path from 'node:path';
@@ -14,8 +16,18 @@ export interface MailSink {
   close(): Promise<void>;
 }
 
+/** Make the folder private to the server's user, and any message already in it (older versions wrote them 0644). */
+function tightenSink(dir: string) {
+  fs.mkdirSync(dir, { recursive: true, mode: 0o700 });
+  fs.chmodSync(dir, 0o700);
+  for (const f of fs.readdirSync(dir)) {
+    const p = path.join(dir, f);
+    if (fs.lstatSync(p).isFile()) fs.chmodSync(p, 0o600);
+  }
+}
+
 export function startMailSink(dir: string, port = 0): Promise<MailSink> {
-  fs.mkdirSync(dir, { recursive: true });
+  tightenSink(dir);
   const server = new SMTPServer({
     authOptional: true,
     disabledCommands: ['STARTTLS', 'AUTH'],
@@ -26,9 +38,15 @@ export function startMailSink(dir: string, port = 0): Promise<MailSink> {
       stream.on('end', () => {
         const name = `${new Date().toISOString().replace(/[:.]/g, '-')}-${crypto.randomBytes(4).toString('hex')}.eml`;
         const tmp = path.join(dir, `.${name}.part`);
-        fs.writeFileSync(tmp, Buffer.concat(chunks));
-        fs.renameSync(tmp, path.join(dir, name));
-        callback();
+        try {
+          // 'wx': never reuse or follow an existing file; the mode is set at creation, before any byte is written.
+          fs.writeFileSync(tmp, Buffer.concat(chunks), { mode: 0o600, flag: 'wx' });
+          fs.renameSync(tmp, path.join(dir, name));
+          callback();
+        } catch (err) {
+          fs.rmSync(tmp, { force: true });
+          callback(err as Error);
+        }
       });
     },
   });

@@ -1,0 +1,50 @@
+/** The local mail sink keeps messages private to the server's user: files 0600, folder 0700. */
+import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import nodemailer from 'nodemailer';
+import { afterEach, describe, expect, it } from 'vitest';
+import { readSink, startMailSink, type MailSink } from '../../server/mail/sink';
+
+let sink: MailSink | null = null;
+let dir = '';
+afterEach(async () => {
+  await sink?.close();
+  sink = null;
+  if (dir) fs.rmSync(dir, { recursive: true, force: true });
+});
+
+const mode = (p: string) => fs.statSync(p).mode & 0o777;
+
+async function sendOne(port: number, to: string) {
+  const transport = nodemailer.createTransport({ host: '127.0.0.1', port, secure: false, ignoreTLS: true });
+  await transport.sendMail({ from: 'Cayline <no-reply@cayline.example>', to, subject: 'Your first password', text: 'secret-words' });
+}
+
+describe('mail sink', () => {
+  it('writes each message readable by its owner only, in a folder only its owner can enter', async () => {
+    dir = fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-sink-'));
+    const mailDir = path.join(dir, 'mail');
+    sink = await startMailSink(mailDir);
+    await sendOne(sink.port, 'new.hand@tessel.example');
+    const files = fs.readdirSync(mailDir);
+    expect(files).toHaveLength(1); // no temporary file left behind
+    expect(files[0]).toMatch(/\.eml$/);
+    expect(mode(path.join(mailDir, files[0]))).toBe(0o600);
+    expect(mode(mailDir)).toBe(0o700);
+    expect(readSink(mailDir)[0]).toMatchObject({ to: 'new.hand@tessel.example', subject: 'Your first password' });
+  });
+
+  it('tightens a folder and messages left open by an earlier version', async () => {
+    dir = fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-sink-'));
+    const mailDir = path.join(dir, 'mail');
+    fs.mkdirSync(mailDir, { mode: 0o755 });
+    fs.chmodSync(mailDir, 0o755);
+    const old = path.join(mailDir, '2024-01-01T00-00-00-000Z-00000000.eml');
+    fs.writeFileSync(old, 'To: a@tessel.example\r\nSubject: old\r\n\r\nbody');
+    fs.chmodSync(old, 0o644);
+    sink = await startMailSink(mailDir);
+    expect(mode(mailDir)).toBe(0o700);
+    expect(mode(old)).toBe(0o600);
+  });
+});
