@@ -28,7 +28,7 @@ export function createApp(deps: AppDeps) {
   setContext(deps);
   initModels(deps.sequelize);
   const app = express();
-  app.set('trust proxy', 'loopback');
+  app.set('trust proxy', deps.config.trustProxy);
   app.disable('x-powered-by');
   app.use(
     helmet({

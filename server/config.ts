@@ -13,6 +13,15 @@ export interface Config {
   jwtExpiresIn: string;
   bcryptCost: number;
   loginRateLimit: { windowMs: number; max: number };
+  /**
+   * Per-account sign-in delay (state in PostgreSQL, table login_throttles): after
+   * `freeAttempts` failures for one e-mail, attempts are refused for
+   * `baseDelayMs`, doubling with each further failure up to `maxDelayMs`; the
+   * count is forgotten after a success or `windowMs` without attempts.
+   */
+  loginAccountLimit: { freeAttempts: number; baseDelayMs: number; maxDelayMs: number; windowMs: number };
+  /** Express "trust proxy" (TRUST_PROXY): false trusts no proxy, so X-Forwarded-For is ignored. */
+  trustProxy: boolean | number | string;
   upload: { maxFileBytes: number; maxInputPixels: number };
   mail: { host: string; port: number; from: string };
   publicUrl: string;
@@ -30,6 +39,20 @@ function jwtSecretFrom(storageDir: string): string {
   return fs.readFileSync(file, 'utf8').trim();
 }
 
+/**
+ * TRUST_PROXY as Express's "trust proxy" accepts it: unset or empty → false
+ * (trust nothing), "true"/"false", a hop count ("1"), or a comma-separated list
+ * of addresses, subnets and names ("loopback", "10.0.0.0/8, 127.0.0.1").
+ */
+export function parseTrustProxy(raw: string | undefined): boolean | number | string {
+  const v = (raw ?? '').trim();
+  if (v === '' || v === 'false') return false;
+  if (v === 'true') return true;
+  if (/^\d+$/.test(v)) return Number(v);
+  if (/^[-+]?\d*\.?\d+$/.test(v)) throw new Error(`TRUST_PROXY: a hop count must be a whole number ≥ 0, got "${v}"`);
+  return v;
+}
+
 export function loadConfig(overrides: Partial<Config> = {}): Config {
   const storageDir = overrides.storageDir ?? path.resolve(process.env.CAYLINE_STORAGE ?? path.join(ROOT_DIR, 'storage'));
   const port = Number(process.env.PORT ?? 8080);
@@ -40,6 +63,13 @@ export function loadConfig(overrides: Partial<Config> = {}): Config {
     jwtExpiresIn: process.env.JWT_EXPIRES_IN ?? '2h',
     bcryptCost: Number(process.env.BCRYPT_COST ?? 12),
     loginRateLimit: { windowMs: 15 * 60_000, max: Number(process.env.LOGIN_RATE_MAX ?? 20) },
+    loginAccountLimit: {
+      freeAttempts: Number(process.env.LOGIN_ACCOUNT_FREE_ATTEMPTS ?? 5),
+      baseDelayMs: 1000,
+      maxDelayMs: 15 * 60_000,
+      windowMs: 60 * 60_000,
+    },
+    trustProxy: parseTrustProxy(process.env.TRUST_PROXY),
     upload: {
       maxFileBytes: Number(process.env.UPLOAD_MAX_BYTES ?? 300 * 1024 * 1024),
       maxInputPixels: Number(process.env.UPLOAD_MAX_PIXELS ?? 400_000_000),
