@@ -1,86 +1,343 @@
 /**
- * Authorization matrix: every foundation route tried anonymous, with a role
- * (or non-member) that must be refused, and with one that must succeed.
+ * Authorization matrix of EVERY API route, generated from the app's own
+ * route table: the Express 5 router stack is walked (nested routers through
+ * `handle.stack`, mount paths from each layer's `rawPath`) and each
+ * `METHOD /api/path/:param` must have exactly one row below; a row that names
+ * no route fails too. Adding a route means adding one row.
+ *
+ * Each row is tried three ways:
+ * - anonymous → 401 (public routes say what anonymous gets instead);
+ * - refused: a role, or a signed-in user who is not a project member, that
+ *   must get 403/404 — or, where every signed-in user is allowed, the
+ *   explicit `refused: 'none: …'` (no invented refused case);
+ * - allowed: a role that must succeed, with its success status.
+ *
+ * Accounts: the four demo roles, all members of the demo project
+ * ("Tessel Basin screening"), and `outsider`, an interpreter who belongs to no
+ * project. Sections, Ties and buildups are built through the API
+ * (tests/helpers/api-fixtures.ts).
  */
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import request from 'supertest';
-import { createTestApp, bearer, type TestApp, type DemoRole } from '../helpers/app';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { ROLE_EMAIL, bearer, createTestApp, type DemoRole, type TestApp } from '../helpers/app';
+import { DEMO_PASSWORD } from '../../server/db/seeders/demo';
+import { FIELDS, makeImage } from '../helpers/sections';
+import { SMALL_GEOMETRY, SMALL_TIES, failedSection, readyCalibratedSection, savedBuildup, signIn } from '../helpers/api-fixtures';
+
+// ---------------------------------------------------------------------------
+// the app's route table
+
+interface RouterLayer {
+  route?: { path: unknown; methods: Record<string, boolean> };
+  handle?: { stack?: RouterLayer[] };
+  rawPath?: unknown;
+}
+
+/** `METHOD /path` of every route of an Express 5 app (string paths; mount paths joined). */
+export function routeTable(app: { router: { stack: RouterLayer[] } }): string[] {
+  const out: string[] = [];
+  const walk = (stack: RouterLayer[], prefix: string) => {
+    for (const layer of stack) {
+      if (layer.route) {
+        const paths = Array.isArray(layer.route.path) ? layer.route.path : [layer.route.path];
+        for (const p of paths) {
+          if (typeof p !== 'string') continue; // the client's catch-all regexp, outside /api
+          for (const m of Object.keys(layer.route.methods)) if (m !== '_all') out.push(`${m.toUpperCase()} ${join(prefix, p)}`);
+        }
+      } else if (layer.handle?.stack) {
+        const mount = typeof layer.rawPath === 'string' ? layer.rawPath : '';
+        walk(layer.handle.stack, join(prefix, mount));
+      }
+    }
+  };
+  walk(app.router.stack, '');
+  return [...new Set(out)].filter((r) => r.split(' ')[1].startsWith('/api/')).sort();
+}
+const join = (a: string, b: string) => (`${a}/${b}`.replace(/\/+/g, '/').replace(/(.)\/$/, '$1'));
+
+// ---------------------------------------------------------------------------
+// fixtures shared by the rows
+
+/** `session`: a reviewer signed in just for this request (for logout, which ends the session it is sent with). */
+type Who = DemoRole | 'outsider' | 'session' | 'anonymous';
+
+interface Fx {
+  demoId: number; // all four demo roles are members
+  privateId: number; // only the interpreter (its creator and owner)
+  section: number; // ready, calibrated, in the demo project
+  privateSection: number; // ready, in the private project
+  buildup: number; // measurable, on `section`
+  spareUserId: number; // an active reviewer account, member of nothing
+  outsiderId: number;
+}
+
+interface Req {
+  path: string;
+  body?: unknown;
+  /** multipart upload of a small PNG with the usual fields */
+  upload?: boolean;
+}
+
+interface Probe {
+  as: Who;
+  status: number;
+  /** a different request for this probe (e.g. another project's resource for a non-member) */
+  req?: (f: Fx) => Promise<Req> | Req;
+}
+
+interface Row {
+  /** The request tried by all three probes (built once per row: destructive rows create their own target). */
+  req: (f: Fx) => Promise<Req> | Req;
+  /** What anonymous gets: 401 unless the route is public. */
+  anonymous?: number;
+  refused: Probe | `none: ${string}`;
+  allowed: Probe;
+}
 
 let t: TestApp;
-let projectId: number; // the demo project: all four demo users are members
-let privateId: number; // a project only the interpreter belongs to
-let curatorId: number;
-let spareUserId: number;
+let fx: Fx;
+let outsiderToken: string;
+
+async function token(who: Who): Promise<string | null> {
+  if (who === 'anonymous') return null;
+  if (who === 'outsider') return outsiderToken;
+  if (who === 'session') return signIn(t, ROLE_EMAIL.reviewer, DEMO_PASSWORD);
+  return t.token(who);
+}
+const admin = () => t.token('admin');
+const interp = () => t.token('interpreter');
+
+async function versionOfSection(id: number) {
+  return (await request(t.app).get(`/api/sections/${id}`).set(bearer(await admin()))).body.version as number;
+}
+async function freshProject(name: string) {
+  const r = await request(t.app).post('/api/projects').set(bearer(await interp())).send({ name });
+  expect(r.status).toBe(201);
+  return r.body.id as number;
+}
+async function userIdOf(role: DemoRole) {
+  const r = await request(t.app).get(`/api/users?q=${encodeURIComponent(ROLE_EMAIL[role])}`).set(bearer(await admin()));
+  const u = r.body.items.find((x: { email: string }) => x.email === ROLE_EMAIL[role]);
+  expect(u, `no ${role} account`).toBeTruthy();
+  return u.id as number;
+}
+async function addMember(projectId: number, userId: number) {
+  const r = await request(t.app).post(`/api/projects/${projectId}/members`).set(bearer(await admin())).send({ userId });
+  expect(r.status, JSON.stringify(r.body)).toBe(201);
+}
+async function freshUser(role = 'reviewer') {
+  const r = await request(t.app).post('/api/users').set(bearer(await admin())).send({ email: `m${Math.random().toString(36).slice(2)}@tessel.example`, name: 'Matrix Person', role, password: 'long-enough-pw' });
+  expect(r.status).toBe(201);
+  return r.body.id as number;
+}
+async function uploadedSection() {
+  const r = await request(t.app)
+    .post(`/api/projects/${fx.demoId}/sections`)
+    .set(bearer(await interp()))
+    .field(FIELDS)
+    .attach('image', await makeImage('png', 64, 32), 'small.png');
+  expect(r.status).toBe(202);
+  return r.body.id as number;
+}
+
+// ---------------------------------------------------------------------------
+// the matrix: one row per route
+
+const MATRIX: Record<string, Row> = {
+  // public
+  'GET /api/health': { req: () => ({ path: '/api/health' }), anonymous: 200, refused: 'none: public health check', allowed: { as: 'reviewer', status: 200 } },
+  'POST /api/auth/login': {
+    req: () => ({ path: '/api/auth/login', body: { email: 'reviewer@tessel.example', password: 'cayline-demo' } }),
+    anonymous: 200,
+    refused: { as: 'anonymous', status: 401, req: () => ({ path: '/api/auth/login', body: { email: 'reviewer@tessel.example', password: 'wrong-password' } }) },
+    allowed: { as: 'anonymous', status: 200 },
+  },
+
+  // auth
+  'GET /api/auth/me': { req: () => ({ path: '/api/auth/me' }), refused: 'none: every signed-in user', allowed: { as: 'reviewer', status: 200 } },
+  'POST /api/auth/logout': { req: () => ({ path: '/api/auth/logout' }), refused: 'none: every signed-in user', allowed: { as: 'session', status: 204 } },
+
+  // users
+  'GET /api/users/directory': {
+    req: () => ({ path: '/api/users/directory' }),
+    refused: 'none: every signed-in user (the answer holds only the people they share a project with; admins see all)',
+    allowed: { as: 'reviewer', status: 200 },
+  },
+  'GET /api/users': { req: () => ({ path: '/api/users' }), refused: { as: 'interpreter', status: 403 }, allowed: { as: 'admin', status: 200 } },
+  'POST /api/users': {
+    req: () => ({ path: '/api/users', body: { email: `u${Math.random().toString(36).slice(2)}@tessel.example`, name: 'U', role: 'reviewer', password: 'long-enough-pw' } }),
+    refused: { as: 'curator', status: 403 },
+    allowed: { as: 'admin', status: 201 },
+  },
+  'PATCH /api/users/:id': { req: async () => ({ path: `/api/users/${await freshUser()}`, body: { role: 'curator' } }), refused: { as: 'reviewer', status: 403 }, allowed: { as: 'admin', status: 200 } },
+
+  // projects
+  'GET /api/projects': { req: () => ({ path: '/api/projects' }), refused: 'none: every signed-in user (the list holds only their own projects)', allowed: { as: 'curator', status: 200 } },
+  'POST /api/projects': { req: () => ({ path: '/api/projects', body: { name: 'Matrix project' } }), refused: { as: 'reviewer', status: 403 }, allowed: { as: 'interpreter', status: 201 } },
+  'GET /api/projects/:id': { req: (f) => ({ path: `/api/projects/${f.privateId}` }), refused: { as: 'curator', status: 404 }, allowed: { as: 'interpreter', status: 200 } },
+  'PATCH /api/projects/:id': { req: (f) => ({ path: `/api/projects/${f.demoId}`, body: { description: 'changed by the matrix' } }), refused: { as: 'reviewer', status: 403 }, allowed: { as: 'interpreter', status: 200 } },
+  'DELETE /api/projects/:id': {
+    req: async () => {
+      const id = await freshProject('To delete');
+      await addMember(id, await userIdOf('curator'));
+      return { path: `/api/projects/${id}` };
+    },
+    refused: { as: 'curator', status: 403 }, // a member who is not the owner
+    allowed: { as: 'interpreter', status: 204 }, // the creator, its owner
+  },
+  'PUT /api/projects/:id/owner': {
+    req: async () => {
+      const id = await freshProject('Hand over');
+      const next = await freshUser('interpreter');
+      await addMember(id, next);
+      await addMember(id, await userIdOf('curator'));
+      return { path: `/api/projects/${id}/owner`, body: { userId: next } };
+    },
+    refused: { as: 'curator', status: 403 }, // a member who is not the owner
+    allowed: { as: 'interpreter', status: 200 }, // the owner hands it over
+  },
+  'GET /api/projects/:id/members': { req: (f) => ({ path: `/api/projects/${f.privateId}/members` }), refused: { as: 'reviewer', status: 404 }, allowed: { as: 'interpreter', status: 200 } },
+  'POST /api/projects/:id/members': {
+    req: async (f) => ({ path: `/api/projects/${f.demoId}/members`, body: { userId: await freshUser() } }),
+    refused: { as: 'curator', status: 403 }, // a member without the right to edit
+    allowed: { as: 'interpreter', status: 201 },
+  },
+  'DELETE /api/projects/:id/members/:userId': {
+    req: async (f) => {
+      const userId = await freshUser();
+      expect((await request(t.app).post(`/api/projects/${f.demoId}/members`).set(bearer(await admin())).send({ userId })).status).toBe(201);
+      return { path: `/api/projects/${f.demoId}/members/${userId}` };
+    },
+    refused: { as: 'reviewer', status: 403 },
+    allowed: { as: 'interpreter', status: 204 },
+  },
+
+  // sections
+  'GET /api/projects/:projectId/sections': { req: (f) => ({ path: `/api/projects/${f.privateId}/sections` }), refused: { as: 'curator', status: 404 }, allowed: { as: 'interpreter', status: 200 } },
+  'POST /api/projects/:projectId/sections': { req: (f) => ({ path: `/api/projects/${f.demoId}/sections`, upload: true }), refused: { as: 'curator', status: 403 }, allowed: { as: 'interpreter', status: 202 } },
+  'GET /api/sections/:id': { req: (f) => ({ path: `/api/sections/${f.privateSection}` }), refused: { as: 'reviewer', status: 404 }, allowed: { as: 'admin', status: 200 } },
+  'PATCH /api/sections/:id': {
+    req: async (f) => ({ path: `/api/sections/${f.section}`, body: { version: await versionOfSection(f.section), notes: 'edited by the matrix' } }),
+    refused: { as: 'reviewer', status: 403 },
+    allowed: { as: 'interpreter', status: 200 },
+  },
+  'DELETE /api/sections/:id': { req: async () => ({ path: `/api/sections/${await uploadedSection()}` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'interpreter', status: 204 } },
+  'POST /api/sections/:id/retry': { req: async (f) => ({ path: `/api/sections/${await failedSection(t, await interp(), f.demoId)}/retry` }), refused: { as: 'curator', status: 403 }, allowed: { as: 'interpreter', status: 202 } },
+  'GET /api/sections/:id/tiles/:z/:tile': { req: (f) => ({ path: `/api/sections/${f.section}/tiles/0/0_0.jpg` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  'GET /api/sections/:id/thumbnail': { req: (f) => ({ path: `/api/sections/${f.privateSection}/thumbnail` }), refused: { as: 'curator', status: 404 }, allowed: { as: 'interpreter', status: 200 } },
+  'GET /api/sections/:id/preview': { req: (f) => ({ path: `/api/sections/${f.section}/preview` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'curator', status: 200 } },
+  'GET /api/sections/:id/calibrations': { req: (f) => ({ path: `/api/sections/${f.section}/calibrations` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  'PUT /api/sections/:id/calibration': { req: (f) => ({ path: `/api/sections/${f.section}/calibration`, body: { ties: SMALL_TIES } }), refused: { as: 'reviewer', status: 403 }, allowed: { as: 'interpreter', status: 201 } },
+  'POST /api/sections/:id/calibration/preview': { req: (f) => ({ path: `/api/sections/${f.section}/calibration/preview`, body: { ties: SMALL_TIES } }), refused: { as: 'curator', status: 403 }, allowed: { as: 'admin', status: 200 } },
+
+  // velocity and buildups
+  'GET /api/sections/:id/velocity': { req: (f) => ({ path: `/api/sections/${f.section}/velocity` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  'PUT /api/sections/:id/velocity': {
+    req: (f) => ({ path: `/api/sections/${f.section}/velocity`, body: { velocity: { kind: 'constant', v: 2400 } } }),
+    refused: { as: 'reviewer', status: 403 },
+    allowed: { as: 'interpreter', status: 200 },
+  },
+  'GET /api/sections/:sectionId/buildups': { req: (f) => ({ path: `/api/sections/${f.section}/buildups` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  'POST /api/sections/:sectionId/buildups': { req: (f) => ({ path: `/api/sections/${f.section}/buildups`, body: { name: 'Marrow Bank' } }), refused: { as: 'curator', status: 403 }, allowed: { as: 'interpreter', status: 201 } },
+  'GET /api/buildups/:id': { req: (f) => ({ path: `/api/buildups/${f.buildup}` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'curator', status: 200 } },
+  'PUT /api/buildups/:id': {
+    req: async (f) => {
+      const b = await savedBuildup(t, await interp(), f.section, 'Save target');
+      return { path: `/api/buildups/${b.id}`, body: { version: b.version, geometry: SMALL_GEOMETRY } };
+    },
+    refused: { as: 'reviewer', status: 403 },
+    allowed: { as: 'admin', status: 200 },
+  },
+  'DELETE /api/buildups/:id': { req: async (f) => ({ path: `/api/buildups/${(await savedBuildup(t, await interp(), f.section, 'Delete target')).id}` }), refused: { as: 'curator', status: 403 }, allowed: { as: 'interpreter', status: 204 } },
+  'GET /api/buildups/:id/measurements': { req: (f) => ({ path: `/api/buildups/${f.buildup}/measurements?draws=20` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  'POST /api/measure': {
+    req: () => ({
+      path: '/api/measure',
+      body: {
+        interpretation: { verticalDomain: 'depth_m', buildups: [{ base: [[0, 2000], [4000, 2000]], cycles: [{ index: 1, top: [[1000, 1800], [3000, 1800]], marginLeft: [1000, 1800], marginRight: [3000, 1800] }] }] },
+      },
+    }),
+    refused: 'none: every signed-in user (the engine on posted data, nothing stored)',
+    allowed: { as: 'outsider', status: 200 },
+  },
+
+  // admin
+  'GET /api/admin/mail': { req: () => ({ path: '/api/admin/mail' }), refused: { as: 'interpreter', status: 403 }, allowed: { as: 'admin', status: 200 } },
+};
+
+// ---------------------------------------------------------------------------
 
 beforeAll(async () => {
   t = await createTestApp();
-  const admin = await t.token('admin');
-  const list = await request(t.app).get('/api/projects').set(bearer(admin));
-  projectId = list.body.items[0].id;
-  const priv = await request(t.app).post('/api/projects').set(bearer(await t.token('interpreter'))).send({ name: 'Private look' });
-  privateId = priv.body.id;
-  const users = await request(t.app).get('/api/users').set(bearer(admin));
-  curatorId = users.body.items.find((u: { role: string }) => u.role === 'curator').id;
-  const spare = await request(t.app).post('/api/users').set(bearer(admin)).send({ email: 'spare@tessel.example', name: 'Spare', role: 'reviewer', password: 'long-enough-pw' });
-  spareUserId = spare.body.id;
-});
+  const adminToken = await admin();
+  const interpToken = await interp();
+  const projects = await request(t.app).get('/api/projects').set(bearer(adminToken));
+  const demoId = projects.body.items.find((p: { name: string }) => p.name === 'Tessel Basin screening').id;
+  const privateId = (await request(t.app).post('/api/projects').set(bearer(interpToken)).send({ name: 'Private look' })).body.id;
+  const outsider = await request(t.app).post('/api/users').set(bearer(adminToken)).send({ email: 'outsider@tessel.example', name: 'Outsider', role: 'interpreter', password: 'long-enough-pw' });
+  outsiderToken = await signIn(t, 'outsider@tessel.example', 'long-enough-pw');
+  const spare = await request(t.app).post('/api/users').set(bearer(adminToken)).send({ email: 'spare@tessel.example', name: 'Spare', role: 'reviewer', password: 'long-enough-pw' });
+  const section = await readyCalibratedSection(t, interpToken, demoId);
+  const privateSection = await readyCalibratedSection(t, interpToken, privateId);
+  const buildup = (await savedBuildup(t, interpToken, section)).id;
+  fx = { demoId, privateId, section, privateSection, buildup, spareUserId: spare.body.id, outsiderId: outsider.body.id };
+}, 240_000);
 afterAll(async () => t?.close());
 
-type Case = {
-  name: string;
-  method: 'get' | 'post' | 'patch' | 'delete';
-  path: () => string;
-  body?: () => object;
-  refused: { role: DemoRole; status: number };
-  allowed: { role: DemoRole; status: number };
-};
+async function send(method: string, r: Req, who: Who) {
+  const m = method.toLowerCase() as 'get' | 'post' | 'put' | 'patch' | 'delete';
+  let q = request(t.app)[m](r.path);
+  const tok = await token(who);
+  if (tok) q = q.set(bearer(tok));
+  if (r.upload) return q.field(FIELDS).attach('image', await makeImage('png', 64, 32), 'small.png');
+  return r.body === undefined ? q : q.send(r.body as object);
+}
 
-const cases: Case[] = [
-  { name: 'me', method: 'get', path: () => '/api/auth/me', refused: { role: 'reviewer', status: 200 }, allowed: { role: 'reviewer', status: 200 } },
-  { name: 'list users', method: 'get', path: () => '/api/users', refused: { role: 'interpreter', status: 403 }, allowed: { role: 'admin', status: 200 } },
-  { name: 'create user', method: 'post', path: () => '/api/users', body: () => ({ email: `u${Date.now()}@tessel.example`, name: 'U', role: 'reviewer', password: 'long-enough-pw' }), refused: { role: 'curator', status: 403 }, allowed: { role: 'admin', status: 201 } },
-  { name: 'update user', method: 'patch', path: () => `/api/users/${spareUserId}`, body: () => ({ role: 'curator' }), refused: { role: 'reviewer', status: 403 }, allowed: { role: 'admin', status: 200 } },
-  { name: 'directory', method: 'get', path: () => '/api/users/directory', refused: { role: 'reviewer', status: 200 }, allowed: { role: 'reviewer', status: 200 } },
-  { name: 'list projects', method: 'get', path: () => '/api/projects', refused: { role: 'curator', status: 200 }, allowed: { role: 'curator', status: 200 } },
-  { name: 'create project', method: 'post', path: () => '/api/projects', body: () => ({ name: 'Matrix project' }), refused: { role: 'reviewer', status: 403 }, allowed: { role: 'interpreter', status: 201 } },
-  { name: 'get project (non-member)', method: 'get', path: () => `/api/projects/${privateId}`, refused: { role: 'curator', status: 404 }, allowed: { role: 'interpreter', status: 200 } },
-  { name: 'admin sees any project', method: 'get', path: () => `/api/projects/${privateId}`, refused: { role: 'reviewer', status: 404 }, allowed: { role: 'admin', status: 200 } },
-  { name: 'update project', method: 'patch', path: () => `/api/projects/${projectId}`, body: () => ({ description: 'changed' }), refused: { role: 'reviewer', status: 403 }, allowed: { role: 'interpreter', status: 200 } },
-  { name: 'list members', method: 'get', path: () => `/api/projects/${privateId}/members`, refused: { role: 'reviewer', status: 404 }, allowed: { role: 'interpreter', status: 200 } },
-  { name: 'add member', method: 'post', path: () => `/api/projects/${privateId}/members`, body: () => ({ userId: curatorId }), refused: { role: 'reviewer', status: 404 }, allowed: { role: 'interpreter', status: 201 } },
-  { name: 'add member (member, wrong role)', method: 'post', path: () => `/api/projects/${projectId}/members`, body: () => ({ userId: spareUserId }), refused: { role: 'curator', status: 403 }, allowed: { role: 'admin', status: 201 } },
-  { name: 'remove member', method: 'delete', path: () => `/api/projects/${projectId}/members/${spareUserId}`, refused: { role: 'reviewer', status: 403 }, allowed: { role: 'interpreter', status: 204 } },
-];
+const describeRefused = (r: Row['refused']) => (typeof r === 'string' ? `refused ${r}` : `${r.as} ${r.status}`);
 
 describe('authorization matrix', () => {
-  for (const c of cases) {
-    it(`${c.method.toUpperCase()} ${c.name}: anonymous 401, ${c.refused.role} ${c.refused.status}, ${c.allowed.role} ${c.allowed.status}`, async () => {
-      const anon = await request(t.app)[c.method](c.path()).send(c.body?.() ?? {});
-      expect(anon.status).toBe(401);
-      const refused = await request(t.app)[c.method](c.path()).set(bearer(await t.token(c.refused.role))).send(c.body?.() ?? {});
-      expect(refused.status).toBe(c.refused.status);
-      const ok = await request(t.app)[c.method](c.path()).set(bearer(await t.token(c.allowed.role))).send(c.body?.() ?? {});
-      expect(ok.status).toBe(c.allowed.status);
+  it('has exactly one row per route of the app', () => {
+    const routes = routeTable(t.app as never);
+    expect(routes.length).toBeGreaterThan(30);
+    const rows = Object.keys(MATRIX).sort();
+    expect(routes.filter((r) => !rows.includes(r)), 'routes without a row').toEqual([]);
+    expect(rows.filter((r) => !routes.includes(r)), 'rows that name no route').toEqual([]);
+  });
+
+  it('the route table walker finds nested routers and their mount paths', () => {
+    const routes = routeTable(t.app as never);
+    expect(routes).toContain('GET /api/health'); // on the app itself
+    expect(routes).toContain('POST /api/auth/login'); // router mounted at /api/auth
+    expect(routes).toContain('DELETE /api/projects/:id/members/:userId'); // router mounted at /api/projects
+    expect(routes).toContain('GET /api/sections/:id/tiles/:z/:tile'); // router mounted at /api
+  });
+
+  for (const [key, row] of Object.entries(MATRIX)) {
+    const [method] = key.split(' ');
+    const anon = row.anonymous ?? 401;
+    it(`${key}: anonymous ${anon}, ${describeRefused(row.refused)}, ${row.allowed.as} ${row.allowed.status}`, async () => {
+      const r = await row.req(fx);
+      const a = await send(method, r, 'anonymous');
+      expect(a.status, `anonymous: ${JSON.stringify(a.body)}`).toBe(anon);
+      if (anon === 401) expect(a.body.code).toBeTruthy();
+      if (typeof row.refused === 'string') {
+        expect(row.refused).toMatch(/^none: \S/);
+      } else {
+        const rr = row.refused.req ? await row.refused.req(fx) : r;
+        const res = await send(method, rr, row.refused.as);
+        expect(res.status, `${row.refused.as}: ${JSON.stringify(res.body)}`).toBe(row.refused.status);
+        expect([401, 403, 404]).toContain(row.refused.status);
+      }
+      const ar = row.allowed.req ? await row.allowed.req(fx) : r;
+      const ok = await send(method, ar, row.allowed.as);
+      expect(ok.status, `${row.allowed.as}: ${JSON.stringify(ok.body)}`).toBe(row.allowed.status);
+      expect(row.allowed.status).toBeLessThan(300);
     });
   }
 
-  it('DELETE project: anonymous 401, member who is not the creator 403, creator 204, gone afterwards', async () => {
-    const interp = await t.token('interpreter');
-    const p = await request(t.app).post('/api/projects').set(bearer(interp)).send({ name: 'To delete' });
-    await request(t.app).post(`/api/projects/${p.body.id}/members`).set(bearer(interp)).send({ userId: curatorId });
-    expect((await request(t.app).delete(`/api/projects/${p.body.id}`)).status).toBe(401);
-    expect((await request(t.app).delete(`/api/projects/${p.body.id}`).set(bearer(await t.token('curator')))).status).toBe(403);
-    expect((await request(t.app).delete(`/api/projects/${p.body.id}`).set(bearer(interp))).status).toBe(204);
-    expect((await request(t.app).get(`/api/projects/${p.body.id}`).set(bearer(interp))).status).toBe(404);
-  });
-
-  it('POST logout: anonymous 401, any signed-in user 204', async () => {
-    expect((await request(t.app).post('/api/auth/logout')).status).toBe(401);
-    const login = await request(t.app).post('/api/auth/login').send({ email: 'reviewer@tessel.example', password: 'cayline-demo' });
-    expect((await request(t.app).post('/api/auth/logout').set(bearer(login.body.token))).status).toBe(204);
-  });
-
-  it('health needs no sign-in', async () => {
-    expect((await request(t.app).get('/api/health')).status).toBe(200);
+  it('DELETE project: the creator may, an admin may, a member who did not create it may not — and it is gone', async () => {
+    const id = await freshProject('Gone afterwards');
+    expect((await request(t.app).delete(`/api/projects/${id}`).set(bearer(await admin()))).status).toBe(204);
+    expect((await request(t.app).get(`/api/projects/${id}`).set(bearer(await interp()))).status).toBe(404);
   });
 });
