@@ -1,9 +1,15 @@
 import type { Request, Response } from 'express';
 import * as auth from '../services/auth.service';
 import { currentUser } from '../middlewares/auth';
+import { LoginThrottledError } from '../services/login-throttle.service';
 
 export async function login(_req: Request, res: Response) {
-  res.json(await auth.login(res.locals.body));
+  try {
+    res.json(await auth.login(res.locals.body));
+  } catch (e) {
+    if (e instanceof LoginThrottledError) res.set('Retry-After', String(e.retryAfterSeconds));
+    throw e;
+  }
 }
 
 export async function me(req: Request, res: Response) {

@@ -30,3 +30,6 @@ export async function removeMember(req: Request, res: Response) {
   await projects.removeMember(req.user!, idParam(req), idParam(req, 'userId'));
   res.status(204).end();
 }
+export async function transferOwner(req: Request, res: Response) {
+  res.json(await projects.transferOwner(req.user!, idParam(req), res.locals.body.userId));
+}

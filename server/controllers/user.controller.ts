@@ -13,8 +13,8 @@ export async function list(_req: Request, res: Response) {
   res.json(await users.listUsers(res.locals.query));
 }
 
-export async function directory(_req: Request, res: Response) {
-  res.json(await users.directory());
+export async function directory(req: Request, res: Response) {
+  res.json(await users.directory(req.user!, res.locals.query));
 }
 
 export async function create(req: Request, res: Response) {

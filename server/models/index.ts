@@ -59,9 +59,13 @@ export class Project extends Model<InferAttributes<Project>, InferCreationAttrib
   declare createdBy?: NonAttribute<User | null>;
 }
 
+export type ProjectRole = 'owner' | 'member';
+
 export class ProjectMember extends Model<InferAttributes<ProjectMember>, InferCreationAttributes<ProjectMember>> {
   declare projectId: number;
   declare userId: number;
+  /** One owner per project (migration 0004); everyone else is a member. */
+  declare role: CreationOptional<ProjectRole>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
 }
@@ -118,6 +122,7 @@ export function initModels(sequelize: Sequelize) {
     {
       projectId: { type: DataTypes.INTEGER, primaryKey: true },
       userId: { type: DataTypes.INTEGER, primaryKey: true },
+      role: { type: DataTypes.STRING(10), allowNull: false, defaultValue: 'member' },
       ...stamps,
     },
     { sequelize, tableName: 'project_members' },

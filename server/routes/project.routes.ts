@@ -1,5 +1,5 @@
 import { Router } from 'express';
-import { addMemberSchema, createProjectSchema, listQuerySchema, updateProjectSchema } from '../../shared/schemas/projects';
+import { addMemberSchema, createProjectSchema, listQuerySchema, transferOwnerSchema, updateProjectSchema } from '../../shared/schemas/projects';
 import { validate } from '../middlewares/validate';
 import { requireAuth, requireRole } from '../middlewares/auth';
 import * as c from '../controllers/project.controller';
@@ -15,5 +15,6 @@ export function projectRoutes() {
   r.get('/:id/members', c.members);
   r.post('/:id/members', validate(addMemberSchema), c.addMember);
   r.delete('/:id/members/:userId', c.removeMember);
+  r.put('/:id/owner', validate(transferOwnerSchema), c.transferOwner);
   return r;
 }

@@ -6,6 +6,7 @@ import { AppError } from '../middlewares/errors';
 import { ctx } from '../context';
 import type { LoginInput, LoginResult } from '../../shared/schemas/auth';
 import { audit } from './audit.service';
+import { countAttempt, forgetAttempts } from './login-throttle.service';
 
 export const JWT_ALGORITHM = 'HS256' as const;
 
@@ -23,12 +24,15 @@ export async function hashPassword(password: string): Promise<string> {
 }
 
 export async function login(input: LoginInput): Promise<LoginResult> {
+  // Per-account delay first (throws 429 while held), the same for known and unknown addresses.
+  await countAttempt(input.email);
   const user = await User.findOne({ where: { email: input.email } });
   dummyHash ??= await bcrypt.hash('not-a-real-password', ctx().config.bcryptCost);
   const ok = await bcrypt.compare(input.password, user?.passwordHash ?? dummyHash);
   if (!user || !ok || !user.active) {
     throw new AppError(401, 'invalid_credentials', 'The e-mail or password is not right, or the account is not active');
   }
+  await forgetAttempts(input.email);
   return issueToken(user);
 }
 

@@ -5,7 +5,7 @@ import { AppError, notFound } from '../middlewares/errors';
 import { hashPassword, revokeAllSessions } from './auth.service';
 import { audit } from './audit.service';
 import { ctx } from '../context';
-import type { CreateUserInput, UpdateUserInput } from '../../shared/schemas/users';
+import type { CreateUserInput, DirectoryEntry, DirectoryQuery, UpdateUserInput } from '../../shared/schemas/users';
 import type { Page } from '../../shared/schemas/projects';
 import type { PublicUser } from '../../shared/schemas/auth';
 
@@ -22,8 +22,25 @@ export async function listUsers(q: { q?: string; page: number; pageSize: number 
   return { items: rows.map((u) => u.toPublic()), total: count, page: q.page, pageSize: q.pageSize };
 }
 
-export async function directory() {
-  const users = await User.findAll({ where: { active: true }, order: [['name', 'ASC']] });
+/**
+ * Active people the asker may see in pickers: admins see everyone; others see
+ * the people they share at least one project with. With `email` (an exact
+ * address, compared lower-cased) the answer is that one person: found
+ * anywhere by those who may add members (admins, interpreters), otherwise only
+ * among the people already shared with, so nobody can probe for accounts.
+ */
+export async function directory(actor: { id: number; role: string }, q: DirectoryQuery = {}): Promise<DirectoryEntry[]> {
+  const where: Record<string | symbol, unknown> = { active: true };
+  if (q.email) where.email = q.email.toLowerCase();
+  const findsAnyone = actor.role === 'admin' || (q.email !== undefined && actor.role === 'interpreter');
+  if (!findsAnyone) {
+    where.id = {
+      [Op.in]: ctx().sequelize.literal(
+        `(SELECT other.user_id FROM project_members mine JOIN project_members other ON other.project_id = mine.project_id WHERE mine.user_id = ${Number(actor.id)})`,
+      ),
+    };
+  }
+  const users = await User.findAll({ where, order: [['name', 'ASC']] });
   return users.map((u) => ({ id: u.id, name: u.name, email: u.email, role: u.role }));
 }
 

@@ -20,6 +20,19 @@ export const addMemberSchema = z.object({
 });
 export type AddMemberInput = z.infer<typeof addMemberSchema>;
 
+/** PUT /api/projects/:id/owner — hand ownership to another member. */
+export const transferOwnerSchema = z.object({
+  userId: z.number().int().positive(),
+});
+export type TransferOwnerInput = z.infer<typeof transferOwnerSchema>;
+
+/** A member's place in one project: exactly one owner (who alone, with admins, may delete it or hand it over). */
+export type ProjectRole = 'owner' | 'member';
+
+export interface ProjectMemberView extends PublicUser {
+  projectRole: ProjectRole;
+}
+
 export const listQuerySchema = z.object({
   q: z.string().trim().max(200).optional(),
   page: z.coerce.number().int().min(1).default(1),
@@ -33,11 +46,13 @@ export interface ProjectSummary {
   createdAt: string;
   updatedAt: string;
   createdBy: { id: number; name: string } | null;
+  /** The member who owns the project (null only for old projects nobody eligible was left in). */
+  owner: { id: number; name: string } | null;
   memberCount: number;
 }
 
 export interface ProjectDetail extends ProjectSummary {
-  members: PublicUser[];
+  members: ProjectMemberView[];
   canEdit: boolean;
 }
 

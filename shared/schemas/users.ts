@@ -20,3 +20,17 @@ export const updateUserSchema = z
   })
   .refine((v) => Object.keys(v).length > 0, { message: 'nothing to change' });
 export type UpdateUserInput = z.infer<typeof updateUserSchema>;
+
+/** GET /api/users/directory?email= — an exact address (not a search). */
+export const directoryQuerySchema = z.object({
+  email: z.string().trim().toLowerCase().email('must be a complete e-mail address').optional(),
+});
+export type DirectoryQuery = z.infer<typeof directoryQuerySchema>;
+
+/** An active user as listed for pickers. */
+export interface DirectoryEntry {
+  id: number;
+  name: string;
+  email: string;
+  role: z.infer<typeof roleSchema>;
+}

@@ -34,7 +34,9 @@ export async function seedDemoUsers(sequelize: Sequelize): Promise<{ seeded: boo
     }
     const interpreter = users.find((u) => u.role === 'interpreter')!;
     const project = await Project.create({ ...DEMO_PROJECT, createdById: interpreter.id }, { transaction });
-    for (const u of users) await ProjectMember.create({ projectId: project.id, userId: u.id }, { transaction });
+    for (const u of users) {
+      await ProjectMember.create({ projectId: project.id, userId: u.id, role: u.id === interpreter.id ? 'owner' : 'member' }, { transaction });
+    }
     await AppMeta.create({ key: 'demo_users_seeded', value: { at: new Date().toISOString() } }, { transaction });
     return project.id;
   });
