@@ -1,8 +1,8 @@
-import type { PublicUser } from '../../shared/schemas/auth';
 import type {
   CreateProjectInput,
   Page,
   ProjectDetail,
+  ProjectMemberView,
   ProjectSummary,
   UpdateProjectInput,
 } from '../../shared/schemas/projects';
@@ -29,22 +29,27 @@ export function updateProject(id: number, input: UpdateProjectInput): Promise<Pr
   return apiFetch<ProjectDetail>(`/projects/${id}`, { method: 'PATCH', body: input });
 }
 
-/** DELETE /api/projects/:id (admin, or the creator) */
+/** DELETE /api/projects/:id (admin, or the owner) */
 export function deleteProject(id: number): Promise<void> {
   return apiFetch<void>(`/projects/${id}`, { method: 'DELETE' });
 }
 
 /** GET /api/projects/:id/members */
-export function listMembers(projectId: number): Promise<PublicUser[]> {
-  return apiFetch<PublicUser[]>(`/projects/${projectId}/members`);
+export function listMembers(projectId: number): Promise<ProjectMemberView[]> {
+  return apiFetch<ProjectMemberView[]>(`/projects/${projectId}/members`);
 }
 
 /** POST /api/projects/:id/members — answers the new member list. */
-export function addMember(projectId: number, userId: number): Promise<PublicUser[]> {
-  return apiFetch<PublicUser[]>(`/projects/${projectId}/members`, { method: 'POST', body: { userId } });
+export function addMember(projectId: number, userId: number): Promise<ProjectMemberView[]> {
+  return apiFetch<ProjectMemberView[]>(`/projects/${projectId}/members`, { method: 'POST', body: { userId } });
 }
 
-/** DELETE /api/projects/:id/members/:userId */
+/** DELETE /api/projects/:id/members/:userId — 409 `owner_required` for the owner (hand ownership over first). */
 export function removeMember(projectId: number, userId: number): Promise<void> {
   return apiFetch<void>(`/projects/${projectId}/members/${userId}`, { method: 'DELETE' });
+}
+
+/** PUT /api/projects/:id/owner (the owner or an admin) — the new owner must be an interpreter or admin member. */
+export function transferOwner(projectId: number, userId: number): Promise<ProjectDetail> {
+  return apiFetch<ProjectDetail>(`/projects/${projectId}/owner`, { method: 'PUT', body: { userId } });
 }

@@ -1,6 +1,6 @@
-import type { PublicUser, Role } from '../../shared/schemas/auth';
+import type { PublicUser } from '../../shared/schemas/auth';
 import type { Page } from '../../shared/schemas/projects';
-import type { CreateUserInput, UpdateUserInput } from '../../shared/schemas/users';
+import type { CreateUserInput, DirectoryEntry, UpdateUserInput } from '../../shared/schemas/users';
 import { apiFetch } from './http';
 
 export interface ListParams {
@@ -10,12 +10,7 @@ export interface ListParams {
 }
 
 /** An active user as listed for pickers (GET /api/users/directory). */
-export interface DirectoryUser {
-  id: number;
-  name: string;
-  email: string;
-  role: Role;
-}
+export type DirectoryUser = DirectoryEntry;
 
 /** GET /api/users (admin) */
 export function listUsers(params: ListParams = {}): Promise<Page<PublicUser>> {
@@ -32,7 +27,12 @@ export function updateUser(id: number, input: UpdateUserInput): Promise<PublicUs
   return apiFetch<PublicUser>(`/users/${id}`, { method: 'PATCH', body: input });
 }
 
-/** GET /api/users/directory (any signed-in user) */
-export function fetchDirectory(): Promise<DirectoryUser[]> {
-  return apiFetch<DirectoryUser[]>('/users/directory');
+/**
+ * GET /api/users/directory — active people who share a project with the
+ * caller (admins: everyone). With `email`, the one person with exactly that
+ * address: admins and interpreters find anyone, others only people they share
+ * a project with; [] when nobody matches.
+ */
+export function fetchDirectory(email?: string): Promise<DirectoryUser[]> {
+  return apiFetch<DirectoryUser[]>('/users/directory', { query: { email } });
 }

@@ -1,7 +1,6 @@
 import { keepPreviousData, useMutation, useQuery, useQueryClient } from '@tanstack/vue-query';
 import { computed, toValue, type MaybeRefOrGetter } from 'vue';
-import type { PublicUser } from '../../shared/schemas/auth';
-import type { CreateProjectInput, ProjectDetail, UpdateProjectInput } from '../../shared/schemas/projects';
+import type { CreateProjectInput, ProjectDetail, ProjectMemberView, UpdateProjectInput } from '../../shared/schemas/projects';
 import {
   addMember,
   createProject,
@@ -9,6 +8,7 @@ import {
   getProject,
   listProjects,
   removeMember,
+  transferOwner,
   updateProject,
 } from '../api/projects';
 import type { ListParams } from '../api/users';
@@ -76,7 +76,7 @@ export function useDeleteProject() {
   });
 }
 
-function withMembers(qc: ReturnType<typeof useQueryClient>, id: number, members: PublicUser[]): void {
+function withMembers(qc: ReturnType<typeof useQueryClient>, id: number, members: ProjectMemberView[]): void {
   qc.setQueryData<ProjectDetail>(projectKeys.detail(id), (old) =>
     old ? { ...old, members, memberCount: members.length } : old,
   );
@@ -102,6 +102,18 @@ export function useRemoveMember(projectId: MaybeRefOrGetter<number>) {
       const old = qc.getQueryData<ProjectDetail>(projectKeys.detail(id));
       if (old) withMembers(qc, id, old.members.filter((m) => m.id !== userId));
       void qc.invalidateQueries({ queryKey: projectKeys.detail(id) });
+      void qc.invalidateQueries({ queryKey: projectKeys.lists() });
+    },
+  });
+}
+
+/** Hand the project to another member (owner or admin); answers the whole project. */
+export function useTransferOwner(projectId: MaybeRefOrGetter<number>) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (userId: number) => transferOwner(toValue(projectId), userId),
+    onSuccess: (project) => {
+      qc.setQueryData(projectKeys.detail(project.id), project);
       void qc.invalidateQueries({ queryKey: projectKeys.lists() });
     },
   });

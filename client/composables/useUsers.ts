@@ -1,6 +1,6 @@
 import { keepPreviousData, useMutation, useQuery, useQueryClient } from '@tanstack/vue-query';
 import { computed, toValue, type MaybeRefOrGetter } from 'vue';
-import type { CreateUserInput, UpdateUserInput } from '../../shared/schemas/users';
+import { directoryQuerySchema, type CreateUserInput, type UpdateUserInput } from '../../shared/schemas/users';
 import { createUser, fetchDirectory, listUsers, updateUser, type ListParams } from '../api/users';
 
 export const userKeys = {
@@ -8,6 +8,7 @@ export const userKeys = {
   lists: () => ['users', 'list'] as const,
   list: (params: ListParams) => ['users', 'list', params] as const,
   directory: () => ['users', 'directory'] as const,
+  directoryLookup: (email: string) => ['users', 'directory', email] as const,
 };
 
 /** One page of all accounts (admin). */
@@ -20,11 +21,11 @@ export function useUserList(params: MaybeRefOrGetter<ListParams>) {
   });
 }
 
-/** Active users for pickers (any signed-in user). */
+/** Active people who share a project with the caller (admins: everyone), for pickers. */
 export function useDirectory(enabled: MaybeRefOrGetter<boolean> = true) {
   return useQuery({
     queryKey: userKeys.directory(),
-    queryFn: fetchDirectory,
+    queryFn: () => fetchDirectory(),
     enabled: computed(() => toValue(enabled)),
     staleTime: 60_000,
   });
@@ -48,4 +49,20 @@ export function useUpdateUser() {
       void qc.invalidateQueries({ queryKey: userKeys.all });
     },
   });
+}
+
+/** The one active person with exactly this e-mail address, looked up when `email` is a complete address ([] otherwise). */
+export function useDirectoryLookup(email: MaybeRefOrGetter<string | null>) {
+  const e = computed(() => toValue(email)?.trim().toLowerCase() ?? '');
+  return useQuery({
+    queryKey: computed(() => userKeys.directoryLookup(e.value)),
+    queryFn: () => fetchDirectory(e.value),
+    enabled: computed(() => looksLikeEmail(e.value)),
+    staleTime: 60_000,
+  });
+}
+
+/** A complete address as the server's schema expects (user@domain.tld), checked with the same zod rule. */
+export function looksLikeEmail(v: string): boolean {
+  return directoryQuerySchema.safeParse({ email: v }).success && v.length > 0;
 }

@@ -366,8 +366,8 @@ describe('per-address sign-in limit and X-Forwarded-For', () => {
   it('ignores a spoofed X-Forwarded-For when no proxy is configured', async () => {
     const t = await createTestApp({ seed: false, config: { loginRateLimit: { windowMs: 60_000, max: 3 } } });
     try {
-      expect(t.running.config.trustProxy).toBe(false);
       expect(await attempts(t, false)).toEqual([401, 401, 401, 429]);
+      expect(t.running.config.trustProxy).toBe(false);
     } finally {
       await t.close();
     }

@@ -3,7 +3,8 @@
  * create a project, find it in the list. Screenshots in tests/e2e/screenshots/.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestApp, type TestApp } from '../helpers/app';
+import request from 'supertest';
+import { createTestApp, bearer, type TestApp } from '../helpers/app';
 import { openBrowser, type Browser } from '../helpers/browser';
 
 let t: TestApp;
@@ -55,5 +56,36 @@ describe('foundation journey', () => {
     await b.shot('05-projects-after');
     const rows = await page.locator('[data-test="projects-table"] tbody tr').count();
     expect(rows).toBeGreaterThanOrEqual(2);
+  });
+
+  it('finds a colleague by exact e-mail, adds them and hands the project over', async () => {
+    const { page } = b;
+    // Someone the interpreter shares no project with: only their complete address finds them.
+    const made = await request(t.app)
+      .post('/api/users')
+      .set(bearer(await t.token('admin')))
+      .send({ email: 'wren.holt@tessel.example', name: 'Wren Holt', role: 'interpreter', password: 'long-enough-pw' });
+    expect(made.status).toBe(201);
+
+    await page.locator('[data-test="projects-table"]').getByText('Kestrel Knoll margins').click();
+    const card = page.locator('[data-test="members-card"]');
+    await card.locator('[data-test="member-owner"]').waitFor(); // the creator owns it
+    await card.locator('[data-test="add-member-select"]').click();
+    await page.keyboard.type('wren.holt@');
+    await page.locator('[data-test="add-member-hint"]').waitFor(); // a partial address lists nobody
+    await page.keyboard.type('tessel.example');
+    await page.locator('.n-base-select-option', { hasText: 'wren.holt@tessel.example' }).click();
+    await card.locator('[data-test="add-member-submit"]').click();
+    const row = card.locator('li', { hasText: 'Wren Holt' });
+    await row.waitFor();
+    await b.shot('06-member-added');
+
+    await row.locator('[data-test="make-owner"]').click();
+    await page.locator('.n-popconfirm__action button', { hasText: 'Make owner' }).click();
+    await row.locator('[data-test="member-owner"]').waitFor();
+    await expect.poll(() => card.locator('[data-test="member-owner"]').count()).toBe(1);
+    // The former owner may no longer hand the project on.
+    await expect.poll(() => card.locator('[data-test="make-owner"]').count()).toBe(0);
+    await b.shot('07-owner-moved');
   });
 });
