@@ -7,6 +7,7 @@
  * equality means "unchanged".
  */
 import { z } from 'zod';
+import { safeText } from '../schemas/text';
 import { formatIssuePath } from '../api-errors';
 import { applyCalibration, fitCalibration, type Affine } from '../measure/calibration';
 import { isPt, uRange, type Pt } from './geometry';
@@ -161,7 +162,7 @@ const cycleGeometrySchema = z.object({
   flankLeft: z.array(ptSchema).nullable().optional(),
   flankRight: z.array(ptSchema).nullable().optional(),
   ageTopMa: z.number().nullable().optional(),
-  systemsTract: z.string().nullable().optional(),
+  systemsTract: safeText().nullable().optional(),
 });
 /** A buildup's stored geometry (spec §4 shape in image pixels; incomplete cycles allowed while editing). */
 export const buildupGeometrySchema = z.object({

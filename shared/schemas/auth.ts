@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { safeText } from './text';
 
 /** Global roles. Project membership is separate (see projects.ts). */
 export const ROLES = ['admin', 'interpreter', 'curator', 'reviewer'] as const;
@@ -7,7 +8,7 @@ export type Role = z.infer<typeof roleSchema>;
 
 export const loginSchema = z.object({
   email: z.string().trim().toLowerCase().email('must be an e-mail address'),
-  password: z.string().min(1, 'is required').max(200),
+  password: safeText().min(1, 'is required').max(200),
 });
 export type LoginInput = z.infer<typeof loginSchema>;
 

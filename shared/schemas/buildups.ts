@@ -5,6 +5,7 @@
 import { z } from 'zod';
 import { buildupGeometrySchema } from '../editor/model';
 import { velocityModelSchema } from './interpretation';
+import { safeText } from './text';
 
 export { buildupGeometrySchema };
 
@@ -12,7 +13,7 @@ export { buildupGeometrySchema };
 export const MAX_VERTICES = 20_000;
 export const MAX_CYCLES = 60;
 
-const name = z.string().trim().min(1, 'is required').max(120, 'must be at most 120 characters');
+const name = safeText().trim().min(1, 'is required').max(120, 'must be at most 120 characters');
 
 export const createBuildupSchema = z.object({ name });
 

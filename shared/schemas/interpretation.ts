@@ -21,6 +21,7 @@
 import { z } from 'zod';
 import { formatIssuePath } from '../api-errors';
 import { fitCalibration, type Tie } from '../measure/calibration';
+import { safeText } from './text';
 
 /** An error message that says "is required" when the field is missing. */
 const req = (what: string) => (iss: { input?: unknown }) => (iss.input === undefined ? 'is required' : what);
@@ -128,11 +129,11 @@ export const cycleSchema = z.object({
   flankRight: polyline.nullish(),
   ageTopMa: num().min(0, 'must be ≥ 0 Ma').nullish(),
   /** Systems tract: LST, TST, HST or a free label. */
-  systemsTract: z.string({ error: req('must be a text label') }).trim().min(1, 'must not be empty').max(60).nullish(),
+  systemsTract: safeText({ error: req('must be a text label') }).trim().min(1, 'must not be empty').max(60).nullish(),
 });
 
 export const buildupSchema = z.object({
-  name: z.string({ error: req('must be a text') }).trim().max(200).optional(),
+  name: safeText({ error: req('must be a text') }).trim().max(200).optional(),
   base: polyline,
   baseAgeMa: num().min(0, 'must be ≥ 0 Ma').nullish(),
   cycles: z.array(cycleSchema, { error: req('must be a list of cycles') }).min(1, 'needs at least one cycle'),
@@ -252,7 +253,7 @@ export const measureOptionsSchema = z.strictObject(
     /** Monte Carlo draws when any velocity is a range. */
     draws: z.number({ error: req('must be an integer') }).int('must be an integer').min(10, 'must be ≥ 10').max(100000, 'must be ≤ 100000').default(1000),
     /** Seed of the Monte Carlo draws (same seed, same ranges). */
-    seed: z.union([z.string(), num()], { error: req('must be a text or a number') }).default('cayline'),
+    seed: z.union([safeText().max(200, 'must be at most 200 characters'), num()], { error: req('must be a text or a number') }).default('cayline'),
   },
   { error: req('must be an object') },
 );

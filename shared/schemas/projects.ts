@@ -1,16 +1,17 @@
 import { z } from 'zod';
 import type { PublicUser } from './auth';
+import { safeText } from './text';
 
 export const createProjectSchema = z.object({
-  name: z.string().trim().min(1, 'is required').max(120),
-  description: z.string().trim().max(2000).optional().default(''),
+  name: safeText().trim().min(1, 'is required').max(120),
+  description: safeText({ multiline: true }).trim().max(2000).optional().default(''),
 });
 export type CreateProjectInput = z.input<typeof createProjectSchema>;
 
 export const updateProjectSchema = z
   .object({
-    name: z.string().trim().min(1, 'is required').max(120).optional(),
-    description: z.string().trim().max(2000).optional(),
+    name: safeText().trim().min(1, 'is required').max(120).optional(),
+    description: safeText({ multiline: true }).trim().max(2000).optional(),
   })
   .refine((v) => Object.keys(v).length > 0, { message: 'nothing to change' });
 export type UpdateProjectInput = z.infer<typeof updateProjectSchema>;
@@ -34,7 +35,7 @@ export interface ProjectMemberView extends PublicUser {
 }
 
 export const listQuerySchema = z.object({
-  q: z.string().trim().max(200).optional(),
+  q: safeText().trim().max(200).optional(),
   page: z.coerce.number().int().min(1).default(1),
   pageSize: z.coerce.number().int().min(1).max(200).default(20),
 });

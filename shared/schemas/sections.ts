@@ -6,6 +6,7 @@
  */
 import { z } from 'zod';
 import type { Page } from './projects';
+import { safeText } from './text';
 
 export const VERTICAL_DOMAINS = ['twt_ms', 'depth_m'] as const;
 export type VerticalDomain = (typeof VERTICAL_DOMAINS)[number];
@@ -27,8 +28,9 @@ const optionalCoordinate = (kind: 'lon' | 'lat') => z.preprocess(blankToUndefine
 const patchCoordinate = (kind: 'lon' | 'lat') =>
   z.preprocess((v) => (v === '' ? null : v), coordinate(kind).nullable().optional());
 
-const text = (max: number) => z.string().trim().max(max, `must be at most ${max} characters`);
-const title = z.string().trim().min(1, 'is required').max(160, 'must be at most 160 characters');
+/** One-line text (line name, survey); `multiline` for notes that keep tab, LF and CR. */
+const text = (max: number, multiline = false) => safeText({ multiline }).trim().max(max, `must be at most ${max} characters`);
+const title = safeText().trim().min(1, 'is required').max(160, 'must be at most 160 characters');
 const verticalDomain = z.enum(VERTICAL_DOMAINS, { error: 'must be "twt_ms" (two-way time, ms) or "depth_m" (depth, m)' });
 
 export const COORD_KEYS = ['startLon', 'startLat', 'endLon', 'endLat'] as const;
@@ -61,8 +63,8 @@ export const createSectionSchema = z
     lineName: z.preprocess(blankToUndefined, text(80).optional().default('')),
     survey: z.preprocess(blankToUndefined, text(80).optional().default('')),
     verticalDomain,
-    notes: z.preprocess(blankToUndefined, text(5000).optional().default('')),
-    polarityNote: z.preprocess(blankToUndefined, text(500).optional().default('')),
+    notes: z.preprocess(blankToUndefined, text(5000, true).optional().default('')),
+    polarityNote: z.preprocess(blankToUndefined, text(500, true).optional().default('')),
     startLon: optionalCoordinate('lon'),
     startLat: optionalCoordinate('lat'),
     endLon: optionalCoordinate('lon'),
@@ -80,8 +82,8 @@ export const updateSectionSchema = z
     lineName: text(80).optional(),
     survey: text(80).optional(),
     verticalDomain: verticalDomain.optional(),
-    notes: text(5000).optional(),
-    polarityNote: text(500).optional(),
+    notes: text(5000, true).optional(),
+    polarityNote: text(500, true).optional(),
     startLon: patchCoordinate('lon'),
     startLat: patchCoordinate('lat'),
     endLon: patchCoordinate('lon'),
@@ -96,7 +98,7 @@ export type UpdateSectionInput = z.input<typeof updateSectionSchema>;
 
 export const SECTION_SORTS = ['-createdAt', 'createdAt', 'title', '-title', 'lineName', '-lineName', '-updatedAt', 'updatedAt'] as const;
 export const listSectionsQuerySchema = z.object({
-  q: z.string().trim().max(200).optional(),
+  q: safeText().trim().max(200).optional(),
   page: z.coerce.number().int().min(1).default(1),
   pageSize: z.coerce.number().int().min(1).max(200).default(20),
   sort: z.enum(SECTION_SORTS, { error: `must be one of ${SECTION_SORTS.join(', ')}` }).default('-createdAt'),

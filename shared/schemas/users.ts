@@ -1,20 +1,21 @@
 import { z } from 'zod';
 import { roleSchema } from './auth';
+import { safeText } from './text';
 
 export const PASSWORD_MIN = 10;
 
 export const createUserSchema = z.object({
   email: z.string().trim().toLowerCase().email('must be an e-mail address'),
-  name: z.string().trim().min(1, 'is required').max(120),
+  name: safeText().trim().min(1, 'is required').max(120),
   role: roleSchema,
   /** Optional: when absent, a random password is set and an invitation mail is sent. */
-  password: z.string().min(PASSWORD_MIN, `must be at least ${PASSWORD_MIN} characters`).max(200).optional(),
+  password: safeText().min(PASSWORD_MIN, `must be at least ${PASSWORD_MIN} characters`).max(200).optional(),
 });
 export type CreateUserInput = z.infer<typeof createUserSchema>;
 
 export const updateUserSchema = z
   .object({
-    name: z.string().trim().min(1, 'is required').max(120).optional(),
+    name: safeText().trim().min(1, 'is required').max(120).optional(),
     role: roleSchema.optional(),
     active: z.boolean().optional(),
   })
