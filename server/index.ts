@@ -13,6 +13,7 @@ import { createMailer } from './mail/mailer';
 import { startMailSink, type MailSink } from './mail/sink';
 import { logger } from './logger';
 import { startBackgroundJobs } from './jobs/pyramid.job';
+import { closeMeasurePool } from './measure/pool';
 
 export interface Running {
   app: ReturnType<typeof createApp>;
@@ -69,6 +70,7 @@ export async function boot(opts: BootOptions): Promise<Running> {
     async close() {
       if (server) await new Promise<void>((r) => server!.close(() => r()));
       await jobs.stop();
+      await closeMeasurePool();
       await sink?.close();
       await sequelize.close();
     },

@@ -1,7 +1,9 @@
 import type { Request, Response } from 'express';
 import * as buildups from '../services/buildup.service';
 import { idParam } from './user.controller';
-import { measure } from '../../shared/measure/index';
+import { measureWorkProblem } from '../../shared/schemas/measure-limits';
+import { AppError } from '../middlewares/errors';
+import { measureOffLoop } from '../measure/pool';
 
 export async function list(req: Request, res: Response) {
   res.json(await buildups.listBuildups(req.user!, idParam(req, 'sectionId')));
@@ -28,8 +30,15 @@ export async function getVelocity(req: Request, res: Response) {
 export async function putVelocity(req: Request, res: Response) {
   res.json(await buildups.putVelocity(req.user!, idParam(req), res.locals.body.velocity));
 }
-/** `POST /api/measure`: the engine on a posted interpretation (spec §9). */
+/**
+ * `POST /api/measure`: the engine on a posted interpretation (spec §9), on the
+ * measurement pool. Work beyond the budget answers 422 `work_too_large`
+ * naming `options.draws` and the largest draws this input may ask for.
+ */
 export async function measureInterpretation(req: Request, res: Response) {
   const body = (req.body ?? {}) as { interpretation?: unknown; options?: unknown };
-  res.json(measure(body.interpretation, body.options));
+  const draws = body.options && typeof body.options === 'object' ? (body.options as { draws?: unknown }).draws : undefined;
+  const tooMuch = measureWorkProblem(body.interpretation, draws, 'options.draws');
+  if (tooMuch) throw new AppError(422, 'work_too_large', `${tooMuch.path}: ${tooMuch.message}`, [{ path: tooMuch.path, message: tooMuch.message }]);
+  res.json(await measureOffLoop(body.interpretation, body.options));
 }

@@ -1,6 +1,7 @@
 import { Router } from 'express';
 import { z } from 'zod';
 import { createBuildupSchema, putVelocitySchema, saveBuildupSchema } from '../../shared/schemas/buildups';
+import { measureRequestSchema } from '../../shared/schemas/measure-limits';
 import { validate } from '../middlewares/validate';
 import { requireAuth } from '../middlewares/auth';
 import * as c from '../controllers/buildup.controller';
@@ -12,10 +13,8 @@ const measurementQuery = z.object({
   draws: z.coerce.number().optional(),
 });
 
-const measureBody = z.object(
-  { interpretation: z.record(z.string(), z.unknown(), { error: 'is required: an interpretation object (measurement-spec §4)' }), options: z.unknown().optional() },
-  { error: 'must be { interpretation, options }' },
-);
+/** `{ interpretation, options }`, with the buildup cap of shared/schemas/measure-limits.ts. */
+const measureBody = measureRequestSchema;
 
 /** Mounted at /api. */
 export function buildupRoutes() {

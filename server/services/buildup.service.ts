@@ -12,7 +12,10 @@ import { assertCanEdit, type Actor } from './project.service';
 import { sectionForEditor, sectionForViewer } from './section.service';
 import { audit } from './audit.service';
 import { ctx } from '../context';
-import { measure, MeasureInputError, type MeasurementOutput } from '../../shared/measure/index';
+import { MeasureInputError, type MeasurementOutput } from '../../shared/measure/index';
+import { measureWorkProblem } from '../../shared/schemas/measure-limits';
+import { measureOffLoop } from '../measure/pool';
+import { cachedMeasurement, stableJson } from '../measure/cache';
 import { fromGeometry, toInterpretationInput, ModelError, type BuildupGeometry, type VelocityModel } from '../../shared/editor/model';
 import { DEFAULT_VELOCITY, DEFAULT_VELOCITY_SOURCES, type BuildupSummary, type SaveBuildupInput } from '../../shared/schemas/buildups';
 
@@ -128,18 +131,38 @@ export async function putVelocity(actor: Actor, sectionId: number, velocity: unk
 
 /** Everything the engine needs besides the geometry: latest Ties, vertical domain, velocity model. */
 export async function measureContext(section: Section) {
-  const cal = await SectionCalibration.findOne({ where: { sectionId: section.id }, order: [['version', 'DESC']] });
-  if (!cal) throw new AppError(409, 'not_calibrated', 'calibration: the section has no Ties yet; calibrate it before measuring');
-  const { velocity } = await velocityOf(section.id);
-  return { calibrationTies: cal.ties, verticalDomain: section.verticalDomain, velocity };
+  return (await measureSources(section)).context;
 }
 
+/** The measurement context and the versions it came from (the cache key of a stored buildup's numbers). */
+async function measureSources(section: Section) {
+  const cal = await SectionCalibration.findOne({ where: { sectionId: section.id }, order: [['version', 'DESC']] });
+  if (!cal) throw new AppError(409, 'not_calibrated', 'calibration: the section has no Ties yet; calibrate it before measuring');
+  const v = await velocityOf(section.id);
+  return {
+    context: { calibrationTies: cal.ties, verticalDomain: section.verticalDomain, velocity: v.velocity },
+    versions: { calibration: [cal.id, cal.version], domain: section.verticalDomain, velocity: [v.updatedAt, v.velocity] },
+  };
+}
+
+/**
+ * A stored buildup's measurements, computed on the measurement pool (off the
+ * event loop) and cached per buildup version, calibration version, velocity
+ * model and options (server/measure/cache.ts). Work beyond the budget
+ * (shared/schemas/measure-limits.ts) answers 422 `work_too_large` naming `draws`.
+ */
 export async function measureBuildup(actor: Actor, id: number, options?: unknown): Promise<MeasurementOutput> {
   const { buildup, section } = await buildupForViewer(actor, id);
-  const context = await measureContext(section);
+  const { context, versions } = await measureSources(section);
+  const key = stableJson({ buildup: [buildup.id, buildup.version], ...versions, options: options ?? {} });
   try {
-    const editor = fromGeometry({ id: buildup.id, name: buildup.name, version: buildup.version, geometry: buildup.geometry });
-    return measure(toInterpretationInput(editor, context), options);
+    return await cachedMeasurement(ctx().sequelize, key, async () => {
+      const editor = fromGeometry({ id: buildup.id, name: buildup.name, version: buildup.version, geometry: buildup.geometry });
+      const input = toInterpretationInput(editor, context);
+      const tooMuch = measureWorkProblem(input, (options as { draws?: unknown } | undefined)?.draws, 'draws');
+      if (tooMuch) throw new AppError(422, 'work_too_large', `${tooMuch.path}: ${tooMuch.message}`, [{ path: tooMuch.path, message: tooMuch.message }]);
+      return measureOffLoop(input, options);
+    });
   } catch (e) {
     if (e instanceof ModelError || e instanceof MeasureInputError) {
       throw new AppError(422, 'not_measurable', `${e.message}`, { path: (e as { path?: string }).path });

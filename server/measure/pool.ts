@@ -1,0 +1,68 @@
+/**
+ * The measurement engine off the event loop: a pool of worker threads
+ * (tinypool) that runs `measure()` so a long Monte Carlo never holds up other
+ * requests. Created on first use, sized to the cores
+ * (`os.availableParallelism()`, at least 1; `MEASURE_THREADS` overrides), and
+ * closed by `closeMeasurePool()` (the server's `close()`), so test processes
+ * exit. Tasks beyond `MEASURE_QUEUE` (default 16 per thread) waiting at once
+ * are refused with 503 `measure_busy`.
+ *
+ * Worker errors come back as the caller would have seen them from `measure()`
+ * itself: a `MeasureInputError` with the same path, message and issues.
+ */
+import os from 'node:os';
+import { Tinypool } from 'tinypool';
+import type { MeasurementOutput } from '../../shared/measure/index';
+import { AppError } from '../middlewares/errors';
+import { reviveError, type MeasureReply } from './task';
+
+let pool: Tinypool | null = null;
+
+/** Threads of the pool: MEASURE_THREADS when set to a whole number ≥ 1, else the available cores (at least 1). */
+export function measureThreads(env: NodeJS.ProcessEnv = process.env): number {
+  const raw = env.MEASURE_THREADS?.trim();
+  if (raw) {
+    const n = Number(raw);
+    if (!Number.isInteger(n) || n < 1) throw new Error(`MEASURE_THREADS: a whole number ≥ 1, got "${raw}"`);
+    return n;
+  }
+  const cores = typeof os.availableParallelism === 'function' ? os.availableParallelism() : os.cpus().length;
+  return Math.max(1, cores);
+}
+
+function thePool(): Tinypool {
+  if (pool) return pool;
+  const threads = measureThreads();
+  const queue = Number(process.env.MEASURE_QUEUE ?? 16 * threads);
+  pool = new Tinypool({
+    filename: new URL('./worker-entry.mjs', import.meta.url).href,
+    name: 'default',
+    minThreads: threads,
+    maxThreads: threads,
+    maxQueue: Number.isFinite(queue) && queue > 0 ? queue : 16 * threads,
+    // a clean worker: it registers tsx itself (worker-entry.mjs) instead of inheriting the parent's loader flags
+    execArgv: [],
+  });
+  return pool;
+}
+
+/** `measure(input, options)` on a worker thread. */
+export async function measureOffLoop(input: unknown, options?: unknown): Promise<MeasurementOutput> {
+  let reply: MeasureReply;
+  try {
+    reply = await thePool().run({ input, options });
+  } catch (e) {
+    if (e instanceof Error && /queue is at limit/i.test(e.message))
+      throw new AppError(503, 'measure_busy', 'The server is busy with other measurements; try again in a moment');
+    throw e;
+  }
+  if (!reply.ok) throw reviveError(reply.error);
+  return reply.output;
+}
+
+/** Stop the worker threads (waits for none of the queued tasks). A later call starts a new pool. */
+export async function closeMeasurePool(): Promise<void> {
+  const p = pool;
+  pool = null;
+  if (p) await p.destroy();
+}
