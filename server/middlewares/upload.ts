@@ -11,6 +11,7 @@ import type { RequestHandler } from 'express';
 import type { Config } from '../config';
 import { AppError } from './errors';
 import { fileStoreFor, randomName } from '../storage/fileStore';
+import { isSafeText, UNSAFE_TEXT_MESSAGE } from '../../shared/schemas/text';
 
 export const UPLOAD_FIELD = 'image';
 export const UPLOAD_LIMITS = { fields: 20, fieldSize: 64 * 1024, fieldNameSize: 100, parts: 22, headerPairs: 200 };
@@ -19,8 +20,24 @@ function sizeText(bytes: number) {
   return bytes >= 1024 * 1024 ? `${Math.round((bytes / 1024 / 1024) * 10) / 10} MB` : `${bytes} bytes`;
 }
 
+/**
+ * busboy's messages for a body that is not well-formed multipart (no boundary,
+ * a broken part header, cut off before the closing boundary), with what to
+ * tell the client.
+ */
+const MALFORMED: [RegExp, string][] = [
+  [/^Multipart: Boundary not found/, 'the Content-Type header has no multipart boundary'],
+  [/^Malformed part header/, 'a part header is malformed'],
+  [/^Unexpected end of (form|file)/, 'the body ends before the closing boundary (a truncated upload?)'],
+];
+
 function translate(err: unknown, config: Config): unknown {
-  if (!(err instanceof MulterError)) return err;
+  if (!(err instanceof MulterError)) {
+    const m = err instanceof Error && !('code' in err) ? MALFORMED.find(([re]) => re.test(err.message)) : undefined;
+    if (!m) return err;
+    const message = `not a well-formed multipart/form-data body: ${m[1]}`;
+    return new AppError(400, 'bad_multipart', message, [{ path: '', message }]);
+  }
   const field = err.field ?? UPLOAD_FIELD;
   const fail = (status: number, code: string, path: string, message: string) =>
     new AppError(status, code, `${path}: ${message}`, [{ path, message }]);
@@ -46,6 +63,8 @@ export function uploadSectionImage(config: Config): RequestHandler {
     const parse = multer({
       storage: multer.diskStorage({ destination: dir, filename: (_req, _file, cb) => cb(null, randomName()) }),
       limits: { ...UPLOAD_LIMITS, fileSize: config.upload.maxFileBytes, files: 1 },
+      // file names are UTF-8 (as browsers send them), not Latin-1 bytes that would read as control characters
+      defParamCharset: 'utf8',
     }).single(UPLOAD_FIELD);
     parse(req, res, (err?: unknown) => {
       if (err) return next(translate(err, config));
@@ -55,6 +74,10 @@ export function uploadSectionImage(config: Config): RequestHandler {
             { path: UPLOAD_FIELD, message: 'attach one PNG, JPEG or TIFF file' },
           ]),
         );
+      }
+      if (!isSafeText(req.file.originalname)) {
+        const message = `the file name ${UNSAFE_TEXT_MESSAGE}`;
+        return next(new AppError(400, 'validation_failed', `${UPLOAD_FIELD}: ${message}`, [{ path: UPLOAD_FIELD, message }]));
       }
       next();
     });
