@@ -1,6 +1,7 @@
 import crypto from 'node:crypto';
 import bcrypt from 'bcryptjs';
 import jwt from 'jsonwebtoken';
+import type { Transaction } from 'sequelize';
 import { AuthSession, User } from '../models/index';
 import { AppError } from '../middlewares/errors';
 import { ctx } from '../context';
@@ -45,8 +46,10 @@ export async function issueToken(user: User, expiresIn: string = ctx().config.jw
   });
   const decoded = jwt.decode(token) as { exp: number };
   const expiresAt = new Date(decoded.exp * 1000);
-  await AuthSession.create({ id: sid, userId: user.id, expiresAt });
-  await audit(user.id, 'auth.login', 'user', user.id);
+  await ctx().sequelize.transaction(async (transaction) => {
+    await AuthSession.create({ id: sid, userId: user.id, expiresAt }, { transaction });
+    await audit(user.id, 'auth.login', 'user', user.id, null, transaction);
+  });
   return { token, expiresAt: expiresAt.toISOString(), user: user.toPublic() };
 }
 
@@ -64,6 +67,6 @@ export async function logout(sid: string) {
   await AuthSession.update({ revokedAt: new Date() }, { where: { id: sid } });
 }
 
-export async function revokeAllSessions(userId: number) {
-  await AuthSession.update({ revokedAt: new Date() }, { where: { userId, revokedAt: null } });
+export async function revokeAllSessions(userId: number, transaction?: Transaction) {
+  await AuthSession.update({ revokedAt: new Date() }, { where: { userId, revokedAt: null }, transaction });
 }

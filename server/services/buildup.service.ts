@@ -54,8 +54,11 @@ export async function listBuildups(actor: Actor, sectionId: number) {
 
 export async function createBuildup(actor: Actor, sectionId: number, name: string) {
   await sectionForEditor(actor, sectionId);
-  const b = await Buildup.create({ sectionId, name, geometry: EMPTY_GEOMETRY, createdById: actor.id, updatedById: actor.id });
-  await audit(actor.id, 'buildup.create', 'buildup', b.id, { sectionId, name });
+  const b = await ctx().sequelize.transaction(async (transaction) => {
+    const row = await Buildup.create({ sectionId, name, geometry: EMPTY_GEOMETRY, createdById: actor.id, updatedById: actor.id }, { transaction });
+    await audit(actor.id, 'buildup.create', 'buildup', row.id, { sectionId, name }, transaction);
+    return row;
+  });
   return { id: b.id, version: b.version };
 }
 
@@ -124,8 +127,10 @@ export async function getVelocity(actor: Actor, sectionId: number): Promise<Velo
 
 export async function putVelocity(actor: Actor, sectionId: number, velocity: unknown): Promise<VelocityInfo> {
   await sectionForEditor(actor, sectionId);
-  await SectionVelocity.upsert({ sectionId, model: velocity, updatedById: actor.id, updatedAt: new Date() });
-  await audit(actor.id, 'section.velocity', 'section', sectionId, velocity);
+  await ctx().sequelize.transaction(async (transaction) => {
+    await SectionVelocity.upsert({ sectionId, model: velocity, updatedById: actor.id, updatedAt: new Date() }, { transaction });
+    await audit(actor.id, 'section.velocity', 'section', sectionId, velocity, transaction);
+  });
   return velocityOf(sectionId);
 }
 

@@ -118,9 +118,11 @@ export async function createProject(actor: Actor, input: CreateProjectInput): Pr
 
 export async function updateProject(actor: Actor, projectId: number, input: UpdateProjectInput): Promise<ProjectDetail> {
   await assertCanEdit(actor, projectId);
-  const p = (await Project.findByPk(projectId))!;
-  await p.update(input);
-  await audit(actor.id, 'project.update', 'project', projectId, input);
+  await ctx().sequelize.transaction(async (transaction) => {
+    const p = (await Project.findByPk(projectId, { transaction }))!;
+    await p.update(input, { transaction });
+    await audit(actor.id, 'project.update', 'project', projectId, input, transaction);
+  });
   return projectDetail(actor, projectId);
 }
 
@@ -141,8 +143,10 @@ export async function addMember(actor: Actor, projectId: number, userId: number)
   await assertCanEdit(actor, projectId);
   const user = await User.findByPk(userId);
   if (!user || !user.active) throw new AppError(400, 'validation_failed', 'userId: no active user with this id');
-  await ProjectMember.findOrCreate({ where: { projectId, userId } });
-  await audit(actor.id, 'project.member.add', 'project', projectId, { userId });
+  await ctx().sequelize.transaction(async (transaction) => {
+    await ProjectMember.findOrCreate({ where: { projectId, userId }, transaction });
+    await audit(actor.id, 'project.member.add', 'project', projectId, { userId }, transaction);
+  });
   return members(projectId);
 }
 

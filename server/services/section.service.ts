@@ -302,7 +302,10 @@ export async function updateSection(actor: Actor, id: number, input: UpdateSecti
   if (s.version !== version) throw conflict();
   s.set(changes as Partial<Section>);
   try {
-    await s.save();
+    await ctx().sequelize.transaction(async (transaction) => {
+      await s.save({ transaction });
+      await audit(actor.id, 'section.update', 'section', id, changes, transaction);
+    });
   } catch (e) {
     if ((e as Error).name === 'SequelizeOptimisticLockError') {
       await s.reload();
@@ -310,7 +313,6 @@ export async function updateSection(actor: Actor, id: number, input: UpdateSecti
     }
     throw e;
   }
-  await audit(actor.id, 'section.update', 'section', id, changes);
   return sectionDetail(actor, id);
 }
 

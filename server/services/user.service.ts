@@ -47,14 +47,18 @@ export async function directory(actor: { id: number; role: string }, q: Director
 export async function createUser(actorId: number | null, input: CreateUserInput): Promise<PublicUser> {
   const invited = !input.password;
   const password = input.password ?? crypto.randomBytes(12).toString('base64url');
+  const passwordHash = await hashPassword(password);
   let user: User;
   try {
-    user = await User.create({ email: input.email, name: input.name, role: input.role, passwordHash: await hashPassword(password) });
+    user = await ctx().sequelize.transaction(async (transaction) => {
+      const u = await User.create({ email: input.email, name: input.name, role: input.role, passwordHash }, { transaction });
+      await audit(actorId, 'user.create', 'user', u.id, { role: input.role }, transaction);
+      return u;
+    });
   } catch (e) {
     if (e instanceof UniqueConstraintError) throw new AppError(409, 'email_taken', 'email: an account with this e-mail already exists');
     throw e;
   }
-  await audit(actorId, 'user.create', 'user', user.id, { role: input.role });
   if (invited) {
     await ctx().mailer.send({
       to: user.email,
@@ -73,8 +77,10 @@ export async function updateUser(actorId: number, id: number, input: UpdateUserI
   if (id === actorId && (input.active === false || (input.role && input.role !== 'admin'))) {
     throw new AppError(400, 'validation_failed', 'role: you cannot demote or deactivate your own account');
   }
-  await user.update(input);
-  if (input.active === false) await revokeAllSessions(user.id);
-  await audit(actorId, 'user.update', 'user', user.id, input);
+  await ctx().sequelize.transaction(async (transaction) => {
+    await user.update(input, { transaction });
+    if (input.active === false) await revokeAllSessions(user.id, transaction);
+    await audit(actorId, 'user.update', 'user', user.id, input, transaction);
+  });
   return user.toPublic();
 }
