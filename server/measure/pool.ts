@@ -17,6 +17,12 @@ import { AppError } from '../middlewares/errors';
 import { reviveError, type MeasureReply } from './task';
 
 let pool: Tinypool | null = null;
+const stats = { started: 0, finished: 0 };
+
+/** Tasks handed to the pool and tasks answered since the process started (tests watch these). */
+export function measurePoolStats(): { started: number; finished: number; running: number } {
+  return { ...stats, running: stats.started - stats.finished };
+}
 
 /** Threads of the pool: MEASURE_THREADS when set to a whole number ≥ 1, else the available cores (at least 1). */
 export function measureThreads(env: NodeJS.ProcessEnv = process.env): number {
@@ -49,12 +55,15 @@ function thePool(): Tinypool {
 /** `measure(input, options)` on a worker thread. */
 export async function measureOffLoop(input: unknown, options?: unknown): Promise<MeasurementOutput> {
   let reply: MeasureReply;
+  stats.started++;
   try {
     reply = await thePool().run({ input, options });
   } catch (e) {
     if (e instanceof Error && /queue is at limit/i.test(e.message))
       throw new AppError(503, 'measure_busy', 'The server is busy with other measurements; try again in a moment');
     throw e;
+  } finally {
+    stats.finished++;
   }
   if (!reply.ok) throw reviveError(reply.error);
   return reply.output;
