@@ -9,6 +9,13 @@
  *   when nothing is `busy`, e.g. a drag in progress): the whole output with
  *   the P90/P50/P10 ranges. Skipped when no velocity is a range.
  *
+ * The engine runs in a Web Worker (readings.worker.ts) so the page never
+ * blocks; the newest request wins: a result that arrives after a newer pass
+ * was asked for is dropped, at most one request waits behind the running
+ * one, and a running full pass is abandoned (worker restarted) when a newer
+ * pass is asked for. Where `Worker` does not exist (node, the unit tests) the
+ * passes run synchronously.
+ *
  * `compareWithServer(local, server)` checks the browser's numbers against
  * the server's for the same saved geometry ("confirmed by the server").
  */
@@ -20,7 +27,8 @@ import {
   type EditorBuildup,
   type MeasureContext,
 } from '../../shared/editor/model';
-import { hasRanges, measure, modeOf, type MeasureOptionsInput, type MeasurementOutput } from '../../shared/measure/index';
+import { hasRanges, measure, modeOf, type InterpretationInput, type MeasureOptionsInput, type MeasurementOutput } from '../../shared/measure/index';
+import type { ReadingsReply, ReadingsRequest } from './readings.worker';
 
 // ---------------------------------------------------------------------------
 // scheduling (pure: timers are injected so tests can drive them)
@@ -253,6 +261,121 @@ export function compareWithServer(local: MeasurementOutput, server: MeasurementO
 }
 
 // ---------------------------------------------------------------------------
+// the engine in a Web Worker, newest request wins
+
+/** What the runner needs of a Worker (a real one in the browser; a fake in tests). */
+export interface WorkerLike {
+  postMessage(message: ReadingsRequest): void;
+  terminate(): void;
+  onmessage: ((e: { data: ReadingsReply }) => void) | null;
+  onerror: ((e: { message?: string }) => void) | null;
+}
+
+export type RunnerResult = { ok: true; output: MeasurementOutput } | { ok: false; message: string };
+
+export interface LatestRunner {
+  /**
+   * Measure `input` in the worker. Resolves with the result, or with null when
+   * a newer request superseded this one before its result was delivered.
+   */
+  request(input: unknown, options: unknown, mode: PassMode): Promise<RunnerResult | null>;
+  /** Stop the worker; pending requests resolve null. */
+  dispose(): void;
+}
+
+interface Job {
+  id: number;
+  input: unknown;
+  options: unknown;
+  mode: PassMode;
+  resolve(r: RunnerResult | null): void;
+}
+
+/**
+ * One worker, at most one request running and one waiting (the newest):
+ * a request that arrives while another waits replaces it (the replaced one
+ * resolves null); a running full pass (Monte Carlo) is abandoned by
+ * restarting the worker, a running quick pass is short and finishes, but its
+ * caller sees null when something newer was asked meanwhile.
+ */
+export function createLatestRunner(spawn: () => WorkerLike): LatestRunner {
+  let worker: WorkerLike | null = null;
+  let running: Job | null = null;
+  let waiting: Job | null = null;
+  let nextId = 1;
+  let latestId = 0;
+
+  const stop = () => {
+    if (!worker) return;
+    worker.onmessage = null;
+    worker.onerror = null;
+    worker.terminate();
+    worker = null;
+  };
+  const start = (): WorkerLike => {
+    const w = spawn();
+    w.onmessage = (e) => {
+      const job = running;
+      if (!job || e.data.id !== job.id) return;
+      running = null;
+      job.resolve(job.id === latestId ? (e.data.ok ? { ok: true, output: e.data.output } : { ok: false, message: e.data.message }) : null);
+      pump();
+    };
+    w.onerror = (e) => {
+      const job = running;
+      running = null;
+      stop(); // a fresh worker for the next request
+      job?.resolve(job.id === latestId ? { ok: false, message: `The measurement worker failed: ${e.message ?? 'unknown error'}` } : null);
+      pump();
+    };
+    return w;
+  };
+  function pump(): void {
+    if (running || !waiting) return;
+    running = waiting;
+    waiting = null;
+    worker ??= start();
+    worker.postMessage({ id: running.id, input: running.input, options: running.options });
+  }
+
+  return {
+    request(input, options, mode) {
+      return new Promise((resolve) => {
+        const job: Job = { id: nextId++, input, options, mode, resolve };
+        latestId = job.id;
+        waiting?.resolve(null);
+        waiting = job;
+        if (running?.mode === 'full') {
+          running.resolve(null);
+          running = null;
+          stop();
+        }
+        pump();
+      });
+    },
+    dispose() {
+      waiting?.resolve(null);
+      running?.resolve(null);
+      waiting = running = null;
+      stop();
+    },
+  };
+}
+
+/** A real Web Worker running readings.worker.ts (Vite bundles it), or null where `Worker` does not exist. */
+function browserWorker(): (() => WorkerLike) | null {
+  if (typeof Worker === 'undefined') return null;
+  return () => new Worker(new URL('./readings.worker.ts', import.meta.url), { type: 'module' }) as unknown as WorkerLike;
+}
+
+/**
+ * Plain data for `postMessage`, which refuses Vue proxies. The engine input's
+ * geometry is already copied by `toInterpretationInput`; the velocity model
+ * and the options come from the page's state as they are, and are small JSON.
+ */
+const plain = <T>(v: T): T => (v === undefined ? v : (JSON.parse(JSON.stringify(v)) as T));
+
+// ---------------------------------------------------------------------------
 // the composable
 
 /** What the composable needs of the interpretation store. */
@@ -273,6 +396,11 @@ export interface LiveReadingsArgs {
   quickDelayMs?: number;
   fullDelayMs?: number;
   timers?: TimerApi;
+  /**
+   * Starts the engine's worker. Default: a Web Worker on readings.worker.ts
+   * where `Worker` exists; null runs the passes synchronously (node, tests).
+   */
+  spawnWorker?: (() => WorkerLike) | null;
 }
 
 export interface LiveReadings {
@@ -290,8 +418,8 @@ export interface LiveReadings {
   rangesPending: Ref<boolean>;
   /** Message of the engine's refusal, or null. */
   error: Ref<string | null>;
-  /** Run any pending pass now. */
-  flush(): void;
+  /** Run any pending pass now; resolves once the newest pass's result is in `output`. */
+  flush(): Promise<void>;
 }
 
 function errorText(e: unknown): string {
@@ -328,7 +456,31 @@ export function useLiveReadings(args: LiveReadingsArgs): LiveReadings {
     return !!c && c.verticalDomain === 'twt_ms' && !!c.velocity && hasRanges(c.velocity);
   };
 
+  const spawn = args.spawnWorker === undefined ? browserWorker() : args.spawnWorker;
+  const runner = spawn ? createLatestRunner(spawn) : null;
+  let seq = 0;
+  let last: Promise<void> = Promise.resolve();
+  const inFlight = { quick: 0, full: 0 };
+  let schedulerState: SchedulerState = 'idle';
+  const showState = () => {
+    computing.value = schedulerState === 'quickPending' || inFlight.quick > 0;
+    rangesPending.value = schedulerState === 'fullPending' || inFlight.full > 0;
+  };
+
+  function apply(r: RunnerResult, quick: boolean): void {
+    if (r.ok) {
+      output.value = r.output;
+      complete.value = !quick;
+      error.value = null;
+    } else {
+      output.value = null;
+      complete.value = false;
+      error.value = r.message;
+    }
+  }
+
   function run(mode: PassMode): void {
+    const mine = ++seq;
     const b = buildup.value;
     const c = ctx.value;
     if (!b || !c || issues.value.length) {
@@ -337,17 +489,39 @@ export function useLiveReadings(args: LiveReadingsArgs): LiveReadings {
       error.value = null;
       return;
     }
+    const quick = mode === 'quick' && ranged();
+    let input: InterpretationInput;
     try {
-      const quick = mode === 'quick' && ranged();
       const context: MeasureContext = quick ? { ...c, velocity: modeOf(c.velocity) } : c;
-      output.value = measure(toInterpretationInput(b, context), opts.value);
-      complete.value = !quick;
-      error.value = null;
+      input = toInterpretationInput(b, context);
+      if (!runner) {
+        apply({ ok: true, output: measure(input, opts.value) }, quick);
+        return;
+      }
     } catch (e) {
-      output.value = null;
-      complete.value = false;
-      error.value = errorText(e);
+      apply({ ok: false, message: errorText(e) }, quick);
+      return;
     }
+    inFlight[mode]++;
+    showState();
+    last = runner
+      .request({ ...input, velocity: plain(input.velocity) }, plain(opts.value), mode)
+      .then((r) => {
+        if (r && mine === seq) apply(r, quick); // an older pass's result never overwrites a newer one
+      })
+      .finally(() => {
+        inFlight[mode]--;
+        showState();
+      });
+  }
+
+  /** Resolves once no pass is running (passes asked for meanwhile included). */
+  async function settled(): Promise<void> {
+    let p: Promise<void>;
+    do {
+      p = last;
+      await p;
+    } while (p !== last);
   }
 
   const scheduler = createReadingsScheduler({
@@ -355,11 +529,12 @@ export function useLiveReadings(args: LiveReadingsArgs): LiveReadings {
     fullDelayMs: args.fullDelayMs,
     timers: args.timers,
     run,
-    needsFull: () => ranged() && !!output.value,
+    // with the worker this is asked before the quick result is in: go by measurability then
+    needsFull: () => ranged() && (runner ? !!buildup.value && issues.value.length === 0 : !!output.value),
     isBusy: () => !!toValue(args.busy),
     onState: (s) => {
-      computing.value = s === 'quickPending';
-      rangesPending.value = s === 'fullPending';
+      schedulerState = s;
+      showState();
     },
   });
 
@@ -374,7 +549,22 @@ export function useLiveReadings(args: LiveReadingsArgs): LiveReadings {
     scheduler.touch();
   });
 
-  onScopeDispose(() => scheduler.cancel());
+  onScopeDispose(() => {
+    scheduler.cancel();
+    runner?.dispose();
+  });
 
-  return { output, complete, issues, leftOut, computing, rangesPending, error, flush: () => scheduler.flush() };
+  return {
+    output,
+    complete,
+    issues,
+    leftOut,
+    computing,
+    rangesPending,
+    error,
+    flush: () => {
+      scheduler.flush();
+      return settled();
+    },
+  };
 }
