@@ -9,7 +9,8 @@ import { ROOT_DIR } from './config';
 import { setContext } from './context';
 import { initModels } from './models/index';
 import { configurePassport, requireAuth, requireRole } from './middlewares/auth';
-import { apiNotFound, errorHandler } from './middlewares/errors';
+import { apiNotFound, errorHandler, DB_RETRY_AFTER_SECONDS } from './middlewares/errors';
+import { defaultJsonBody } from './middlewares/body';
 import { authRoutes } from './routes/auth.routes';
 import { userRoutes } from './routes/user.routes';
 import { projectRoutes } from './routes/project.routes';
@@ -40,7 +41,8 @@ export function createApp(deps: AppDeps) {
       },
     }),
   );
-  app.use('/api', express.json({ limit: '20mb' }));
+  // small JSON bodies by default; routes taking large ones parse them after requireAuth (middlewares/body.ts)
+  app.use('/api', defaultJsonBody(app, deps.config));
   app.use(configurePassport(deps.config.jwtSecret));
 
   app.get('/api/health', async (_req, res) => {
@@ -50,6 +52,7 @@ export function createApp(deps: AppDeps) {
     } catch {
       db = 'down';
     }
+    if (db !== 'ok') res.set('Retry-After', String(DB_RETRY_AFTER_SECONDS));
     res.status(db === 'ok' ? 200 : 503).json({ status: db === 'ok' ? 'ok' : 'degraded', db });
   });
   app.use('/api/auth', authRoutes(deps.config));

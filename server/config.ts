@@ -23,6 +23,13 @@ export interface Config {
   /** Express "trust proxy" (TRUST_PROXY): false trusts no proxy, so X-Forwarded-For is ignored. */
   trustProxy: boolean | number | string;
   upload: { maxFileBytes: number; maxInputPixels: number };
+  /**
+   * JSON body limits in bytes (server/middlewares/body.ts): the /api default
+   * (JSON_MAX_BYTES, 1 MB), the routes that take large bodies after sign-in
+   * (JSON_LARGE_MAX_BYTES, 20 MB: saving a buildup, POST /api/measure) and
+   * sign-in (16 KB).
+   */
+  body: { jsonMaxBytes: number; largeJsonMaxBytes: number; signInMaxBytes: number };
   mail: { host: string; port: number; from: string };
   publicUrl: string;
   /** Background work (pg-boss, schema `pgboss`): run workers in this process, poll interval, attempts per section. */
@@ -53,6 +60,15 @@ export function parseTrustProxy(raw: string | undefined): boolean | number | str
   return v;
 }
 
+/** A whole number of bytes > 0 from the environment, or the default when unset. */
+function positiveBytes(name: string, fallback: number): number {
+  const raw = (process.env[name] ?? '').trim();
+  if (raw === '') return fallback;
+  const n = Number(raw);
+  if (!Number.isInteger(n) || n <= 0) throw new Error(`${name}: a whole number of bytes > 0, got "${raw}"`);
+  return n;
+}
+
 export function loadConfig(overrides: Partial<Config> = {}): Config {
   const storageDir = overrides.storageDir ?? path.resolve(process.env.CAYLINE_STORAGE ?? path.join(ROOT_DIR, 'storage'));
   const port = Number(process.env.PORT ?? 8080);
@@ -73,6 +89,11 @@ export function loadConfig(overrides: Partial<Config> = {}): Config {
     upload: {
       maxFileBytes: Number(process.env.UPLOAD_MAX_BYTES ?? 300 * 1024 * 1024),
       maxInputPixels: Number(process.env.UPLOAD_MAX_PIXELS ?? 400_000_000),
+    },
+    body: {
+      jsonMaxBytes: positiveBytes('JSON_MAX_BYTES', 1024 * 1024),
+      largeJsonMaxBytes: positiveBytes('JSON_LARGE_MAX_BYTES', 20 * 1024 * 1024),
+      signInMaxBytes: 16 * 1024,
     },
     mail: {
       host: '127.0.0.1',

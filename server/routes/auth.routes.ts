@@ -3,6 +3,7 @@ import rateLimit from 'express-rate-limit';
 import { loginSchema } from '../../shared/schemas/auth';
 import { validate } from '../middlewares/validate';
 import { requireAuth } from '../middlewares/auth';
+import { jsonBody } from '../middlewares/body';
 import { AppError } from '../middlewares/errors';
 import * as c from '../controllers/auth.controller';
 import type { Config } from '../config';
@@ -16,7 +17,7 @@ export function authRoutes(config: Config) {
     handler: (_req, _res, next) => next(new AppError(429, 'rate_limited', 'Too many sign-in attempts; wait a few minutes and try again')),
   });
   const r = Router();
-  r.post('/login', limiter, validate(loginSchema), c.login);
+  r.post('/login', limiter, jsonBody('signIn'), validate(loginSchema), c.login);
   r.get('/me', requireAuth, c.me);
   r.post('/logout', requireAuth, c.logout);
   return r;

@@ -4,6 +4,7 @@ import { createBuildupSchema, putVelocitySchema, saveBuildupSchema } from '../..
 import { measureRequestSchema } from '../../shared/schemas/measure-limits';
 import { validate } from '../middlewares/validate';
 import { requireAuth } from '../middlewares/auth';
+import { jsonBody } from '../middlewares/body';
 import * as c from '../controllers/buildup.controller';
 
 /** Thresholds a reader may change when asking for a stored buildup's measurements. */
@@ -24,9 +25,9 @@ export function buildupRoutes() {
   r.get('/sections/:id/velocity', requireAuth, c.getVelocity);
   r.put('/sections/:id/velocity', requireAuth, validate(putVelocitySchema), c.putVelocity);
   r.get('/buildups/:id', requireAuth, c.get);
-  r.put('/buildups/:id', requireAuth, validate(saveBuildupSchema), c.save);
+  r.put('/buildups/:id', requireAuth, jsonBody('large'), validate(saveBuildupSchema), c.save);
   r.delete('/buildups/:id', requireAuth, c.remove);
   r.get('/buildups/:id/measurements', requireAuth, validate(measurementQuery, 'query'), c.measurements);
-  r.post('/measure', requireAuth, validate(measureBody), c.measureInterpretation);
+  r.post('/measure', requireAuth, jsonBody('large'), validate(measureBody), c.measureInterpretation);
   return r;
 }

@@ -44,6 +44,8 @@ export const safeMultiLine = (s: string) => isSafeText(s, true);
  * `multiline`) and lone surrogates, with the message
  * "must not contain control characters or broken Unicode".
  */
-export function safeText(opts: { multiline?: boolean; error?: Parameters<typeof z.string>[0] } = {}) {
-  return z.string(opts.error).refine(opts.multiline ? safeMultiLine : safeSingleLine, { message: UNSAFE_TEXT_MESSAGE, abort: true });
+type StringError = Exclude<Parameters<typeof z.string>[0], string | undefined>['error'];
+
+export function safeText(opts: { multiline?: boolean; error?: StringError } = {}) {
+  return z.string(opts.error === undefined ? undefined : { error: opts.error }).refine(opts.multiline ? safeMultiLine : safeSingleLine, { message: UNSAFE_TEXT_MESSAGE, abort: true });
 }
