@@ -6,17 +6,36 @@
  * Crash safety: the pyramid is written into a private scratch folder and moved
  * into `sections/<key>/pyramid` with one rename inside the transaction that
  * marks the row ready, so the final path never holds half a pyramid.
+ *
+ * Ownership: the handler claims the section (`worker_id` = this process's
+ * job_workers id, see liveness.ts) before building, and its scratch folder is
+ * named `build-<storageKey>-<worker id>-<random>`. Every process checks on
+ * boot and every `checkEverySeconds` for `processing` sections whose owner is
+ * dead (or whose job ended, vanished, or was taken and never claimed): it
+ * cancels the stale pg-boss job and queues a fresh one, or fails the section
+ * after `jobs.maxAttempts` attempts; scratch of dead owners is removed then
+ * too, whatever its age. A build notices that its section was deleted or
+ * taken over at its next progress report (at most ~2 s apart) and stops.
  */
 import path from 'node:path';
 import fsp from 'node:fs/promises';
 import type PgBoss from 'pg-boss';
-import { Op, type Sequelize } from 'sequelize';
+import { Op, type Sequelize, type Transaction } from 'sequelize';
 import type { Config } from '../config';
 import { logger } from '../logger';
 import { Section } from '../models/section';
-import { fileStoreFor, type FileStore } from '../storage/fileStore';
+import { fileStoreFor, removeTree, scratchOwnerOf, type FileStore } from '../storage/fileStore';
 import { buildPyramid } from '../services/tiles.service';
-import { PYRAMID_QUEUE, sendPyramidJob, startJobs, nudgeWorkers, type JobQueue, type PyramidJobData } from './queue';
+import {
+  PYRAMID_QUEUE,
+  cancelPyramidJob,
+  sendPyramidJob,
+  startJobs,
+  nudgeWorkers,
+  type JobQueue,
+  type PyramidJobData,
+} from './queue';
+import { Liveness, jobTimings, type JobTimings, type WorkerRow } from './liveness';
 
 /** Keys of a section's files in the file store. */
 export const sectionKeys = (storageKey: string) => ({
@@ -25,21 +44,36 @@ export const sectionKeys = (storageKey: string) => ({
   pyramid: `sections/${storageKey}/pyramid`,
 });
 
-/** Scratch leftovers and unreferenced section folders older than this are swept on boot. */
+/** The scratch prefix of a section's builds (the store adds `-<owner>-<random>`). */
+export const buildScratchPrefix = (storageKey: string) => `build-${storageKey}`;
+
+/**
+ * Untagged scratch (no owner id in its name) and unreferenced section folders
+ * older than this are swept on boot; tagged scratch of a dead owner goes at
+ * once, whatever its age.
+ */
 export const LEFTOVER_AGE_MS = 60 * 60 * 1000;
+
+/** A progress report is written at most this often, and at least this often while strips come in. */
+const PROGRESS_MIN_MS = 400;
+const PROGRESS_MAX_MS = 2000;
 
 interface Deps {
   config: Config;
   sequelize: Sequelize;
   store: FileStore;
+  liveness: Liveness;
+  timings: JobTimings;
+  /** Set when the process stops: running builds give their section back. */
+  stopping: boolean;
 }
 let deps: Deps | null = null;
 
-/** Put a section (already in the transaction) on the queue: new job id, one more attempt, progress 0. */
-export async function queuePyramid(section: Section, transaction: import('sequelize').Transaction) {
+/** Put a section (already in the transaction) on the queue: new job id, one more attempt, progress 0, no owner yet. */
+export async function queuePyramid(section: Section, transaction: Transaction) {
   const jobId = await sendPyramidJob(section.id, transaction);
   await Section.update(
-    { jobId, attempts: section.attempts + 1, status: 'processing', progress: 0, failureReason: null },
+    { jobId, attempts: section.attempts + 1, status: 'processing', progress: 0, failureReason: null, workerId: null, progressAt: new Date() },
     { where: { id: section.id }, transaction },
   );
   return jobId;
@@ -54,37 +88,52 @@ function reasonFrom(err: unknown, storageDir: string): string {
   return `The image could not be turned into tiles: ${m}`.slice(0, 400);
 }
 
-async function removeScratchFor(store: FileStore, storageKey: string) {
-  for (const e of await fsp.readdir(store.scratchRoot).catch(() => [] as string[])) {
-    if (e.startsWith(`build-${storageKey}-`)) await fsp.rm(path.join(store.scratchRoot, e), { recursive: true, force: true });
+/** Thrown from the progress callback to stop a build (buildPyramid rethrows it after closing its files). */
+class BuildStopped extends Error {
+  constructor(readonly why: 'shutdown' | 'lost') {
+    super(why === 'shutdown' ? 'the process is stopping' : 'the section was deleted or its build taken over');
   }
 }
 
-/** The pg-boss handler: build, then publish atomically, or mark the section failed. */
+/** The pg-boss handler: claim, build, then publish atomically, or mark the section failed. */
 export async function runPyramidJob(job: PgBoss.Job<PyramidJobData>) {
   if (!deps) throw new Error('pyramid job before startBackgroundJobs()');
-  const { config, sequelize, store } = deps;
+  const d = deps;
+  const { config, sequelize, store } = d;
+  const me = d.liveness.id;
   const sectionId = Number(job.data?.sectionId);
   const section = Number.isInteger(sectionId) ? await Section.findByPk(sectionId) : null;
   if (!section || section.status !== 'processing' || section.jobId !== job.id) return; // deleted, done, or a stale job
+  const [claimed] = await Section.update(
+    { workerId: me, progress: 2, progressAt: new Date() },
+    { where: { id: sectionId, status: 'processing', jobId: job.id } },
+  );
+  if (!claimed) return;
   const keys = sectionKeys(section.storageKey);
-  const stillMine = { where: { id: sectionId, status: 'processing', jobId: job.id } };
+  const stillMine = { where: { id: sectionId, status: 'processing', jobId: job.id, workerId: me } };
 
-  await removeScratchFor(store, section.storageKey); // leftovers of an interrupted earlier run
-  const work = await store.scratchDir(`build-${section.storageKey}`);
-  let lastPct = -1;
-  let lastAt = 0;
+  await store.removeScratch(buildScratchPrefix(section.storageKey)); // leftovers of an interrupted earlier run
+  const work = await store.scratchDir(buildScratchPrefix(section.storageKey));
+  let lost = false;
+  let lastPct = 2;
+  let lastAt = Date.now();
   let pending: Promise<unknown> = Promise.resolve();
   const report = (fraction: number) => {
+    if (d.stopping) throw new BuildStopped('shutdown');
+    if (lost) throw new BuildStopped('lost');
     const pct = Math.min(95, 2 + Math.floor(fraction * 93));
     const now = Date.now();
-    if (pct === lastPct || now - lastAt < 400) return;
+    if (!((pct !== lastPct && now - lastAt >= PROGRESS_MIN_MS) || now - lastAt >= PROGRESS_MAX_MS)) return;
     lastPct = pct;
     lastAt = now;
-    pending = pending.then(() => Section.update({ progress: pct }, stillMine)).catch(() => {});
+    pending = pending
+      .then(() => Section.update({ progress: pct, progressAt: new Date() }, stillMine))
+      .then(([n]) => {
+        if (n === 0) lost = true; // deleted, retried or resumed elsewhere meanwhile
+      })
+      .catch((err) => logger.warn({ err, sectionId }, 'progress report failed'));
   };
   try {
-    await Section.update({ progress: 2 }, stillMine);
     const out = path.join(work, 'pyramid');
     await fsp.mkdir(out);
     const src = await store.localCopy(keys.original);
@@ -97,7 +146,7 @@ export async function runPyramidJob(job: PgBoss.Job<PyramidJobData>) {
     await pending;
     await sequelize.transaction(async (transaction) => {
       const row = await Section.findByPk(sectionId, { transaction, lock: transaction.LOCK.UPDATE });
-      if (!row || row.status !== 'processing' || row.jobId !== job.id) return; // deleted or superseded meanwhile
+      if (!row || row.status !== 'processing' || row.jobId !== job.id || row.workerId !== me) return; // deleted or superseded meanwhile
       await store.removePrefix(keys.pyramid);
       await store.importDir(out, keys.pyramid);
       await Section.update(
@@ -105,6 +154,8 @@ export async function runPyramidJob(job: PgBoss.Job<PyramidJobData>) {
           status: 'ready',
           progress: 100,
           failureReason: null,
+          workerId: null,
+          progressAt: new Date(),
           pyramid: {
             tileSize: result.tileSize,
             overlap: result.overlap,
@@ -119,54 +170,134 @@ export async function runPyramidJob(job: PgBoss.Job<PyramidJobData>) {
     });
   } catch (err) {
     await pending;
+    if (err instanceof BuildStopped && err.why === 'shutdown') {
+      // give the section back; pg-boss records the failure and runs the same job again after its retry delay
+      await Section.update({ workerId: null, progress: 0, progressAt: new Date() }, stillMine).catch(() => {});
+      throw err;
+    }
+    if (err instanceof BuildStopped || lost) {
+      logger.info({ sectionId }, 'pyramid build stopped: the section was deleted or its build taken over');
+      return;
+    }
     logger.warn({ err, sectionId }, 'pyramid build failed');
-    await Section.update({ status: 'failed', progress: 0, failureReason: reasonFrom(err, config.storageDir) }, stillMine);
+    await Section.update({ status: 'failed', progress: 0, workerId: null, failureReason: reasonFrom(err, config.storageDir) }, stillMine);
   } finally {
-    await fsp.rm(work, { recursive: true, force: true });
+    await removeTree(work);
   }
+}
+
+// ---- liveness of builds ------------------------------------------------------------
+
+const QUEUED_STATES = new Set(['created', 'retry']);
+
+/**
+ * Why a `processing` section has no live build, or null when it has one (or
+ * is waiting in the queue):
+ * - `owner_dead`: its owner's heartbeat is stale, its row is gone, or its pid is gone on this host;
+ * - `job_ended`: no owner and the job is gone, completed, failed or cancelled;
+ * - `unclaimed`: the job was taken (active) longer than `staleAfterSeconds` ago and never claimed
+ *   (its process died between fetching and claiming).
+ */
+export async function deadBuildReason(
+  boss: PgBoss,
+  s: Pick<Section, 'workerId' | 'jobId'>,
+  owners: Map<string, WorkerRow>,
+): Promise<'owner_dead' | 'job_ended' | 'unclaimed' | null> {
+  const { liveness, timings } = deps!;
+  if (s.workerId) return liveness.isAlive(s.workerId, owners.get(s.workerId)) ? null : 'owner_dead';
+  const job = s.jobId ? await boss.getJobById<PyramidJobData>(PYRAMID_QUEUE, s.jobId, { includeArchive: true }).catch(() => null) : null;
+  if (!job) return 'job_ended';
+  if (QUEUED_STATES.has(job.state)) return null;
+  if (job.state === 'active') {
+    const startedOn = job.startedOn ? new Date(job.startedOn).getTime() : Date.now();
+    return Date.now() - startedOn > timings.staleAfterSeconds * 1000 ? 'unclaimed' : null;
+  }
+  return 'job_ended';
 }
 
 /**
- * On boot: a section still `processing` whose job is gone, failed, cancelled
- * or completed is queued again (up to `jobs.maxAttempts` attempts in all) or
- * failed with a clear reason. Jobs still created/retrying/active are left to
- * pg-boss (an active job of a dead process expires and is retried).
+ * For `POST /retry` of a `processing` section: why it may be retried (no live
+ * build, or no progress for `stallSeconds`), or null while a live process is
+ * building it or it waits in the queue.
+ */
+export async function stuckReason(s: Section): Promise<string | null> {
+  if (!deps) return null;
+  const boss = jobQueueOrNull();
+  if (!boss) return null;
+  const owners = await deps.liveness.workers(s.workerId ? [s.workerId] : []);
+  const dead = await deadBuildReason(boss, s, owners);
+  if (dead) return dead;
+  const since = s.progressAt ? Date.now() - new Date(s.progressAt).getTime() : 0;
+  return since > deps.timings.stallSeconds * 1000 ? 'stalled' : null;
+}
+
+function jobQueueOrNull(): PgBoss | null {
+  return queueRef;
+}
+let queueRef: PgBoss | null = null;
+
+/**
+ * Resume builds of dead processes: a `processing` section with a dead owner,
+ * an ended or vanished job, or an unclaimed taken job gets its stale job
+ * cancelled and a fresh one queued (up to `jobs.maxAttempts` attempts in all),
+ * or is failed with a clear reason. Each section is decided under its row lock
+ * and only if nothing changed meanwhile, so several processes may check at once.
  */
 export async function recoverSections(boss: PgBoss): Promise<{ requeued: number[]; failed: number[] }> {
-  const { config, sequelize } = deps!;
+  const { config, sequelize, liveness } = deps!;
   const out = { requeued: [] as number[], failed: [] as number[] };
   const stuck = await Section.findAll({ where: { status: 'processing' }, order: [['id', 'ASC']] });
+  if (!stuck.length) return out;
+  const owners = await liveness.workers(stuck.flatMap((s) => (s.workerId ? [s.workerId] : [])));
   for (const s of stuck) {
-    const job = s.jobId ? await boss.getJobById<PyramidJobData>(PYRAMID_QUEUE, s.jobId, { includeArchive: true }).catch(() => null) : null;
-    if (job && (job.state === 'created' || job.state === 'retry' || job.state === 'active')) continue;
-    if (s.attempts >= config.jobs.maxAttempts) {
-      await Section.update(
-        {
-          status: 'failed',
-          progress: 0,
-          failureReason: `Building the tiles was interrupted ${s.attempts} times; retry the section or upload the image again`,
-        },
-        { where: { id: s.id, status: 'processing' } },
-      );
-      out.failed.push(s.id);
-    } else {
-      await sequelize.transaction(async (transaction) => {
-        const row = await Section.findByPk(s.id, { transaction, lock: transaction.LOCK.UPDATE });
-        if (row && row.status === 'processing') await queuePyramid(row, transaction);
-      });
-      out.requeued.push(s.id);
-    }
+    const why = await deadBuildReason(boss, s, owners);
+    if (!why) continue;
+    const outcome = await sequelize.transaction(async (transaction) => {
+      const row = await Section.findByPk(s.id, { transaction, lock: transaction.LOCK.UPDATE });
+      if (!row || row.status !== 'processing' || row.jobId !== s.jobId || row.workerId !== s.workerId) return null; // someone acted meanwhile
+      await cancelPyramidJob(row.jobId, transaction);
+      if (row.attempts >= config.jobs.maxAttempts) {
+        await Section.update(
+          {
+            status: 'failed',
+            progress: 0,
+            workerId: null,
+            failureReason: `Building the tiles was interrupted ${row.attempts} times; retry the section or upload the image again`,
+          },
+          { where: { id: row.id }, transaction },
+        );
+        return 'failed' as const;
+      }
+      await queuePyramid(row, transaction);
+      return 'requeued' as const;
+    });
+    if (outcome) out[outcome].push(s.id);
+    if (outcome) logger.info({ sectionId: s.id, why, outcome, deadOwner: s.workerId }, 'resumed a build of a dead process');
   }
-  if (out.requeued.length || out.failed.length) logger.info(out, 'recovered interrupted sections');
+  if (out.requeued.length) nudgeWorkers();
   return out;
 }
 
-/** Remove scratch leftovers and section folders no row refers to, when older than LEFTOVER_AGE_MS. */
+/**
+ * Scratch folders (`tmp/`): one tagged with a dead owner's id goes whatever
+ * its age; one tagged with a live owner's id (this process included) stays;
+ * an untagged one goes when older than LEFTOVER_AGE_MS.
+ */
+export async function sweepScratch(now = Date.now()) {
+  const { store, liveness } = deps!;
+  const entries = await store.list('tmp');
+  const owners = await liveness.workers(entries.flatMap((e) => scratchOwnerOf(e.name) ?? []));
+  for (const e of entries) {
+    const owner = scratchOwnerOf(e.name);
+    const dead = owner ? !liveness.isAlive(owner, owners.get(owner)) : now - e.modifiedAt.getTime() > LEFTOVER_AGE_MS;
+    if (dead) await removeTree(path.join(store.scratchRoot, e.name));
+  }
+}
+
+/** Boot sweep: scratch (see sweepScratch) and section folders no row refers to, when older than LEFTOVER_AGE_MS. */
 export async function sweepLeftovers(now = Date.now()) {
   const { store } = deps!;
-  for (const e of await store.list('tmp')) {
-    if (now - e.modifiedAt.getTime() > LEFTOVER_AGE_MS) await store.removePrefix(`tmp/${e.name}`);
-  }
+  await sweepScratch(now);
   const folders = (await store.list('sections')).filter((e) => now - e.modifiedAt.getTime() > LEFTOVER_AGE_MS);
   if (!folders.length) return;
   const known = new Set(
@@ -175,15 +306,64 @@ export async function sweepLeftovers(now = Date.now()) {
   for (const f of folders) if (!known.has(f.name)) await store.removePrefix(`sections/${f.name}`);
 }
 
-/** Start pg-boss, recover interrupted sections, sweep leftovers, and (unless disabled) run workers. */
+/**
+ * Register this process (heartbeat), start pg-boss, sweep leftovers and
+ * resume dead processes' builds, run workers (unless disabled), and repeat the
+ * check every `checkEverySeconds`.
+ *
+ * Timing (defaults): a restart on the same host finds the dead owner by its
+ * pid at boot and queues the build again at once; on another host the owner's
+ * heartbeat (every 10 s) is stale after 30 s and the next check (every 15 s)
+ * resumes it, so within 45 s of the death.
+ */
 export async function startBackgroundJobs(opts: { databaseUrl: string; config: Config; sequelize: Sequelize }): Promise<JobQueue> {
-  deps = { config: opts.config, sequelize: opts.sequelize, store: fileStoreFor(opts.config.storageDir) };
-  return startJobs({
-    ...opts,
-    handlers: { pyramid: runPyramidJob },
-    onReady: async (boss) => {
-      await sweepLeftovers();
-      await recoverSections(boss);
+  const timings = jobTimings(opts.config.jobs);
+  const store = fileStoreFor(opts.config.storageDir);
+  const liveness = new Liveness(opts.sequelize, timings, opts.config.jobs.runWorkers);
+  await liveness.start();
+  store.setScratchOwner(liveness.id);
+  const mine: Deps = { config: opts.config, sequelize: opts.sequelize, store, liveness, timings, stopping: false };
+  deps = mine;
+  let timer: NodeJS.Timeout | null = null;
+  let queue: JobQueue;
+  try {
+    queue = await startJobs({
+      ...opts,
+      handlers: { pyramid: runPyramidJob },
+      onReady: async (boss) => {
+        queueRef = boss;
+        await sweepLeftovers();
+        await recoverSections(boss);
+      },
+    });
+  } catch (err) {
+    await liveness.stop();
+    throw err;
+  }
+  let checking = false;
+  timer = setInterval(() => {
+    if (checking || mine.stopping) return;
+    checking = true;
+    (async () => {
+      await recoverSections(queue.boss);
+      await sweepScratch();
+      await liveness.prune();
+    })()
+      .catch((err) => logger.warn({ err }, 'checking for builds of dead processes failed'))
+      .finally(() => (checking = false));
+  }, timings.checkEverySeconds * 1000);
+  timer.unref();
+  return {
+    boss: queue.boss,
+    async stop() {
+      if (timer) clearInterval(timer);
+      mine.stopping = true; // running builds stop at their next progress report and give their section back
+      await queue.stop();
+      await liveness.stop();
+      if (deps === mine) {
+        store.setScratchOwner(null);
+        queueRef = null;
+      }
     },
-  });
+  };
 }

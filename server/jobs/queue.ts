@@ -30,12 +30,17 @@ export function jobQueue(): PgBoss {
   return current.boss;
 }
 
+/** pg-boss's `db` option over a Sequelize transaction's own connection. */
+function transactionDb(transaction: Transaction, what: string) {
+  const client = (transaction as unknown as { connection?: { query(text: string, values: unknown[]): Promise<{ rows: unknown[] }> } }).connection;
+  if (!client) throw new Error(`${what}: the transaction has no connection yet`);
+  return { executeSql: (text: string, values: unknown[]) => client.query(text, values) as Promise<{ rows: any[] }> };
+}
+
 /** Send a pyramid job within `transaction`; returns the job id. */
 export async function sendPyramidJob(sectionId: number, transaction: Transaction): Promise<string> {
   const boss = jobQueue();
-  const client = (transaction as unknown as { connection?: { query(text: string, values: unknown[]): Promise<{ rows: unknown[] }> } }).connection;
-  if (!client) throw new Error('sendPyramidJob: the transaction has no connection yet');
-  const db = { executeSql: (text: string, values: unknown[]) => client.query(text, values) as Promise<{ rows: any[] }> };
+  const db = transactionDb(transaction, 'sendPyramidJob');
   const { jobs } = current!.config;
   const id = await boss.send(
     PYRAMID_QUEUE,
@@ -44,6 +49,17 @@ export async function sendPyramidJob(sectionId: number, transaction: Transaction
   );
   if (!id) throw new Error('the job queue refused the pyramid job');
   return id;
+}
+
+/**
+ * Cancel a pyramid job within `transaction` (a no-op once it completed,
+ * failed or was cancelled). An active job of a dead process is cancelled
+ * here instead of waiting for its expiry; its handler, should it still run
+ * somewhere, finds the section's job id changed and stops.
+ */
+export async function cancelPyramidJob(jobId: string | null | undefined, transaction: Transaction): Promise<void> {
+  if (!jobId) return;
+  await jobQueue().cancel(PYRAMID_QUEUE, jobId, { db: transactionDb(transaction, 'cancelPyramidJob') });
 }
 
 /** Wake this process's workers now instead of at their next poll (call after the sending transaction committed). */

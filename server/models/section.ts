@@ -50,6 +50,10 @@ export class Section extends Model<InferAttributes<Section>, InferCreationAttrib
   declare storageKey: string;
   declare jobId: CreationOptional<string | null>;
   declare attempts: CreationOptional<number>;
+  /** The job_workers id of the process running the build now (null while queued or after it ended). */
+  declare workerId: CreationOptional<string | null>;
+  /** When the running build last reported progress (or the section was queued). */
+  declare progressAt: CreationOptional<Date | null>;
   declare pyramid: CreationOptional<PyramidInfo | null>;
   declare uploadedById: number | null;
   declare version: CreationOptional<number>;
@@ -100,6 +104,8 @@ export function initSectionModels(sequelize: Sequelize) {
       storageKey: { type: DataTypes.STRING(64), allowNull: false, unique: true },
       jobId: { type: DataTypes.STRING(64), allowNull: true },
       attempts: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },
+      workerId: { type: DataTypes.STRING(32), allowNull: true },
+      progressAt: { type: DataTypes.DATE, allowNull: true },
       pyramid: { type: DataTypes.JSONB, allowNull: true },
       uploadedById: { type: DataTypes.INTEGER, allowNull: true },
       version: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },

@@ -44,8 +44,19 @@ export interface FileStore {
    * driver returns the object itself; a remote driver would download a copy.
    */
   localCopy(key: string): Promise<{ path: string; release(): Promise<void> }>;
-  /** A fresh private scratch folder on local disk (inside the store's tmp area). */
+  /**
+   * A fresh private scratch folder on local disk (inside the store's tmp area),
+   * named `<prefix>-<owner>-<random>` while a scratch owner is set (see
+   * `setScratchOwner`), else `<prefix>-<random>`.
+   */
   scratchDir(prefix: string): Promise<string>;
+  /** Remove every scratch folder made with `prefix` (any owner). */
+  removeScratch(prefix: string): Promise<void>;
+  /**
+   * Tag this process's scratch folders with its job_workers id, so that a boot
+   * sweep can tell a dead process's leftovers from a live one's work.
+   */
+  setScratchOwner(owner: string | null): void;
   /** The local scratch area (for sweeping leftovers). */
   readonly scratchRoot: string;
 }
@@ -65,8 +76,19 @@ export function randomName(bytes = 16): string {
   return crypto.randomBytes(bytes).toString('hex');
 }
 
+/** A scratch owner tag: `w` and 16 hex digits (a job_workers id). */
+export const SCRATCH_OWNER = /^w[0-9a-f]{16}$/;
+
+/** The owner tag in a scratch folder's name (`<prefix>-<owner>-<random>`), or null for an untagged one. */
+export function scratchOwnerOf(name: string): string | null {
+  const parts = name.split('-');
+  const owner = parts.length >= 3 ? parts[parts.length - 2] : '';
+  return SCRATCH_OWNER.test(owner) ? owner : null;
+}
+
 export class LocalFileStore implements FileStore {
   readonly scratchRoot: string;
+  private scratchOwner: string | null = null;
 
   constructor(private readonly root: string) {
     this.scratchRoot = path.join(root, 'tmp');
@@ -143,13 +165,34 @@ export class LocalFileStore implements FileStore {
     return { path: this.abs(key), release: async () => {} };
   }
 
+  setScratchOwner(owner: string | null) {
+    if (owner !== null && !SCRATCH_OWNER.test(owner)) throw new Error(`file store: refused scratch owner ${JSON.stringify(owner)}`);
+    this.scratchOwner = owner;
+  }
+
   async scratchDir(prefix: string) {
     if (!SEGMENT.test(prefix)) throw new Error(`file store: refused scratch prefix ${JSON.stringify(prefix)}`);
     await fsp.mkdir(this.scratchRoot, { recursive: true });
-    const dir = path.join(this.scratchRoot, `${prefix}-${randomName(8)}`);
+    const name = this.scratchOwner ? `${prefix}-${this.scratchOwner}-${randomName(8)}` : `${prefix}-${randomName(8)}`;
+    const dir = path.join(this.scratchRoot, name);
     await fsp.mkdir(dir);
     return dir;
   }
+
+  async removeScratch(prefix: string) {
+    if (!SEGMENT.test(prefix)) throw new Error(`file store: refused scratch prefix ${JSON.stringify(prefix)}`);
+    for (const e of await fsp.readdir(this.scratchRoot).catch(() => [] as string[])) {
+      if (e.startsWith(`${prefix}-`)) await removeTree(path.join(this.scratchRoot, e));
+    }
+  }
+}
+
+/**
+ * `rm -r` that tolerates a writer still finishing inside the folder (a tile
+ * encode of a build that is stopping): ENOTEMPTY/EBUSY are retried.
+ */
+export async function removeTree(dir: string) {
+  await fsp.rm(dir, { recursive: true, force: true, maxRetries: 10, retryDelay: 100 });
 }
 
 /** rename, falling back to copy + unlink across file systems. */

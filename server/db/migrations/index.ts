@@ -7,6 +7,7 @@ import * as m0001 from './0001-foundation';
 import * as m0002 from './0002-sections';
 import * as m0003 from './0003-buildups';
 import * as m0004 from './0004-project-owner';
+import * as m0005 from './0005-job-workers';
 
 export interface Migration {
   name: string;
@@ -19,4 +20,5 @@ export const migrations: Migration[] = [
   { name: '0002-sections', ...m0002 },
   { name: '0003-buildups', ...m0003 },
   { name: '0004-project-owner', ...m0004 },
+  { name: '0005-job-workers', ...m0005 },
 ];

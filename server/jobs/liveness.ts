@@ -1,0 +1,132 @@
+/**
+ * Which processes are alive. pg-boss 10 has no heartbeat of its own (an active
+ * job of a killed process only fails when `expireInSeconds` runs out), so
+ * every process that starts the job queue registers a row in `job_workers`
+ * (id, host, pid) and refreshes `heartbeat_at` every `heartbeatSeconds`.
+ *
+ * A process is dead when its row is missing, its heartbeat is older than
+ * `staleAfterSeconds` (database clock, so app hosts need not agree on the
+ * time), or it ran on this host and its pid no longer exists (or is this
+ * process's own pid under another id: an earlier incarnation, as after a
+ * container restart). The pid test makes a restart on the same host find the
+ * dead owner at once; elsewhere the heartbeat decides.
+ */
+import os from 'node:os';
+import { QueryTypes, type Sequelize } from 'sequelize';
+import type { Config } from '../config';
+import { logger } from '../logger';
+import { randomName } from '../storage/fileStore';
+
+/** The timing of liveness. Defaults below; `config.jobs` may override any of them (tests do). */
+export interface JobTimings {
+  /** How often a process refreshes its heartbeat. */
+  heartbeatSeconds: number;
+  /** A heartbeat older than this means a dead process. */
+  staleAfterSeconds: number;
+  /** How often every process looks for builds of dead processes (and their scratch). */
+  checkEverySeconds: number;
+  /** A build that reported no progress for this long may be retried even when its owner still beats. */
+  stallSeconds: number;
+}
+
+export const DEFAULT_TIMINGS: JobTimings = { heartbeatSeconds: 10, staleAfterSeconds: 30, checkEverySeconds: 15, stallSeconds: 600 };
+
+export function jobTimings(jobs: Config['jobs']): JobTimings {
+  const o = jobs as Config['jobs'] & Partial<JobTimings>;
+  const pick = (k: keyof JobTimings) => {
+    const v = o[k];
+    return typeof v === 'number' && v > 0 ? v : DEFAULT_TIMINGS[k];
+  };
+  return {
+    heartbeatSeconds: pick('heartbeatSeconds'),
+    staleAfterSeconds: pick('staleAfterSeconds'),
+    checkEverySeconds: pick('checkEverySeconds'),
+    stallSeconds: pick('stallSeconds'),
+  };
+}
+
+export interface WorkerRow {
+  id: string;
+  host: string;
+  pid: number;
+  /** Seconds since the last heartbeat, by the database's clock. */
+  ageSeconds: number;
+}
+
+/** Whether a process with this pid exists on this host (EPERM: it exists, owned by someone else). */
+export function pidExists(pid: number): boolean {
+  if (!Number.isInteger(pid) || pid <= 0) return false;
+  try {
+    process.kill(pid, 0);
+    return true;
+  } catch (e) {
+    return (e as NodeJS.ErrnoException).code === 'EPERM';
+  }
+}
+
+export class Liveness {
+  readonly id = `w${randomName(8)}`;
+  readonly host = os.hostname().slice(0, 255);
+  private timer: NodeJS.Timeout | null = null;
+
+  constructor(
+    private readonly sequelize: Sequelize,
+    readonly timings: JobTimings,
+    private readonly runsWorkers: boolean,
+  ) {}
+
+  /** Insert or refresh this process's row. */
+  async beat() {
+    await this.sequelize.query(
+      `INSERT INTO job_workers (id, host, pid, runs_workers, started_at, heartbeat_at)
+       VALUES (:id, :host, :pid, :runsWorkers, now(), now())
+       ON CONFLICT (id) DO UPDATE SET heartbeat_at = now()`,
+      { replacements: { id: this.id, host: this.host, pid: process.pid, runsWorkers: this.runsWorkers } },
+    );
+  }
+
+  /** Register and keep beating until `stop()`. */
+  async start() {
+    await this.beat();
+    this.timer = setInterval(() => {
+      this.beat().catch((err) => logger.warn({ err }, 'job worker heartbeat failed'));
+    }, this.timings.heartbeatSeconds * 1000);
+    this.timer.unref();
+  }
+
+  /** Stop beating and remove the row (what this process still owned is then resumed by others). */
+  async stop() {
+    if (this.timer) clearInterval(this.timer);
+    this.timer = null;
+    await this.sequelize.query('DELETE FROM job_workers WHERE id = :id', { replacements: { id: this.id } }).catch(() => {});
+  }
+
+  /** The registered rows for these ids (missing ids have no row). */
+  async workers(ids: Iterable<string>): Promise<Map<string, WorkerRow>> {
+    const list = [...new Set(ids)];
+    const out = new Map<string, WorkerRow>();
+    if (!list.length) return out;
+    const rows = await this.sequelize.query<{ id: string; host: string; pid: number; age: string | number }>(
+      `SELECT id, host, pid, EXTRACT(EPOCH FROM now() - heartbeat_at) AS age FROM job_workers WHERE id IN (:ids)`,
+      { replacements: { ids: list }, type: QueryTypes.SELECT },
+    );
+    for (const r of rows) out.set(r.id, { id: r.id, host: r.host, pid: Number(r.pid), ageSeconds: Number(r.age) });
+    return out;
+  }
+
+  /** Whether the owner `id` (with its row, if any) is alive as seen from here. */
+  isAlive(id: string, row: WorkerRow | undefined): boolean {
+    if (id === this.id) return true;
+    if (!row || row.ageSeconds > this.timings.staleAfterSeconds) return false;
+    if (row.host === this.host) {
+      if (row.pid === process.pid) return false; // our pid under another id: an earlier incarnation of this process
+      if (!pidExists(row.pid)) return false;
+    }
+    return true;
+  }
+
+  /** Forget rows of processes dead for an hour (a missing row already counts as dead). */
+  async prune() {
+    await this.sequelize.query(`DELETE FROM job_workers WHERE heartbeat_at < now() - interval '1 hour'`);
+  }
+}
