@@ -17,7 +17,8 @@ import { audit } from './audit.service';
 import { inspectImage } from './image.service';
 import { tilesDescriptor, pyramidLevels, TILE_EXT } from './tiles.service';
 import { fileStoreFor, randomName, type StoredObject } from '../storage/fileStore';
-import { queuePyramid, nudgeWorkers, sectionKeys } from '../jobs/pyramid.job';
+import { queuePyramid, nudgeWorkers, sectionKeys, stuckReason, buildScratchPrefix } from '../jobs/pyramid.job';
+import { cancelPyramidJob } from '../jobs/queue';
 import { fitCalibration, applyCalibration, type CalibrationFit } from '../../shared/measure/calibration';
 import { CalibrationError } from '../../shared/measure/errors';
 import type {
@@ -316,11 +317,28 @@ export async function updateSection(actor: Actor, id: number, input: UpdateSecti
   return sectionDetail(actor, id);
 }
 
+/**
+ * Build a section's tiles again: a failed one, or a `processing` one whose
+ * build has no live owner (its process died) or reported no progress for the
+ * stall time (jobs/pyramid.job.ts `stuckReason`). A build a live process is
+ * running answers 409. The old job is cancelled; attempts start again.
+ */
 export async function retrySection(actor: Actor, id: number): Promise<SectionAccepted> {
   await sectionForEditor(actor, id);
   await ctx().sequelize.transaction(async (transaction) => {
     const s = (await Section.findByPk(id, { transaction, lock: transaction.LOCK.UPDATE }))!;
-    if (s.status !== 'failed') throw new AppError(409, 'not_failed', `Only a failed section can be retried (this one is ${s.status})`);
+    if (s.status === 'processing') {
+      if (!(await stuckReason(s))) {
+        throw new AppError(
+          409,
+          'build_running',
+          `The section's tiles are being built (${s.progress} %, ${s.workerId ? 'by a running worker' : 'waiting for a worker'}); retry is for a failed or stuck build`,
+        );
+      }
+    } else if (s.status !== 'failed') {
+      throw new AppError(409, 'not_failed', `Only a failed or stuck section can be retried (this one is ${s.status})`);
+    }
+    await cancelPyramidJob(s.jobId, transaction);
     await queuePyramid(Object.assign(s, { attempts: 0 }), transaction);
     await audit(actor.id, 'section.retry', 'section', id, null, transaction);
   });
@@ -328,16 +346,23 @@ export async function retrySection(actor: Actor, id: number): Promise<SectionAcc
   return { id, status: 'processing' };
 }
 
-/** Rows (section, calibrations by cascade) and its queued job in one transaction; files after the commit. */
+/**
+ * Rows (section, calibrations by cascade) and its job (cancelled) in one
+ * transaction; files and build scratch after the commit. A build running
+ * meanwhile finds its row gone at its next progress report, stops and removes
+ * its own scratch.
+ */
 export async function deleteSection(actor: Actor, id: number) {
   const s = await sectionForEditor(actor, id);
   await ctx().sequelize.transaction(async (transaction) => {
-    await Section.findByPk(id, { transaction, lock: transaction.LOCK.UPDATE });
+    const row = await Section.findByPk(id, { transaction, lock: transaction.LOCK.UPDATE });
+    if (row?.status === 'processing') await cancelPyramidJob(row.jobId, transaction);
     await SectionCalibration.destroy({ where: { sectionId: id }, transaction });
     await Section.destroy({ where: { id }, transaction });
     await audit(actor.id, 'section.delete', 'section', id, { title: s.title, projectId: s.projectId }, transaction);
   });
   await store().removePrefix(sectionKeys(s.storageKey).root);
+  await store().removeScratch(buildScratchPrefix(s.storageKey));
 }
 
 // ---- files ----------------------------------------------------------------------------------
