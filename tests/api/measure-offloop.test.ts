@@ -14,7 +14,7 @@ import { createTestApp, bearer, type TestApp } from '../helpers/app';
 import { Section, SectionCalibration } from '../../server/models/section';
 import { measure, MeasureInputError } from '../../shared/measure/index';
 import { MEASURE_MAX_BUILDUPS, MEASURE_WORK_BUDGET } from '../../shared/schemas/measure-limits';
-import { measurePoolStats, measureThreads } from '../../server/measure/pool';
+import { closeMeasurePool, measurePoolStats, measureThreads } from '../../server/measure/pool';
 import { ROOT_DIR } from '../../server/config';
 import fixture from '../fixtures/synthetic/tb-11-kestrel-knoll.json';
 
@@ -240,6 +240,30 @@ describe('GET /api/buildups/:id/measurements: budget and cache', () => {
     await request(t.app).put(`/api/sections/${sectionId}/velocity`).set(bearer(interp)).send({ velocity });
     const back = await request(t.app).get(url).set(bearer(reviewer));
     expect(back.body).toEqual(afterCal.body);
+  });
+});
+
+describe('pool queue bound', () => {
+  it('answers 503 measure_busy when more measurements wait than MEASURE_QUEUE allows', async () => {
+    const saved = { threads: process.env.MEASURE_THREADS, queue: process.env.MEASURE_QUEUE };
+    await closeMeasurePool();
+    process.env.MEASURE_THREADS = '1';
+    process.env.MEASURE_QUEUE = '1';
+    try {
+      const tok = await t.token('reviewer');
+      const body = { interpretation: knoll, options: { draws: 20000, seed: 'queue' } };
+      const rs = await Promise.all(Array.from({ length: 4 }, () => request(t.app).post('/api/measure').set(bearer(tok)).send(body)));
+      const statuses = rs.map((r) => r.status).sort();
+      expect(statuses).toContain(200);
+      expect(statuses).toContain(503);
+      for (const r of rs.filter((x) => x.status === 503)) expect(r.body.code).toBe('measure_busy');
+    } finally {
+      await closeMeasurePool();
+      for (const [k, v] of [['MEASURE_THREADS', saved.threads], ['MEASURE_QUEUE', saved.queue]] as const) {
+        if (v === undefined) delete process.env[k];
+        else process.env[k] = v;
+      }
+    }
   });
 });
 
