@@ -467,7 +467,11 @@ export function useLiveReadings(args: LiveReadingsArgs): LiveReadings {
     rangesPending.value = schedulerState === 'fullPending' || inFlight.full > 0;
   };
 
-  function apply(r: RunnerResult, quick: boolean): void {
+  /** Buildup (local id) whose numbers `output` holds: another one's numbers are never shown while the worker runs. */
+  let shownId: string | null = null;
+
+  function apply(r: RunnerResult, quick: boolean, id: string): void {
+    shownId = id;
     if (r.ok) {
       output.value = r.output;
       complete.value = !quick;
@@ -484,6 +488,7 @@ export function useLiveReadings(args: LiveReadingsArgs): LiveReadings {
     const b = buildup.value;
     const c = ctx.value;
     if (!b || !c || issues.value.length) {
+      shownId = null;
       output.value = null;
       complete.value = false;
       error.value = null;
@@ -495,19 +500,25 @@ export function useLiveReadings(args: LiveReadingsArgs): LiveReadings {
       const context: MeasureContext = quick ? { ...c, velocity: modeOf(c.velocity) } : c;
       input = toInterpretationInput(b, context);
       if (!runner) {
-        apply({ ok: true, output: measure(input, opts.value) }, quick);
+        apply({ ok: true, output: measure(input, opts.value) }, quick, b.id);
         return;
       }
     } catch (e) {
-      apply({ ok: false, message: errorText(e) }, quick);
+      apply({ ok: false, message: errorText(e) }, quick, b.id);
       return;
+    }
+    if (shownId !== b.id) {
+      // another buildup was selected: its numbers go, the new ones follow
+      output.value = null;
+      complete.value = false;
+      error.value = null;
     }
     inFlight[mode]++;
     showState();
     last = runner
       .request({ ...input, velocity: plain(input.velocity) }, plain(opts.value), mode)
       .then((r) => {
-        if (r && mine === seq) apply(r, quick); // an older pass's result never overwrites a newer one
+        if (r && mine === seq) apply(r, quick, b.id); // an older pass's result never overwrites a newer one
       })
       .finally(() => {
         inFlight[mode]--;

@@ -143,7 +143,7 @@ describe('useLiveReadings with a worker', () => {
 
   function setup(context: MeasureContext) {
     // a reactive store, as the Pinia store is
-    const doc = reactive({ buildups: [knoll()] });
+    const doc = reactive({ buildups: [knoll(), { ...raised(knoll(), 40), id: 'b2', name: 'Marrow Bank' }] });
     const store = { buildupById: (id: string) => doc.buildups.find((b) => b.id === id) };
     const selected = shallowRef<string | null>('b1');
     // the section's context as page state holds it: a reactive object (postMessage refuses proxies)
@@ -152,7 +152,7 @@ describe('useLiveReadings with a worker', () => {
     const live = scope.run(() =>
       useLiveReadings({ store, buildupId: selected, context: ctx, options: { draws: 60 }, quickDelayMs: 150, fullDelayMs: 600, spawnWorker: spawn }),
     )!;
-    return { doc, live, scope };
+    return { doc, live, scope, selected };
   }
 
   it('shows the result once the worker answers, drops a result overtaken by an edit, and flush() waits for the newest', async () => {
@@ -187,6 +187,21 @@ describe('useLiveReadings with a worker', () => {
     expect(live.computing.value).toBe(false);
     scope.stop();
     expect(w.terminated).toBe(true);
+  });
+
+  it('never shows one buildup\'s numbers for another: a new selection clears them until its own arrive', async () => {
+    const { live, scope, selected } = setup(fixed);
+    lastWorker().answer();
+    await vi.waitFor(() => expect(live.output.value?.buildups[0].name).toBe('Kestrel Knoll'));
+    selected.value = 'b2';
+    await nextTick();
+    expect(live.output.value).toBeNull();
+    expect(live.computing.value).toBe(true);
+    lastWorker().answer();
+    await vi.waitFor(() => expect(live.output.value?.buildups[0].name).toBe('Marrow Bank'));
+    const expected = measure(toInterpretationInput({ ...raised(knoll(), 40), id: 'b2', name: 'Marrow Bank' }, fixed), { draws: 60 });
+    expect(live.output.value!.buildups[0].heightM).toBe(expected.buildups[0].heightM);
+    scope.stop();
   });
 
   it('schedules the full pass (ranges) although the quick result was not in when it was decided', async () => {
