@@ -175,7 +175,8 @@ export async function runPyramidJob(job: PgBoss.Job<PyramidJobData>) {
       await Section.update({ workerId: null, progress: 0, progressAt: new Date() }, stillMine).catch(() => {});
       throw err;
     }
-    if (err instanceof BuildStopped || lost) {
+    // a deleted section's scratch vanishes under the build, which may fail on that before its next report
+    if (err instanceof BuildStopped || lost || (await Section.count(stillMine).catch(() => 1)) === 0) {
       logger.info({ sectionId }, 'pyramid build stopped: the section was deleted or its build taken over');
       return;
     }

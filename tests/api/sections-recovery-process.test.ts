@@ -186,6 +186,48 @@ describe('a section deleted after its worker was killed mid-build', () => {
   }, 120_000);
 });
 
+describe('a section deleted while a live worker builds it', () => {
+  it('the build notices, stops and removes its scratch', async () => {
+    const storageDir = fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-test-livedel-'));
+    try {
+      t = await createTestApp({ storageDir, config: { jobs: NO_WORKERS } });
+      const db = t.databaseUrl;
+      const interp = await t.token('interpreter');
+      const projectId = await projectOf(t, interp);
+      const w = await startWorker({ databaseUrl: db, storageDir, env: { VIPS_CONCURRENCY: '1' } });
+      workers.push(w);
+      const id = (await upload(t, interp, projectId, await bigImage(), 'big.png')).body.id as number;
+      const [{ storage_key: key }] = await sql(db, 'SELECT storage_key FROM sections WHERE id = $1', [id]);
+      const scratch = () => tmpEntries(storageDir).filter((e) => e.startsWith(`build-${key}-`));
+      await until(
+        'worker building with scratch',
+        async () => {
+          const [row] = await sql(db, 'SELECT worker_id, progress FROM sections WHERE id = $1', [id]);
+          return row.worker_id === w.id && row.progress > 2 && row.progress < 60 && scratch().length === 1;
+        },
+        60_000,
+        25,
+      );
+      expect((await request(t.app).delete(`/api/sections/${id}`).set(bearer(interp))).status).toBe(204);
+
+      // the worker runs one build at a time: once a later upload is ready, the deleted one's build has returned
+      const next = (await upload(t, interp, projectId, await makeImage('png', 600, 400), 'next.png')).body.id as number;
+      expect((await waitForStatus(t, interp, next, 60_000)).status).toBe('ready');
+      expect(scratch()).toEqual([]);
+      expect(tmpEntries(storageDir)).toEqual([]);
+      expect(fs.existsSync(path.join(storageDir, 'sections', key))).toBe(false);
+      // it stopped as a deleted build (not as a failure, and it did not run to the end)
+      expect(w.output()).toMatch(new RegExp(`"sectionId":${id},"msg":"pyramid build stopped`));
+      expect(w.output()).not.toMatch(/pyramid build failed/);
+    } finally {
+      for (const w of workers.splice(0)) await w.kill('SIGKILL');
+      await t?.close();
+      t = null;
+      fs.rmSync(storageDir, { recursive: true, force: true });
+    }
+  }, 120_000);
+});
+
 describe('retry of a processing section', () => {
   it('409 while queued or built by a live process; 202 when stalled or its owner is dead, then it builds', async () => {
     // no periodic check here (it would resume the dead owners' builds itself before the retry)
