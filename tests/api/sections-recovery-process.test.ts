@@ -228,6 +228,49 @@ describe('a section deleted while a live worker builds it', () => {
   }, 120_000);
 });
 
+describe('an owner on another host whose heartbeat stops', () => {
+  it('keeps its build while it beats; once stale, the periodic check resumes the build and removes its scratch', async () => {
+    // short timings so the test does not wait the default 30 s staleness
+    const jobs = { ...NO_WORKERS, checkEverySeconds: 0.5, staleAfterSeconds: 2 } as Config['jobs'];
+    t = await createTestApp({ config: { jobs } });
+    const db = t.databaseUrl;
+    const interp = await t.token('interpreter');
+    const id = (await upload(t, interp, await projectOf(t, interp), await makeImage('png', 700, 400))).body.id as number;
+    const [job] = await jobQueue().fetch(PYRAMID_QUEUE);
+    const [{ storage_key: key, job_id: jobId }] = await sql(db, 'SELECT storage_key, job_id FROM sections WHERE id = $1', [id]);
+    expect(job.id).toBe(jobId);
+    const far = `w${crypto.randomBytes(8).toString('hex')}`;
+    await sql(db, `INSERT INTO job_workers (id, host, pid, runs_workers, started_at, heartbeat_at) VALUES ($1, 'tb-worker-elsewhere', 4242, true, now(), now())`, [far]);
+    await sql(db, `UPDATE sections SET worker_id = $2, progress = 30, progress_at = now() WHERE id = $1`, [id, far]);
+    const scratch = path.join(t.storageDir, 'tmp', `build-${key}-${far}-${crypto.randomBytes(8).toString('hex')}`);
+    fs.mkdirSync(scratch, { recursive: true });
+    fs.writeFileSync(path.join(scratch, 'decoded.v'), 'half');
+
+    // beating every 0.5 s for 4 s: at least six checks run meanwhile and leave it alone
+    for (let i = 0; i < 8; i++) {
+      await new Promise((r) => setTimeout(r, 500));
+      await sql(db, 'UPDATE job_workers SET heartbeat_at = now() WHERE id = $1', [far]);
+    }
+    expect((await sql(db, 'SELECT worker_id, job_id FROM sections WHERE id = $1', [id]))[0]).toEqual({ worker_id: far, job_id: jobId });
+    expect(fs.existsSync(scratch)).toBe(true);
+
+    // it stops beating: resumed by the check (bounded wait)
+    const row = await until(
+      'build resumed',
+      async () => {
+        const [r] = await sql(db, 'SELECT worker_id, job_id, attempts, progress, status FROM sections WHERE id = $1', [id]);
+        return r.job_id !== jobId ? r : null;
+      },
+      20_000,
+      100,
+    );
+    expect(row).toMatchObject({ worker_id: null, attempts: 2, progress: 0, status: 'processing' });
+    const [old] = await sql(db, `SELECT state FROM pgboss.job WHERE id = $1 UNION ALL SELECT state FROM pgboss.archive WHERE id = $1`, [jobId]);
+    expect(old.state).toBe('cancelled');
+    await until('dead owner scratch removed', async () => !fs.existsSync(scratch), 10_000, 100);
+  }, 60_000);
+});
+
 describe('retry of a processing section', () => {
   it('409 while queued or built by a live process; 202 when stalled or its owner is dead, then it builds', async () => {
     // no periodic check here (it would resume the dead owners' builds itself before the retry)
