@@ -31,11 +31,25 @@ export interface JobTimings {
 
 export const DEFAULT_TIMINGS: JobTimings = { heartbeatSeconds: 10, staleAfterSeconds: 30, checkEverySeconds: 15, stallSeconds: 600 };
 
+/** Environment variables for the timings (seconds, > 0). */
+export const TIMING_ENV: Record<keyof JobTimings, string> = {
+  heartbeatSeconds: 'JOB_HEARTBEAT_SECONDS',
+  staleAfterSeconds: 'JOB_STALE_SECONDS',
+  checkEverySeconds: 'JOB_CHECK_SECONDS',
+  stallSeconds: 'JOB_STALL_SECONDS',
+};
+
+/** The timings: `config.jobs` fields first, then the environment, then the defaults. */
 export function jobTimings(jobs: Config['jobs']): JobTimings {
   const o = jobs as Config['jobs'] & Partial<JobTimings>;
   const pick = (k: keyof JobTimings) => {
     const v = o[k];
-    return typeof v === 'number' && v > 0 ? v : DEFAULT_TIMINGS[k];
+    if (typeof v === 'number' && v > 0) return v;
+    const raw = (process.env[TIMING_ENV[k]] ?? '').trim();
+    if (raw === '') return DEFAULT_TIMINGS[k];
+    const n = Number(raw);
+    if (!(Number.isFinite(n) && n > 0)) throw new Error(`${TIMING_ENV[k]}: a number of seconds > 0, got "${raw}"`);
+    return n;
   };
   return {
     heartbeatSeconds: pick('heartbeatSeconds'),

@@ -4,6 +4,13 @@
  * next to web processes started with CAYLINE_JOB_WORKERS=0. Needs the same
  * storage folder (CAYLINE_STORAGE) as the web processes while the file store
  * is local disk.
+ *
+ * It registers in `job_workers` and refreshes its heartbeat every 10 s; should
+ * it die (even by SIGKILL), the build it owned is resumed by any other Cayline
+ * process: at once when one starts on the same host (the pid is gone), else
+ * within 45 s (heartbeat stale after 30 s, checked every 15 s). SIGTERM/SIGINT
+ * stop it gracefully: a running build gives its section back and pg-boss runs
+ * the same job again after its retry delay (10 s).
  */
 import { loadConfig } from '../config';
 import { createSequelize } from '../db/sequelize';
