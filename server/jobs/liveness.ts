@@ -51,12 +51,16 @@ export function jobTimings(jobs: Config['jobs']): JobTimings {
     if (!(Number.isFinite(n) && n > 0)) throw new Error(`${TIMING_ENV[k]}: a number of seconds > 0, got "${raw}"`);
     return n;
   };
-  return {
+  const t = {
     heartbeatSeconds: pick('heartbeatSeconds'),
     staleAfterSeconds: pick('staleAfterSeconds'),
     checkEverySeconds: pick('checkEverySeconds'),
     stallSeconds: pick('stallSeconds'),
   };
+  if (t.staleAfterSeconds < 2 * t.heartbeatSeconds) {
+    logger.warn(t, 'job timings: a heartbeat is counted stale after less than two heartbeat intervals; live workers may look dead');
+  }
+  return t;
 }
 
 export interface WorkerRow {
