@@ -10,24 +10,8 @@ import { toInterpretationInput, type EditorBuildup, type MeasureContext } from '
 import { measure, MeasureInputError } from '../../../shared/measure/index';
 import { answerReadingsRequest, type ReadingsReply, type ReadingsRequest } from '../../../client/composables/readings.worker';
 import { createLatestRunner, useLiveReadings, type WorkerLike } from '../../../client/composables/useLiveReadings';
-import { deepFreeze, kestrel } from '../canvas/fixtures';
+import { fixed, knoll, ranged } from './contexts';
 
-const ranged: MeasureContext = deepFreeze({
-  calibrationTies: [
-    { px: [0, 0], world: [0, 1000] },
-    { px: [2000, 0], world: [25000, 1000] },
-    { px: [0, 1000], world: [0, 2000] },
-  ],
-  verticalDomain: 'twt_ms',
-  velocity: { kind: 'constant', v: { min: 3500, mode: 4000, max: 5000 } },
-});
-const fixed: MeasureContext = deepFreeze({ ...ranged, velocity: { kind: 'constant', v: 4000 } });
-
-function knoll(): EditorBuildup {
-  const k = kestrel();
-  k.cycles[2] = { ...k.cycles[2], top: [[380, 520], [500, 500], [620, 522]], marginLeft: [400, 515], marginRight: [600, 517] };
-  return k;
-}
 const raised = (b: EditorBuildup, dv: number): EditorBuildup => ({
   ...b,
   cycles: [b.cycles[0], b.cycles[1], { ...b.cycles[2], top: b.cycles[2].top.map(([u, v]) => [u, v - dv] as [number, number]) }],
