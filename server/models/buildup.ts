@@ -3,6 +3,7 @@ import { DataTypes, Model, type CreationOptional, type InferAttributes, type Inf
 import { User } from './index';
 import { Section } from './section';
 import type { BuildupGeometry } from '../../shared/editor/model';
+import type { ReviewState } from '../../shared/schemas/review';
 
 export class Buildup extends Model<InferAttributes<Buildup>, InferCreationAttributes<Buildup>> {
   declare id: CreationOptional<number>;
@@ -10,6 +11,11 @@ export class Buildup extends Model<InferAttributes<Buildup>, InferCreationAttrib
   declare name: string;
   declare geometry: BuildupGeometry;
   declare version: CreationOptional<number>;
+  /** 'draft' | 'out_for_review' | 'needs_rework' | 'signed_off' (shared/schemas/review.ts). */
+  declare reviewState: CreationOptional<ReviewState>;
+  declare signedOffVersion: CreationOptional<number | null>;
+  declare signedOffById: CreationOptional<number | null>;
+  declare signedOffAt: CreationOptional<Date | null>;
   declare createdById: number | null;
   declare updatedById: number | null;
   declare createdAt: CreationOptional<Date>;
@@ -32,6 +38,10 @@ export function initBuildupModels(sequelize: Sequelize) {
       name: { type: DataTypes.STRING(120), allowNull: false },
       geometry: { type: DataTypes.JSONB, allowNull: false },
       version: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },
+      reviewState: { type: DataTypes.STRING(20), allowNull: false, defaultValue: 'draft' },
+      signedOffVersion: { type: DataTypes.INTEGER, allowNull: true },
+      signedOffById: { type: DataTypes.INTEGER, allowNull: true },
+      signedOffAt: { type: DataTypes.DATE, allowNull: true },
       createdById: { type: DataTypes.INTEGER, allowNull: true },
       updatedById: { type: DataTypes.INTEGER, allowNull: true },
       createdAt: DataTypes.DATE,

@@ -8,6 +8,7 @@ import * as m0002 from './0002-sections';
 import * as m0003 from './0003-buildups';
 import * as m0004 from './0004-project-owner';
 import * as m0005 from './0005-job-workers';
+import * as m0006 from './0006-review';
 
 export interface Migration {
   name: string;
@@ -21,4 +22,5 @@ export const migrations: Migration[] = [
   { name: '0003-buildups', ...m0003 },
   { name: '0004-project-owner', ...m0004 },
   { name: '0005-job-workers', ...m0005 },
+  { name: '0006-review', ...m0006 },
 ];
