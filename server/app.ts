@@ -65,7 +65,8 @@ export function createApp(deps: AppDeps) {
   });
   app.use('/api', apiNotFound);
 
-  const clientDir = path.join(ROOT_DIR, 'dist', 'client');
+  // CAYLINE_CLIENT_DIR: serve a client build from elsewhere (parallel end-to-end runs build into their own folder)
+  const clientDir = process.env.CAYLINE_CLIENT_DIR ? path.resolve(process.env.CAYLINE_CLIENT_DIR) : path.join(ROOT_DIR, 'dist', 'client');
   if (fs.existsSync(path.join(clientDir, 'index.html'))) {
     app.use(express.static(clientDir, { index: false, maxAge: '1h' }));
     app.get(/^\/(?!api\/).*/, (_req, res) => res.sendFile(path.join(clientDir, 'index.html')));
