@@ -1,0 +1,128 @@
+import { describe, expect, it } from 'vitest';
+import {
+  FOOT_M,
+  areaLabel,
+  fromDisplay,
+  fromDisplayArea,
+  fromDisplayLength,
+  fromDisplayVelocity,
+  fromDisplayVolume,
+  isLengthUnit,
+  lengthLabel,
+  quantityLabel,
+  toDisplay,
+  toDisplayArea,
+  toDisplayLength,
+  toDisplayRate,
+  toDisplayVelocity,
+  toDisplayVolume,
+  velocityLabel,
+  volumeLabel,
+  withUnit,
+} from '../../shared/units';
+
+/*
+ * Source: the international yard and pound agreement of 1959 defines
+ * 1 yard = 0.9144 m exactly, so 1 ft = 1/3 yd = 0.3048 m exactly, 1 in =
+ * 25.4 mm exactly, and the statute mile (5280 ft) = 1609.344 m exactly
+ * (NIST Special Publication 811, appendix B.8; NIST Handbook 44, appendix C).
+ */
+describe('international foot (1959 agreement)', () => {
+  it('is 0.3048 m exactly', () => {
+    expect(FOOT_M).toBe(0.3048);
+    expect(fromDisplayLength(1, 'ft')).toBe(0.3048);
+  });
+
+  it('1 yard = 3 ft = 0.9144 m', () => {
+    expect(fromDisplayLength(3, 'ft')).toBeCloseTo(0.9144, 12);
+    expect(toDisplayLength(0.9144, 'ft')).toBeCloseTo(3, 12);
+  });
+
+  it('1 inch = 1/12 ft = 25.4 mm', () => {
+    expect(fromDisplayLength(1 / 12, 'ft') * 1000).toBeCloseTo(25.4, 10);
+  });
+
+  it('1 mile = 5280 ft = 1609.344 m', () => {
+    expect(fromDisplayLength(5280, 'ft')).toBeCloseTo(1609.344, 9);
+    expect(toDisplayLength(1609.344, 'ft')).toBeCloseTo(5280, 9);
+  });
+
+  it('1 m = 3.280839895… ft (1 / 0.3048)', () => {
+    // 1 / 0.3048 = 3.28083989501312… (exact decimal expansion of 10000/3048)
+    expect(toDisplayLength(1, 'ft')).toBeCloseTo(3.280839895013123, 12);
+  });
+
+  it('is not the US survey foot (1200/3937 m)', () => {
+    // Source: NIST Handbook 44 appendix C: US survey foot = 1200/3937 m ≈ 0.3048006 m.
+    const surveyFoot = 1200 / 3937;
+    expect(Math.abs(fromDisplayLength(1, 'ft') - surveyFoot)).toBeGreaterThan(5e-7);
+  });
+
+  it('metres are unchanged', () => {
+    expect(toDisplayLength(1234.5, 'm')).toBe(1234.5);
+    expect(fromDisplayLength(1234.5, 'm')).toBe(1234.5);
+    expect(toDisplayArea(7, 'm')).toBe(7);
+    expect(toDisplayVolume(7, 'm')).toBe(7);
+    expect(toDisplayVelocity(2500, 'm')).toBe(2500);
+  });
+});
+
+describe('derived quantities', () => {
+  it('1 ft² = 0.09290304 m² and 1 acre = 43560 ft² = 4046.8564224 m²', () => {
+    // Source: NIST SP 811 appendix B.8 (acre based on the international foot).
+    expect(fromDisplayArea(1, 'ft')).toBeCloseTo(0.09290304, 14);
+    expect(fromDisplayArea(43560, 'ft')).toBeCloseTo(4046.8564224, 8);
+    expect(toDisplayArea(0.09290304, 'ft')).toBeCloseTo(1, 12);
+  });
+
+  it('1 ft³ = 0.028316846592 m³', () => {
+    // Source: NIST SP 811 appendix B.8.
+    expect(fromDisplayVolume(1, 'ft')).toBeCloseTo(0.028316846592, 15);
+    expect(toDisplayVolume(0.028316846592, 'ft')).toBeCloseTo(1, 12);
+  });
+
+  it('velocities convert like lengths: 3048 m/s = 10000 ft/s', () => {
+    expect(toDisplayVelocity(3048, 'ft')).toBeCloseTo(10000, 9);
+    expect(fromDisplayVelocity(10000, 'ft')).toBeCloseTo(3048, 9);
+  });
+
+  it('rates convert like lengths: 30.48 m/Myr = 100 ft/Myr', () => {
+    expect(toDisplayRate(30.48, 'ft')).toBeCloseTo(100, 10);
+  });
+
+  it('toDisplay/fromDisplay round-trip every quantity and leave angles, ratios and TWT alone', () => {
+    for (const q of ['length', 'area', 'volume', 'velocity', 'rate'] as const) {
+      const si = 1234.5678;
+      expect(fromDisplay(q, toDisplay(q, si, 'ft'), 'ft')).toBeCloseTo(si, 9);
+      expect(toDisplay(q, si, 'ft')).not.toBeCloseTo(si, 3);
+    }
+    for (const q of ['angle', 'ratio', 'twt'] as const) {
+      expect(toDisplay(q, 12.5, 'ft')).toBe(12.5);
+      expect(fromDisplay(q, 12.5, 'ft')).toBe(12.5);
+    }
+  });
+});
+
+describe('labels', () => {
+  it('names the unit of every quantity', () => {
+    expect(lengthLabel('m')).toBe('m');
+    expect(lengthLabel('ft')).toBe('ft');
+    expect(areaLabel('ft')).toBe('ft²');
+    expect(volumeLabel('m')).toBe('m³');
+    expect(volumeLabel('ft')).toBe('ft³');
+    expect(velocityLabel('ft')).toBe('ft/s');
+    expect(velocityLabel('m')).toBe('m/s');
+    expect(quantityLabel('twt', 'ft')).toBe('ms');
+    expect(quantityLabel('angle', 'ft')).toBe('°');
+    expect(withUnit('Height', 'length', 'ft')).toBe('Height (ft)');
+    expect(withUnit('Aspect ratio', 'ratio', 'ft')).toBe('Aspect ratio');
+  });
+
+  it('accepts only m and ft', () => {
+    expect(isLengthUnit('m')).toBe(true);
+    expect(isLengthUnit('ft')).toBe(true);
+    expect(isLengthUnit('feet')).toBe(false);
+    expect(isLengthUnit('usft')).toBe(false);
+    expect(isLengthUnit(undefined)).toBe(false);
+  });
+});
