@@ -1,27 +1,11 @@
 import type { GlobalThemeOverrides } from 'naive-ui';
+import { HOUSE_PALETTE } from '../shared/palette';
 
 /**
  * Cayline's palette. The UI is light; the interpretation canvas sits on a dark
  * slate surround so greyscale and red-blue seismic read well.
  */
-export const palette = {
-  lagoon: '#2a9d8f',
-  lagoonHover: '#35b1a2',
-  lagoonPressed: '#218074',
-  lagoonSuppl: '#3fbcad',
-  coral: '#e76f51',
-  coralHover: '#ec8668',
-  coralPressed: '#cc5a3d',
-  coralSuppl: '#ee8e74',
-  sand: '#e9c46a',
-  sandSoft: '#fbf3dc',
-  ink: '#1f2a33',
-  inkMuted: '#5b6874',
-  line: '#e3e8ec',
-  page: '#f5f7f8',
-  canvasSurround: '#1d232a',
-  info: '#4f7fa3',
-} as const;
+export const palette = HOUSE_PALETTE;
 
 export const fontFamily =
   "'IBM Plex Sans', system-ui, -apple-system, 'Segoe UI', Roboto, 'Helvetica Neue', Arial, sans-serif";
