@@ -14,7 +14,8 @@ import os from 'node:os';
 import { Tinypool } from 'tinypool';
 import type { MeasurementOutput } from '../../shared/measure/index';
 import { AppError } from '../middlewares/errors';
-import { reviveError, type MeasureReply } from './task';
+import { reviveError, type MeasureReply, type MeasureTask } from './task';
+import type { DepthProfile } from '../../shared/schemas/analogues';
 
 let pool: Tinypool | null = null;
 const stats = { started: 0, finished: 0 };
@@ -54,10 +55,20 @@ function thePool(): Tinypool {
 
 /** `measure(input, options)` on a worker thread. */
 export async function measureOffLoop(input: unknown, options?: unknown): Promise<MeasurementOutput> {
+  return (await measureTaskOffLoop({ input, options })).output;
+}
+
+/** `measure(input, options)` and each buildup's depth profile (shared/analogue-shape.ts) on a worker thread. */
+export async function measureWithProfilesOffLoop(input: unknown, options?: unknown): Promise<{ output: MeasurementOutput; profiles: DepthProfile[] }> {
+  const r = await measureTaskOffLoop({ input, options, profiles: true });
+  return { output: r.output, profiles: r.profiles ?? [] };
+}
+
+async function measureTaskOffLoop(task: MeasureTask): Promise<Extract<MeasureReply, { ok: true }>> {
   let reply: MeasureReply;
   stats.started++;
   try {
-    reply = await thePool().run({ input, options });
+    reply = await thePool().run(task);
   } catch (e) {
     if (e instanceof Error && /queue is at limit/i.test(e.message))
       throw new AppError(503, 'measure_busy', 'The server is busy with other measurements; try again in a moment');
@@ -66,7 +77,7 @@ export async function measureOffLoop(input: unknown, options?: unknown): Promise
     stats.finished++;
   }
   if (!reply.ok) throw reviveError(reply.error);
-  return reply.output;
+  return reply;
 }
 
 /** Stop the worker threads (waits for none of the queued tasks). A later call starts a new pool. */

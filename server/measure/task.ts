@@ -6,20 +6,25 @@
  * caller's side.
  */
 import { measure, MeasureInputError, type MeasurementOutput } from '../../shared/measure/index';
+import { depthProfilesOf } from '../../shared/analogue-shape';
+import type { DepthProfile } from '../../shared/schemas/analogues';
 
 export interface MeasureTask {
   input: unknown;
   options?: unknown;
+  /** Also return each buildup's depth profile (base, tops, envelope in metres; Analogue library promotion). */
+  profiles?: boolean;
 }
 
 export type MeasureReply =
-  | { ok: true; output: MeasurementOutput }
+  | { ok: true; output: MeasurementOutput; profiles?: DepthProfile[] }
   | { ok: false; error: { kind: 'input'; name: string; path: string; message: string; issues: string[] } | { kind: 'other'; name: string; message: string; stack?: string } };
 
 /** Run the engine on one task; never throws. */
 export function runMeasureTask(task: MeasureTask): MeasureReply {
   try {
-    return { ok: true, output: measure(task.input, task.options) };
+    const output = measure(task.input, task.options);
+    return task.profiles ? { ok: true, output, profiles: depthProfilesOf(task.input) } : { ok: true, output };
   } catch (e) {
     if (e instanceof MeasureInputError) {
       // the message is `path: detail`; keep the detail so the rebuilt error has the same message
