@@ -15,6 +15,7 @@ import {
 import type { Role, PublicUser } from '../../shared/schemas/auth';
 import { initSectionModels } from './section';
 import { initBuildupModels } from './buildup';
+import { initNoteModels } from './note';
 
 export class User extends Model<InferAttributes<User>, InferCreationAttributes<User>> {
   declare id: CreationOptional<number>;
@@ -152,4 +153,5 @@ export function initModels(sequelize: Sequelize) {
   ProjectMember.belongsTo(Project, { foreignKey: 'projectId', as: 'project' });
   initSectionModels(sequelize);
   initBuildupModels(sequelize);
+  initNoteModels(sequelize);
 }

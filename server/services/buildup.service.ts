@@ -11,6 +11,7 @@ import { AppError, notFound } from '../middlewares/errors';
 import { assertCanEdit, type Actor } from './project.service';
 import { sectionForEditor, sectionForViewer } from './section.service';
 import { audit } from './audit.service';
+import { markBuildupNotesRemoved, refreshNoteAnchors } from './note.service';
 import { ctx } from '../context';
 import { MeasureInputError, type MeasurementOutput } from '../../shared/measure/index';
 import { measureWorkProblem } from '../../shared/schemas/measure-limits';
@@ -94,6 +95,7 @@ export async function saveBuildup(actor: Actor, id: number, input: SaveBuildupIn
     if (input.name) b.set('name', input.name);
     await b.save({ transaction });
     await audit(actor.id, 'buildup.save', 'buildup', b.id, { version: b.version }, transaction);
+    await refreshNoteAnchors(b.id, b.geometry, transaction);
     return { version: b.version, updatedAt: b.updatedAt.toISOString() };
   });
 }
@@ -104,6 +106,7 @@ export async function deleteBuildup(actor: Actor, id: number) {
   await ctx().sequelize.transaction(async (transaction) => {
     await buildup.destroy({ transaction });
     await audit(actor.id, 'buildup.delete', 'buildup', id, { name: buildup.name }, transaction);
+    await markBuildupNotesRemoved(id, transaction);
   });
 }
 

@@ -62,6 +62,11 @@ export interface EditorState {
 // Server shape (spec §4, in pixels)
 
 export interface CycleGeometry {
+  /**
+   * Stable id of the cycle (Note pins anchor to it). Left out when it equals
+   * the positional default `c<index>`; see `storedCycleId`.
+   */
+  id?: string;
   /** 1 = oldest. */
   index: number;
   top: Pt[];
@@ -74,6 +79,8 @@ export interface CycleGeometry {
 }
 
 export interface TerminationGeometry {
+  /** Stable id of the stamp; left out when it equals the positional default `t<n>` (see `storedTerminationId`). */
+  id?: string;
   type: TerminationType;
   at: Pt;
 }
@@ -154,7 +161,10 @@ export function emptyBuildup(init: Partial<EditorBuildup> & { name: string }): E
 // server record ⇄ editor
 
 const ptSchema = z.tuple([z.number(), z.number()]);
+/** Ids of stored cycles and stamps: short, printable. */
+const objectIdSchema = safeText().min(1).max(64);
 const cycleGeometrySchema = z.object({
+  id: objectIdSchema.optional(),
   index: z.number().int().min(1),
   top: z.array(ptSchema),
   marginLeft: ptSchema.nullable().optional(),
@@ -168,9 +178,19 @@ const cycleGeometrySchema = z.object({
 export const buildupGeometrySchema = z.object({
   base: z.array(ptSchema),
   cycles: z.array(cycleGeometrySchema),
-  terminations: z.array(z.object({ type: z.enum(TERMINATION_TYPES), at: ptSchema })),
+  terminations: z.array(z.object({ id: objectIdSchema.optional(), type: z.enum(TERMINATION_TYPES), at: ptSchema })),
   topIsDrowningSurface: z.boolean(),
 });
+
+/** The stable id of a stored cycle: its own `id`, else the positional default `c<index>`. */
+export function storedCycleId(c: { id?: string; index: number }): string {
+  return c.id ?? `c${c.index}`;
+}
+
+/** The stable id of the `i`-th (0-based) stored Termination stamp: its own `id`, else `t<i + 1>`. */
+export function storedTerminationId(t: { id?: string }, i: number): string {
+  return t.id ?? `t${i + 1}`;
+}
 const buildupRecordSchema = z.object({
   id: z.number().int(),
   name: z.string(),
@@ -196,13 +216,14 @@ export function toGeometry(b: EditorBuildup): BuildupGeometry {
         marginLeft: c.marginLeft ? copyPt(c.marginLeft) : null,
         marginRight: c.marginRight ? copyPt(c.marginRight) : null,
       };
+      if (c.id !== `c${i + 1}`) g.id = c.id;
       if (c.flankLeft) g.flankLeft = copyLine(c.flankLeft);
       if (c.flankRight) g.flankRight = copyLine(c.flankRight);
       if (c.ageTopMa !== null) g.ageTopMa = c.ageTopMa;
       if (c.systemsTract !== null) g.systemsTract = c.systemsTract;
       return g;
     }),
-    terminations: b.terminations.map((t) => ({ type: t.type, at: copyPt(t.at) })),
+    terminations: b.terminations.map((t, i) => (t.id !== `t${i + 1}` ? { id: t.id, type: t.type, at: copyPt(t.at) } : { type: t.type, at: copyPt(t.at) })),
     topIsDrowningSurface: b.topIsDrowningSurface,
   };
 }
@@ -215,8 +236,10 @@ export function toSavePayload(b: EditorBuildup): { name: string; version: number
 /**
  * Server record → editor buildup. Validates the record (throws ModelError
  * naming the field path), orders cycles by `index` (oldest first) and gives
- * every cycle and termination a stable id derived from its position
- * (`c<index>`, `t<n>`), so loading the same record twice yields equal objects.
+ * every cycle and termination its stored id or, when it has none, a stable
+ * id derived from its position (`c<index>`, `t<n>`), so loading the same
+ * record twice yields equal objects. `toGeometry` writes an id only where it
+ * differs from that default, so ids survive deletes and re-indexing.
  */
 export function fromGeometry(record: unknown): EditorBuildup {
   const parsed = buildupRecordSchema.safeParse(record);
@@ -234,7 +257,7 @@ export function fromGeometry(record: unknown): EditorBuildup {
     .sort((a, b) => a.index - b.index)
     .map(
       (c): EditorCycle => ({
-        id: `c${c.index}`,
+        id: storedCycleId(c),
         top: copyLine(c.top as Pt[]),
         marginLeft: c.marginLeft ? copyPt(c.marginLeft as Pt) : null,
         marginRight: c.marginRight ? copyPt(c.marginRight as Pt) : null,
@@ -251,7 +274,7 @@ export function fromGeometry(record: unknown): EditorBuildup {
     version: r.version,
     base: copyLine(r.geometry.base as Pt[]),
     cycles,
-    terminations: r.geometry.terminations.map((t, i) => ({ id: `t${i + 1}`, type: t.type, at: copyPt(t.at as Pt) })),
+    terminations: r.geometry.terminations.map((t, i) => ({ id: storedTerminationId(t, i), type: t.type, at: copyPt(t.at as Pt) })),
     topIsDrowningSurface: r.geometry.topIsDrowningSurface,
   };
 }

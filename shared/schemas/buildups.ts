@@ -3,7 +3,7 @@
  * pixels, saved with optimistic locking, and the section's velocity model.
  */
 import { z } from 'zod';
-import { buildupGeometrySchema } from '../editor/model';
+import { buildupGeometrySchema, storedCycleId, storedTerminationId } from '../editor/model';
 import { velocityModelSchema } from './interpretation';
 import { safeText } from './text';
 
@@ -32,6 +32,16 @@ export const saveBuildupSchema = z.object({
       big(c.flankRight, ['cycles', i, 'flankRight']);
       if (c.index !== i + 1) ctx.addIssue({ code: 'custom', path: ['cycles', i, 'index'], message: `must be ${i + 1} (cycles are numbered 1 = oldest, in order)` });
     });
+    // stable ids (Note pins anchor to them): unique among cycles and among stamps, defaults included
+    const unique = (ids: string[], list: 'cycles' | 'terminations') => {
+      const seen = new Set<string>();
+      ids.forEach((id, i) => {
+        if (seen.has(id)) ctx.addIssue({ code: 'custom', path: [list, i, 'id'], message: `duplicate id "${id}"` });
+        seen.add(id);
+      });
+    };
+    unique(g.cycles.map(storedCycleId), 'cycles');
+    unique(g.terminations.map(storedTerminationId), 'terminations');
   }),
 });
 export type SaveBuildupInput = z.infer<typeof saveBuildupSchema>;

@@ -143,6 +143,13 @@ async function uploadedSection() {
 // ---------------------------------------------------------------------------
 // the matrix: one row per route
 
+/** A Note pin thread on the demo section opened by the interpreter: its id and its first message's id. */
+async function noteThread(f: Fx): Promise<{ id: number; messageId: number }> {
+  const r = await request(t.app).post(`/api/sections/${f.section}/threads`).set(bearer(await interp())).send({ anchor: { kind: 'point', at: [10, 10] }, body: 'Matrix note' });
+  expect(r.status, JSON.stringify(r.body)).toBe(201);
+  return { id: r.body.id, messageId: r.body.messages[0].id };
+}
+
 const MATRIX: Record<string, Row> = {
   // public
   'GET /api/health': { req: () => ({ path: '/api/health' }), anonymous: 200, refused: 'none: public health check', allowed: { as: 'reviewer', status: 200 } },
@@ -260,6 +267,19 @@ const MATRIX: Record<string, Row> = {
     refused: 'none: every signed-in user (the engine on posted data, nothing stored)',
     allowed: { as: 'outsider', status: 200 },
   },
+
+  // Note pins and threads (every project member comments; only the author edits or deletes a message)
+  'GET /api/sections/:sectionId/threads': { req: (f) => ({ path: `/api/sections/${f.privateSection}/threads` }), refused: { as: 'reviewer', status: 404 }, allowed: { as: 'interpreter', status: 200 } },
+  'POST /api/sections/:sectionId/threads': {
+    req: (f) => ({ path: `/api/sections/${f.section}/threads`, body: { anchor: { kind: 'point', at: [10, 10] }, body: 'Matrix note' } }),
+    refused: { as: 'outsider', status: 404 },
+    allowed: { as: 'curator', status: 201 },
+  },
+  'GET /api/threads/:id': { req: async (f) => ({ path: `/api/threads/${(await noteThread(f)).id}` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  'PATCH /api/threads/:id': { req: async (f) => ({ path: `/api/threads/${(await noteThread(f)).id}`, body: { resolved: true } }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'curator', status: 200 } },
+  'POST /api/threads/:id/messages': { req: async (f) => ({ path: `/api/threads/${(await noteThread(f)).id}/messages`, body: { body: 'Matrix reply' } }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 201 } },
+  'PATCH /api/messages/:id': { req: async (f) => ({ path: `/api/messages/${(await noteThread(f)).messageId}`, body: { body: 'Matrix edit' } }), refused: { as: 'reviewer', status: 403 }, allowed: { as: 'interpreter', status: 200 } },
+  'DELETE /api/messages/:id': { req: async (f) => ({ path: `/api/messages/${(await noteThread(f)).messageId}` }), refused: { as: 'curator', status: 403 }, allowed: { as: 'interpreter', status: 200 } },
 
   // admin
   'GET /api/admin/mail': { req: () => ({ path: '/api/admin/mail' }), refused: { as: 'interpreter', status: 403 }, allowed: { as: 'admin', status: 200 } },

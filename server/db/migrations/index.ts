@@ -9,6 +9,7 @@ import * as m0003 from './0003-buildups';
 import * as m0004 from './0004-project-owner';
 import * as m0005 from './0005-job-workers';
 import * as m0006 from './0006-review';
+import * as m0007 from './0007-notes';
 import * as m0011 from './0011-analogues';
 
 export interface Migration {
@@ -24,5 +25,6 @@ export const migrations: Migration[] = [
   { name: '0004-project-owner', ...m0004 },
   { name: '0005-job-workers', ...m0005 },
   { name: '0006-review', ...m0006 },
+  { name: '0007-notes', ...m0007 },
   { name: '0011-analogues', ...m0011 },
 ];
