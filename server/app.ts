@@ -15,6 +15,7 @@ import { authRoutes } from './routes/auth.routes';
 import { userRoutes } from './routes/user.routes';
 import { projectRoutes } from './routes/project.routes';
 import { buildupRoutes } from './routes/buildup.routes';
+import { reviewRoutes } from './routes/review.routes';
 import { noteRoutes } from './routes/note.routes';
 import { sectionRoutes } from './routes/section.routes';
 import type { Mailer } from './mail/mailer';
@@ -61,6 +62,7 @@ export function createApp(deps: AppDeps) {
   app.use('/api', sectionRoutes(deps.config));
   app.use('/api/projects', projectRoutes());
   app.use('/api', buildupRoutes());
+  app.use('/api', reviewRoutes());
   app.use('/api', noteRoutes());
   app.get('/api/admin/mail', requireAuth, requireRole('admin'), (_req, res) => {
     res.json(readSink(path.join(deps.config.storageDir, 'mail')));

@@ -15,6 +15,7 @@ import {
 import type { Role, PublicUser } from '../../shared/schemas/auth';
 import { initSectionModels } from './section';
 import { initBuildupModels } from './buildup';
+import { initReviewModels } from './review';
 import { initNoteModels } from './note';
 
 export class User extends Model<InferAttributes<User>, InferCreationAttributes<User>> {
@@ -153,5 +154,6 @@ export function initModels(sequelize: Sequelize) {
   ProjectMember.belongsTo(Project, { foreignKey: 'projectId', as: 'project' });
   initSectionModels(sequelize);
   initBuildupModels(sequelize);
+  initReviewModels(sequelize);
   initNoteModels(sequelize);
 }

@@ -11,6 +11,7 @@ import { AppError, notFound } from '../middlewares/errors';
 import { assertCanEdit, type Actor } from './project.service';
 import { sectionForEditor, sectionForViewer } from './section.service';
 import { audit } from './audit.service';
+import { afterSave, assertNotSignedOff, assertSectionNotFrozen, recordVersion } from './review.service';
 import { markBuildupNotesRemoved, refreshNoteAnchors } from './note.service';
 import { ctx } from '../context';
 import { MeasureInputError, type MeasurementOutput } from '../../shared/measure/index';
@@ -40,6 +41,7 @@ function summary(b: Buildup): BuildupSummary {
     cycleCount: b.geometry.cycles.length,
     updatedAt: b.updatedAt.toISOString(),
     updatedBy: b.updatedBy ? { id: b.updatedBy.id, name: b.updatedBy.name } : null,
+    reviewState: b.reviewState,
   };
 }
 
@@ -58,6 +60,7 @@ export async function createBuildup(actor: Actor, sectionId: number, name: strin
   const b = await ctx().sequelize.transaction(async (transaction) => {
     const row = await Buildup.create({ sectionId, name, geometry: EMPTY_GEOMETRY, createdById: actor.id, updatedById: actor.id }, { transaction });
     await audit(actor.id, 'buildup.create', 'buildup', row.id, { sectionId, name }, transaction);
+    await recordVersion(row, actor.id, transaction);
     return row;
   });
   return { id: b.id, version: b.version };
@@ -65,7 +68,7 @@ export async function createBuildup(actor: Actor, sectionId: number, name: strin
 
 export async function getBuildup(actor: Actor, id: number) {
   const { buildup } = await buildupForViewer(actor, id);
-  return { id: buildup.id, sectionId: buildup.sectionId, name: buildup.name, version: buildup.version, geometry: buildup.geometry, updatedAt: buildup.updatedAt.toISOString() };
+  return { id: buildup.id, sectionId: buildup.sectionId, name: buildup.name, version: buildup.version, geometry: buildup.geometry, updatedAt: buildup.updatedAt.toISOString(), reviewState: buildup.reviewState };
 }
 
 /** Save with optimistic locking: a stale `version` answers 409 with the current record, nothing is overwritten. */
@@ -76,6 +79,7 @@ export async function saveBuildup(actor: Actor, id: number, input: SaveBuildupIn
   return ctx().sequelize.transaction(async (transaction) => {
     const b = await Buildup.findByPk(id, { transaction, lock: transaction.LOCK.UPDATE });
     if (!b) throw notFound('Buildup');
+    await assertNotSignedOff(b, transaction);
     if (b.version !== input.version) {
       throw new AppError(409, 'version_conflict', `Someone saved this buildup after you loaded it (yours is version ${input.version}, the saved one ${b.version})`, {
         current: { id: b.id, name: b.name, version: b.version, geometry: b.geometry, updatedAt: b.updatedAt.toISOString() },
@@ -95,6 +99,7 @@ export async function saveBuildup(actor: Actor, id: number, input: SaveBuildupIn
     if (input.name) b.set('name', input.name);
     await b.save({ transaction });
     await audit(actor.id, 'buildup.save', 'buildup', b.id, { version: b.version }, transaction);
+    await afterSave(actor, b, transaction);
     await refreshNoteAnchors(b.id, b.geometry, transaction);
     return { version: b.version, updatedAt: b.updatedAt.toISOString() };
   });
@@ -104,7 +109,10 @@ export async function deleteBuildup(actor: Actor, id: number) {
   const { buildup, section } = await buildupForViewer(actor, id);
   await assertCanEdit(actor, section.projectId);
   await ctx().sequelize.transaction(async (transaction) => {
-    await buildup.destroy({ transaction });
+    const locked = await Buildup.findByPk(id, { transaction, lock: transaction.LOCK.UPDATE });
+    if (!locked) throw notFound('Buildup');
+    await assertNotSignedOff(locked, transaction);
+    await locked.destroy({ transaction });
     await audit(actor.id, 'buildup.delete', 'buildup', id, { name: buildup.name }, transaction);
     await markBuildupNotesRemoved(id, transaction);
   });
@@ -131,6 +139,7 @@ export async function getVelocity(actor: Actor, sectionId: number): Promise<Velo
 export async function putVelocity(actor: Actor, sectionId: number, velocity: unknown): Promise<VelocityInfo> {
   await sectionForEditor(actor, sectionId);
   await ctx().sequelize.transaction(async (transaction) => {
+    await assertSectionNotFrozen(sectionId, transaction);
     await SectionVelocity.upsert({ sectionId, model: velocity, updatedById: actor.id, updatedAt: new Date() }, { transaction });
     await audit(actor.id, 'section.velocity', 'section', sectionId, velocity, transaction);
   });

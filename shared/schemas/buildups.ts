@@ -6,6 +6,7 @@ import { z } from 'zod';
 import { buildupGeometrySchema, storedCycleId, storedTerminationId } from '../editor/model';
 import { velocityModelSchema } from './interpretation';
 import { safeText } from './text';
+import type { ReviewState } from './review';
 
 export { buildupGeometrySchema };
 
@@ -79,4 +80,6 @@ export interface BuildupSummary {
   cycleCount: number;
   updatedAt: string;
   updatedBy: { id: number; name: string } | null;
+  /** Review state (shared/schemas/review.ts); a signed-off buildup refuses edits until reopened. */
+  reviewState: ReviewState;
 }

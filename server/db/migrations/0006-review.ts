@@ -19,6 +19,10 @@ export async function up({ queryInterface: q }: MigrationContext) {
     geometry: { type: DataTypes.JSONB, allowNull: false },
     /** The section's velocity model when this version was saved (null: the default model). */
     velocity: { type: DataTypes.JSONB, allowNull: true },
+    /** The section's calibration (section_calibrations.version) when this version was saved; null: not yet tied. */
+    calibration_version: { type: DataTypes.INTEGER, allowNull: true },
+    /** The section's vertical domain when this version was saved ('twt_ms' | 'depth_m'). */
+    vertical_domain: { type: DataTypes.STRING(10), allowNull: false },
     saved_by_id: { type: DataTypes.INTEGER, allowNull: true, references: { model: 'users', key: 'id' }, onDelete: 'SET NULL' },
     saved_at: { type: DataTypes.DATE, allowNull: false },
   });
@@ -35,9 +39,11 @@ export async function up({ queryInterface: q }: MigrationContext) {
   await q.addIndex('review_transitions', ['buildup_id', 'id']);
   // buildups saved before versions were kept: their current state becomes their first kept version
   await q.sequelize.query(`
-    INSERT INTO buildup_versions (buildup_id, version, name, geometry, velocity, saved_by_id, saved_at)
-    SELECT b.id, b.version, b.name, b.geometry, v.model, b.updated_by_id, b.updated_at
-      FROM buildups b LEFT JOIN section_velocities v ON v.section_id = b.section_id`);
+    INSERT INTO buildup_versions (buildup_id, version, name, geometry, velocity, calibration_version, vertical_domain, saved_by_id, saved_at)
+    SELECT b.id, b.version, b.name, b.geometry, v.model,
+           (SELECT max(c.version) FROM section_calibrations c WHERE c.section_id = b.section_id),
+           s.vertical_domain, b.updated_by_id, b.updated_at
+      FROM buildups b JOIN sections s ON s.id = b.section_id LEFT JOIN section_velocities v ON v.section_id = b.section_id`);
 }
 
 export async function down({ queryInterface: q }: MigrationContext) {

@@ -12,6 +12,7 @@ import { Buildup, SectionVelocity } from '../../models/buildup';
 import { DEMO_SECTIONS, sectionGeometry } from '../../scripts/synth/demo';
 import { DEMO_PROJECT } from './demo';
 import type { SeedDeps } from './index';
+import { recordVersion } from '../../services/review.service';
 import type { BuildupGeometry } from '../../../shared/editor/model';
 
 export const INTERPRETATION_SEED_KEY = 'demo_interpretation_seeded';
@@ -52,7 +53,8 @@ export async function seedDemoInterpretation(_deps: SeedDeps): Promise<boolean> 
         topIsDrowningSurface: b.topIsDrowningSurface,
       };
       if (!(await Buildup.findOne({ where: { sectionId: section.id } }))) {
-        await Buildup.create({ sectionId: section.id, name: b.name, geometry, createdById: interpreter.id, updatedById: interpreter.id });
+        const created = await Buildup.create({ sectionId: section.id, name: b.name, geometry, createdById: interpreter.id, updatedById: interpreter.id });
+        await recordVersion(created, interpreter.id); // its first kept version (review)
       }
     }
   }
