@@ -257,6 +257,16 @@ const MATRIX: Record<string, Row> = {
   },
   'DELETE /api/buildups/:id': { req: async (f) => ({ path: `/api/buildups/${(await savedBuildup(t, await interp(), f.section, 'Delete target')).id}` }), refused: { as: 'curator', status: 403 }, allowed: { as: 'interpreter', status: 204 } },
   'GET /api/buildups/:id/measurements': { req: (f) => ({ path: `/api/buildups/${f.buildup}/measurements?draws=20` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  // review states and kept versions
+  'GET /api/buildups/:id/review': { req: (f) => ({ path: `/api/buildups/${f.buildup}/review` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'curator', status: 200 } },
+  'POST /api/buildups/:id/review': {
+    req: async (f) => ({ path: `/api/buildups/${(await savedBuildup(t, await interp(), f.section, 'Review target')).id}/review`, body: { from: 'draft', to: 'out_for_review' } }),
+    refused: { as: 'curator', status: 403 },
+    allowed: { as: 'interpreter', status: 200 },
+  },
+  'GET /api/buildups/:id/versions': { req: (f) => ({ path: `/api/buildups/${f.buildup}/versions` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  'GET /api/buildups/:id/versions/:version': { req: (f) => ({ path: `/api/buildups/${f.buildup}/versions/1` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'curator', status: 200 } },
+  'GET /api/buildups/:id/versions/:version/measurements': { req: (f) => ({ path: `/api/buildups/${f.buildup}/versions/1/measurements?draws=20` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
   'POST /api/measure': {
     req: () => ({
       path: '/api/measure',
