@@ -8,7 +8,7 @@ import type { Config } from './config';
 import { ROOT_DIR } from './config';
 import { setContext } from './context';
 import { initModels } from './models/index';
-import { configurePassport, requireAuth, requireRole } from './middlewares/auth';
+import { configurePassport } from './middlewares/auth';
 import { apiNotFound, errorHandler, DB_RETRY_AFTER_SECONDS } from './middlewares/errors';
 import { defaultJsonBody } from './middlewares/body';
 import { authRoutes } from './routes/auth.routes';
@@ -18,8 +18,8 @@ import { buildupRoutes } from './routes/buildup.routes';
 import { reviewRoutes } from './routes/review.routes';
 import { noteRoutes } from './routes/note.routes';
 import { sectionRoutes } from './routes/section.routes';
+import { accountRoutes, notificationRoutes, outboxRoutes } from './routes/notification.routes';
 import type { Mailer } from './mail/mailer';
-import { readSink } from './mail/sink';
 
 export interface AppDeps {
   config: Config;
@@ -64,9 +64,9 @@ export function createApp(deps: AppDeps) {
   app.use('/api', buildupRoutes());
   app.use('/api', reviewRoutes());
   app.use('/api', noteRoutes());
-  app.get('/api/admin/mail', requireAuth, requireRole('admin'), (_req, res) => {
-    res.json(readSink(path.join(deps.config.storageDir, 'mail')));
-  });
+  app.use('/api/notifications', notificationRoutes());
+  app.use('/api/account', accountRoutes());
+  app.use('/api/admin/mail', outboxRoutes());
   app.use('/api', apiNotFound);
 
   // CAYLINE_CLIENT_DIR: serve a client build from elsewhere (parallel end-to-end runs build into their own folder)

@@ -31,6 +31,15 @@ export interface Config {
    */
   body: { jsonMaxBytes: number; largeJsonMaxBytes: number; signInMaxBytes: number };
   mail: { host: string; port: number; from: string };
+  /**
+   * Single-use account links mailed to people (server/services/account.service.ts):
+   * invitation links (INVITE_LINK_HOURS, default 72 h) and password-reset links
+   * (RESET_LINK_HOURS, default 2 h); "forgot password" requests per address and
+   * window (FORGOT_RATE_MAX per 15 min, default 5).
+   */
+  accountLinks: { inviteHours: number; resetHours: number; forgotRateLimit: { windowMs: number; max: number } };
+  /** When the daily digest of unmailed notifications goes out (pg-boss cron, DIGEST_CRON, server time zone UTC). */
+  notify: { digestCron: string };
   publicUrl: string;
   /** Background work (pg-boss, schema `pgboss`): run workers in this process, poll interval, attempts per section. */
   jobs: { runWorkers: boolean; pollingIntervalSeconds: number; maxAttempts: number; expireInSeconds: number };
@@ -69,6 +78,15 @@ function positiveBytes(name: string, fallback: number): number {
   return n;
 }
 
+/** A number > 0 from the environment, or the default when unset. */
+function positiveNumber(name: string, fallback: number): number {
+  const raw = (process.env[name] ?? '').trim();
+  if (raw === '') return fallback;
+  const n = Number(raw);
+  if (!Number.isFinite(n) || n <= 0) throw new Error(`${name}: a number > 0, got "${raw}"`);
+  return n;
+}
+
 export function loadConfig(overrides: Partial<Config> = {}): Config {
   const storageDir = overrides.storageDir ?? path.resolve(process.env.CAYLINE_STORAGE ?? path.join(ROOT_DIR, 'storage'));
   const port = Number(process.env.PORT ?? 8080);
@@ -100,6 +118,12 @@ export function loadConfig(overrides: Partial<Config> = {}): Config {
       port: Number(process.env.SMTP_PORT ?? 0),
       from: process.env.MAIL_FROM ?? 'Cayline <no-reply@cayline.example>',
     },
+    accountLinks: {
+      inviteHours: positiveNumber('INVITE_LINK_HOURS', 72),
+      resetHours: positiveNumber('RESET_LINK_HOURS', 2),
+      forgotRateLimit: { windowMs: 15 * 60_000, max: positiveNumber('FORGOT_RATE_MAX', 5) },
+    },
+    notify: { digestCron: process.env.DIGEST_CRON ?? '0 7 * * *' },
     publicUrl: process.env.PUBLIC_URL ?? `http://localhost:${port}`,
     jobs: {
       runWorkers: process.env.CAYLINE_JOB_WORKERS !== '0',

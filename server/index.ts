@@ -11,6 +11,9 @@ import { migrate } from './db/migrate';
 import { createApp } from './app';
 import { createMailer } from './mail/mailer';
 import { startMailSink, type MailSink } from './mail/sink';
+import { importSinkBacklog, onSinkMessage } from './mail/outbox';
+import { startDigestJob } from './jobs/digest.job';
+import { mailSettled } from './services/notify.service';
 import { logger } from './logger';
 import { startBackgroundJobs } from './jobs/pyramid.job';
 import { closeMeasurePool } from './measure/pool';
@@ -41,13 +44,15 @@ export async function boot(opts: BootOptions): Promise<Running> {
   let smtpHost = process.env.SMTP_HOST;
   let smtpPort = config.mail.port;
   if (!smtpHost) {
-    sink = await startMailSink(path.join(config.storageDir, 'mail'), smtpPort);
+    sink = await startMailSink(path.join(config.storageDir, 'mail'), smtpPort, onSinkMessage);
     smtpHost = '127.0.0.1';
     smtpPort = sink.port;
   }
   const mailer = createMailer({ host: smtpHost, port: smtpPort, from: config.mail.from });
   const app = createApp({ config, sequelize, mailer });
+  if (sink) await importSinkBacklog(sink.dir);
   const jobs = await startBackgroundJobs({ databaseUrl: opts.databaseUrl, config, sequelize });
+  await startDigestJob(jobs.boss, config);
   if (opts.afterMigrate) await opts.afterMigrate({ sequelize, config });
 
   let server: Server | null = null;
@@ -59,6 +64,8 @@ export async function boot(opts: BootOptions): Promise<Running> {
     });
     const addr = server.address();
     url = `http://localhost:${typeof addr === 'object' && addr ? addr.port : config.port}`;
+    // links in mails point at this server unless PUBLIC_URL (or the caller) says where people reach it
+    if (!process.env.PUBLIC_URL && !opts.config?.publicUrl) config.publicUrl = url;
   }
   logger.info({ url, smtp: `${smtpHost}:${smtpPort}` }, 'Cayline server up');
 
@@ -70,6 +77,7 @@ export async function boot(opts: BootOptions): Promise<Running> {
     async close() {
       if (server) await new Promise<void>((r) => server!.close(() => r()));
       await jobs.stop();
+      await mailSettled();
       await closeMeasurePool();
       await sink?.close();
       await sequelize.close();

@@ -2,7 +2,8 @@ import nodemailer from 'nodemailer';
 import { logger } from '../logger';
 
 export interface Mailer {
-  send(m: { to: string; subject: string; text: string }): Promise<void>;
+  /** Resolves true once the SMTP server accepted the message, false when sending failed (logged). */
+  send(m: { to: string; subject: string; text: string }): Promise<boolean>;
 }
 
 /** Mail through nodemailer over SMTP (the local sink by default). A failed send is logged, never fatal to the request. */
@@ -12,8 +13,10 @@ export function createMailer(opts: { host: string; port: number; from: string })
     async send(m) {
       try {
         await transport.sendMail({ from: opts.from, ...m });
+        return true;
       } catch (err) {
         logger.warn({ err, to: m.to }, 'mail could not be sent');
+        return false;
       }
     },
   };

@@ -1,9 +1,12 @@
 /**
  * A local stand-in for a hosted mail service: an SMTP server on 127.0.0.1
  * that accepts every message and keeps it as an .eml file under
- * storage/mail/. The app starts it itself; admins read it at /api/admin/mail.
- * Messages hold first passwords, so the folder is 0700 and each file 0600
- * (written to a temporary name, then renamed into place).
+ * storage/mail/. The app starts it itself; each kept message is also handed
+ * to `onMessage` (the Outbox parses and stores it, server/mail/outbox.ts)
+ * before the SMTP answer, so a sent message is readable at /api/admin/mail as
+ * soon as the send returns. Messages hold single-use account links, so the
+ * folder is 0700 and each file 0600 (written to a temporary name, then renamed
+ * into place).
  */
 import fs from 'node:fs';
 import path from 'node:path';
@@ -26,27 +29,41 @@ function tightenSink(dir: string) {
   }
 }
 
-export function startMailSink(dir: string, port = 0): Promise<MailSink> {
+/** A message the sink kept: its file name, raw bytes and the SMTP envelope's recipients. */
+export interface ReceivedMail {
+  file: string;
+  raw: Buffer;
+  envelopeTo: string[];
+}
+
+export function startMailSink(dir: string, port = 0, onMessage?: (m: ReceivedMail) => Promise<void>): Promise<MailSink> {
   tightenSink(dir);
   const server = new SMTPServer({
     authOptional: true,
     disabledCommands: ['STARTTLS', 'AUTH'],
     logger: false,
-    onData(stream, _session, callback) {
+    onData(stream, session, callback) {
       const chunks: Buffer[] = [];
       stream.on('data', (c: Buffer) => chunks.push(c));
       stream.on('end', () => {
         const name = `${new Date().toISOString().replace(/[:.]/g, '-')}-${crypto.randomBytes(4).toString('hex')}.eml`;
         const tmp = path.join(dir, `.${name}.part`);
+        const raw = Buffer.concat(chunks);
         try {
           // 'wx': never reuse or follow an existing file; the mode is set at creation, before any byte is written.
-          fs.writeFileSync(tmp, Buffer.concat(chunks), { mode: 0o600, flag: 'wx' });
+          fs.writeFileSync(tmp, raw, { mode: 0o600, flag: 'wx' });
           fs.renameSync(tmp, path.join(dir, name));
-          callback();
         } catch (err) {
           fs.rmSync(tmp, { force: true });
           callback(err as Error);
+          return;
         }
+        // the file is kept whatever happens next; a failed hand-over is the hook's to log
+        const envelopeTo = session.envelope.rcptTo.map((r) => r.address);
+        Promise.resolve(onMessage?.({ file: name, raw, envelopeTo })).then(
+          () => callback(),
+          () => callback(),
+        );
       });
     },
   });

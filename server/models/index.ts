@@ -13,10 +13,12 @@ import {
   type Sequelize,
 } from 'sequelize';
 import type { Role, PublicUser } from '../../shared/schemas/auth';
+import type { NotifyMode } from '../../shared/schemas/notifications';
 import { initSectionModels } from './section';
 import { initBuildupModels } from './buildup';
 import { initReviewModels } from './review';
 import { initNoteModels } from './note';
+import { initNotificationModels } from './notification';
 
 export class User extends Model<InferAttributes<User>, InferCreationAttributes<User>> {
   declare id: CreationOptional<number>;
@@ -25,6 +27,8 @@ export class User extends Model<InferAttributes<User>, InferCreationAttributes<U
   declare role: Role;
   declare passwordHash: string;
   declare active: CreationOptional<boolean>;
+  /** How this person hears of notifications by e-mail (migration 0008). */
+  declare notifyMode: CreationOptional<NotifyMode>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
 
@@ -97,6 +101,7 @@ export function initModels(sequelize: Sequelize) {
       role: { type: DataTypes.STRING(20), allowNull: false },
       passwordHash: { type: DataTypes.STRING(100), allowNull: false },
       active: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: true },
+      notifyMode: { type: DataTypes.STRING(10), allowNull: false, defaultValue: 'immediate' },
       ...stamps,
     },
     { sequelize, tableName: 'users' },
@@ -156,4 +161,5 @@ export function initModels(sequelize: Sequelize) {
   initBuildupModels(sequelize);
   initReviewModels(sequelize);
   initNoteModels(sequelize);
+  initNotificationModels(sequelize);
 }

@@ -1,9 +1,9 @@
-import crypto from 'node:crypto';
 import { Op, UniqueConstraintError } from 'sequelize';
 import { User } from '../models/index';
 import { AppError, notFound } from '../middlewares/errors';
 import { hashPassword, revokeAllSessions } from './auth.service';
 import { audit } from './audit.service';
+import { createAccountLink, invitationMail, unusablePasswordHash } from './account.service';
 import { ctx } from '../context';
 import type { CreateUserInput, DirectoryEntry, DirectoryQuery, UpdateUserInput } from '../../shared/schemas/users';
 import type { Page } from '../../shared/schemas/projects';
@@ -45,29 +45,23 @@ export async function directory(actor: { id: number; role: string }, q: Director
 }
 
 export async function createUser(actorId: number | null, input: CreateUserInput): Promise<PublicUser> {
+  // Without a password the person is invited: a single-use link to choose their own (no password in any mail).
   const invited = !input.password;
-  const password = input.password ?? crypto.randomBytes(12).toString('base64url');
-  const passwordHash = await hashPassword(password);
-  let user: User;
+  const passwordHash = input.password ? await hashPassword(input.password) : await unusablePasswordHash();
+  let created: { user: User; link: { url: string; expiresAt: Date } | null };
   try {
-    user = await ctx().sequelize.transaction(async (transaction) => {
+    created = await ctx().sequelize.transaction(async (transaction) => {
       const u = await User.create({ email: input.email, name: input.name, role: input.role, passwordHash }, { transaction });
-      await audit(actorId, 'user.create', 'user', u.id, { role: input.role }, transaction);
-      return u;
+      const link = invited ? await createAccountLink(u.id, 'invite', transaction) : null;
+      await audit(actorId, 'user.create', 'user', u.id, { role: input.role, invited }, transaction);
+      return { user: u, link };
     });
   } catch (e) {
     if (e instanceof UniqueConstraintError) throw new AppError(409, 'email_taken', 'email: an account with this e-mail already exists');
     throw e;
   }
-  if (invited) {
-    await ctx().mailer.send({
-      to: user.email,
-      subject: 'You are invited to Cayline',
-      text:
-        `Hello ${user.name},\n\nAn administrator created a Cayline account for you (${user.email}, role ${user.role}).\n` +
-        `Your first password is: ${password}\nSign in at ${ctx().config.publicUrl}/sign-in and keep it safe.\n`,
-    });
-  }
+  const { user, link } = created;
+  if (link) await ctx().mailer.send(invitationMail(user, link));
   return user.toPublic();
 }
 

@@ -8,7 +8,7 @@ export const createUserSchema = z.object({
   email: z.string().trim().toLowerCase().email('must be an e-mail address'),
   name: safeText().trim().min(1, 'is required').max(120),
   role: roleSchema,
-  /** Optional: when absent, a random password is set and an invitation mail is sent. */
+  /** Optional: when absent, the person is invited by mail with a single-use link to choose their own password. */
   password: safeText().min(PASSWORD_MIN, `must be at least ${PASSWORD_MIN} characters`).max(200).optional(),
 });
 export type CreateUserInput = z.infer<typeof createUserSchema>;

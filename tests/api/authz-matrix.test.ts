@@ -130,6 +130,24 @@ async function freshUser(role = 'reviewer') {
   expect(r.status).toBe(201);
   return r.body.id as number;
 }
+/** Invite a fresh account and return the token of the set-password link from its mail (read through the Outbox). */
+async function invitationToken() {
+  const email = `inv${Math.random().toString(36).slice(2)}@tessel.example`;
+  const r = await request(t.app).post('/api/users').set(bearer(await admin())).send({ email, name: 'Matrix Invitee', role: 'reviewer' });
+  expect(r.status).toBe(201);
+  const list = await request(t.app).get('/api/admin/mail?pageSize=20').set(bearer(await admin()));
+  const item = list.body.items.find((m: { recipients: string[] }) => m.recipients.includes(email));
+  const mail = await request(t.app).get(`/api/admin/mail/${item.id}`).set(bearer(await admin()));
+  return new URL(mail.body.links[0]).searchParams.get('token')!;
+}
+async function newestMailId() {
+  let list = await request(t.app).get('/api/admin/mail?pageSize=1').set(bearer(await admin()));
+  if (!list.body.items.length) {
+    await invitationToken();
+    list = await request(t.app).get('/api/admin/mail?pageSize=1').set(bearer(await admin()));
+  }
+  return list.body.items[0].id as number;
+}
 async function uploadedSection() {
   const r = await request(t.app)
     .post(`/api/projects/${fx.demoId}/sections`)
@@ -158,6 +176,19 @@ const MATRIX: Record<string, Row> = {
     anonymous: 200,
     refused: { as: 'anonymous', status: 401, req: () => ({ path: '/api/auth/login', body: { email: 'reviewer@tessel.example', password: 'wrong-password' } }) },
     allowed: { as: 'anonymous', status: 200 },
+  },
+
+  'POST /api/auth/forgot-password': {
+    req: () => ({ path: '/api/auth/forgot-password', body: { email: 'nobody.at.all@tessel.example' } }),
+    anonymous: 202,
+    refused: 'none: public, and the same 202 whether the address has an account or not',
+    allowed: { as: 'anonymous', status: 202 },
+  },
+  'POST /api/auth/set-password': {
+    req: () => ({ path: '/api/auth/set-password', body: { token: 'A'.repeat(43), password: 'matrix-password-1' } }),
+    anonymous: 400, // an unknown link
+    refused: 'none: public; the mailed single-use token is the credential',
+    allowed: { as: 'anonymous', status: 200, req: async () => ({ path: '/api/auth/set-password', body: { token: await invitationToken(), password: 'matrix-password-1' } }) },
   },
 
   // auth
@@ -293,6 +324,19 @@ const MATRIX: Record<string, Row> = {
 
   // admin
   'GET /api/admin/mail': { req: () => ({ path: '/api/admin/mail' }), refused: { as: 'interpreter', status: 403 }, allowed: { as: 'admin', status: 200 } },
+  'GET /api/admin/mail/:id': { req: async () => ({ path: `/api/admin/mail/${await newestMailId()}` }), refused: { as: 'interpreter', status: 403 }, allowed: { as: 'admin', status: 200 } },
+
+  // notifications and one's own account
+  'GET /api/notifications': { req: () => ({ path: '/api/notifications' }), refused: 'none: every signed-in user (their own notifications only)', allowed: { as: 'reviewer', status: 200 } },
+  'POST /api/notifications/read': { req: () => ({ path: '/api/notifications/read', body: { all: true } }), refused: 'none: every signed-in user (their own notifications only)', allowed: { as: 'reviewer', status: 200 } },
+  'GET /api/account/preferences': { req: () => ({ path: '/api/account/preferences' }), refused: 'none: every signed-in user (their own settings)', allowed: { as: 'curator', status: 200 } },
+  'PUT /api/account/preferences': { req: () => ({ path: '/api/account/preferences', body: { notifyMode: 'immediate' } }), refused: 'none: every signed-in user (their own settings)', allowed: { as: 'curator', status: 200 } },
+  'POST /api/account/password': {
+    // the outsider changes their own password; their current session (the one sending) stays
+    req: () => ({ path: '/api/account/password', body: { currentPassword: 'long-enough-pw', newPassword: 'outsider-new-pw-1' } }),
+    refused: 'none: every signed-in user (their own password, the current one required)',
+    allowed: { as: 'outsider', status: 204 },
+  },
 };
 
 // ---------------------------------------------------------------------------

@@ -10,6 +10,7 @@ import * as m0004 from './0004-project-owner';
 import * as m0005 from './0005-job-workers';
 import * as m0006 from './0006-review';
 import * as m0007 from './0007-notes';
+import * as m0008 from './0008-notifications';
 import * as m0011 from './0011-analogues';
 
 export interface Migration {
@@ -26,5 +27,6 @@ export const migrations: Migration[] = [
   { name: '0005-job-workers', ...m0005 },
   { name: '0006-review', ...m0006 },
   { name: '0007-notes', ...m0007 },
+  { name: '0008-notifications', ...m0008 },
   { name: '0011-analogues', ...m0011 },
 ];
