@@ -15,6 +15,7 @@ import { authRoutes } from './routes/auth.routes';
 import { userRoutes } from './routes/user.routes';
 import { projectRoutes } from './routes/project.routes';
 import { buildupRoutes } from './routes/buildup.routes';
+import { registerRoutes } from './routes/register.routes';
 import { reviewRoutes } from './routes/review.routes';
 import { noteRoutes } from './routes/note.routes';
 import { sectionRoutes } from './routes/section.routes';
@@ -62,6 +63,7 @@ export function createApp(deps: AppDeps) {
   app.use('/api', sectionRoutes(deps.config));
   app.use('/api/projects', projectRoutes());
   app.use('/api', buildupRoutes());
+  app.use('/api', registerRoutes());
   app.use('/api', reviewRoutes());
   app.use('/api', noteRoutes());
   app.use('/api/notifications', notificationRoutes());

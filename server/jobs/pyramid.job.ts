@@ -35,6 +35,7 @@ import {
   type JobQueue,
   type PyramidJobData,
 } from './queue';
+import { startSummaryJobs } from './summary.job';
 import { Liveness, jobTimings, type JobTimings, type WorkerRow } from './liveness';
 
 /** Keys of a section's files in the file store. */
@@ -333,6 +334,7 @@ export async function startBackgroundJobs(opts: { databaseUrl: string; config: C
       handlers: { pyramid: runPyramidJob },
       onReady: async (boss) => {
         queueRef = boss;
+        await startSummaryJobs(boss, opts.config); // register summaries (summary.job.ts)
         await sweepLeftovers();
         await recoverSections(boss);
       },

@@ -14,6 +14,9 @@ import { audit } from './audit.service';
 import { afterSave, assertNotSignedOff, assertSectionNotFrozen, recordVersion } from './review.service';
 import { markBuildupNotesRemoved, refreshNoteAnchors } from './note.service';
 import { ctx } from '../context';
+import { logger } from '../logger';
+import { writeSummary, type SummarySources } from './summary-store';
+import { sendSummaryJob } from '../jobs/summary.job';
 import { MeasureInputError, type MeasurementOutput } from '../../shared/measure/index';
 import { measureWorkProblem } from '../../shared/schemas/measure-limits';
 import { measureOffLoop } from '../measure/pool';
@@ -101,6 +104,7 @@ export async function saveBuildup(actor: Actor, id: number, input: SaveBuildupIn
     await audit(actor.id, 'buildup.save', 'buildup', b.id, { version: b.version }, transaction);
     await afterSave(actor, b, transaction);
     await refreshNoteAnchors(b.id, b.geometry, transaction);
+    await sendSummaryJob(b.id, transaction); // the register's figures of the new version
     return { version: b.version, updatedAt: b.updatedAt.toISOString() };
   });
 }
@@ -170,20 +174,45 @@ async function measureSources(section: Section) {
  */
 export async function measureBuildup(actor: Actor, id: number, options?: unknown): Promise<MeasurementOutput> {
   const { buildup, section } = await buildupForViewer(actor, id);
+  return measureStored(buildup, section, options);
+}
+
+/**
+ * The measurements of a stored buildup (no access check: callers check). With
+ * the default options the figures also go into the buildup's register
+ * summary (server/services/summary-store.ts), or why it cannot be measured.
+ */
+export async function measureStored(buildup: Buildup, section: Section, options?: unknown): Promise<MeasurementOutput> {
   const { context, versions } = await measureSources(section);
   const key = stableJson({ buildup: [buildup.id, buildup.version], ...versions, options: options ?? {} });
+  const isDefault = stableJson(options ?? {}) === '{}';
+  const sources: SummarySources = {
+    buildupId: buildup.id,
+    buildupVersion: buildup.version,
+    calibrationId: versions.calibration[0] as number,
+    velocityAt: versions.velocity[0] ? new Date(versions.velocity[0] as string) : null,
+    verticalDomain: section.verticalDomain,
+    width: section.width,
+    height: section.height,
+  };
+  const keep = (result: Parameters<typeof writeSummary>[1]) =>
+    isDefault ? writeSummary(sources, result).catch((err) => logger.warn({ err, buildupId: buildup.id }, 'could not keep the register summary')) : undefined;
   try {
     return await cachedMeasurement(ctx().sequelize, key, async () => {
       const editor = fromGeometry({ id: buildup.id, name: buildup.name, version: buildup.version, geometry: buildup.geometry });
       const input = toInterpretationInput(editor, context);
       const tooMuch = measureWorkProblem(input, (options as { draws?: unknown } | undefined)?.draws, 'draws');
       if (tooMuch) throw new AppError(422, 'work_too_large', `${tooMuch.path}: ${tooMuch.message}`, [{ path: tooMuch.path, message: tooMuch.message }]);
-      return measureOffLoop(input, options);
+      const output = await measureOffLoop(input, options);
+      await keep({ output });
+      return output;
     });
   } catch (e) {
     if (e instanceof ModelError || e instanceof MeasureInputError) {
+      await keep({ status: 'not_measurable', problem: e.message });
       throw new AppError(422, 'not_measurable', `${e.message}`, { path: (e as { path?: string }).path });
     }
+    if (e instanceof AppError && e.code === 'work_too_large') await keep({ status: 'failed', problem: e.message });
     throw e;
   }
 }
