@@ -34,7 +34,7 @@ export async function listNotifications(userId: number, q: NotificationListQuery
 /** Mark the given (own) notifications, or all, read; ids that are not the asker's are ignored. Returns the new unread count. */
 export async function markRead(userId: number, input: MarkReadInput): Promise<{ marked: number; unread: number }> {
   const where: WhereOptions<Notification> =
-    'all' in input ? { recipientId: userId, readAt: null } : { recipientId: userId, readAt: null, id: { [Op.in]: input.ids } };
+    input.all ? { recipientId: userId, readAt: null } : { recipientId: userId, readAt: null, id: { [Op.in]: input.ids ?? [] } };
   const [marked] = await ctx().sequelize.transaction(async (transaction) => Notification.update({ readAt: new Date() }, { where, transaction }));
   return { marked, unread: await unreadCount(userId) };
 }

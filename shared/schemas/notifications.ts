@@ -17,10 +17,13 @@ export const notificationListQuerySchema = z.object({
 export type NotificationListQuery = z.infer<typeof notificationListQuerySchema>;
 
 /** Mark some (`ids`) or all (`all: true`) of one's notifications read. */
-export const markReadSchema = z.union([
-  z.object({ ids: z.array(z.number().int().positive()).min(1, 'name at least one notification').max(500) }).strict(),
-  z.object({ all: z.literal(true) }).strict(),
-]);
+export const markReadSchema = z
+  .object({
+    ids: z.array(z.number().int().positive()).min(1, 'name at least one notification').max(500).optional(),
+    all: z.literal(true).optional(),
+  })
+  .strict()
+  .refine((v) => (v.ids === undefined) !== (v.all === undefined), { path: ['ids'], message: 'give either ids or all: true' });
 export type MarkReadInput = z.infer<typeof markReadSchema>;
 
 export interface NotificationItem {

@@ -35,6 +35,26 @@ describe('mail sink', () => {
     expect(readSink(mailDir)[0]).toMatchObject({ to: 'new.hand@tessel.example', subject: 'Your first password' });
   });
 
+  it('hands each kept message to its hook before answering, and keeps the file when the hook fails', async () => {
+    dir = fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-sink-'));
+    const mailDir = path.join(dir, 'mail');
+    const seen: { file: string; envelopeTo: string[]; raw: string }[] = [];
+    let fail = false;
+    sink = await startMailSink(mailDir, 0, async (m) => {
+      if (fail) throw new Error('store failed');
+      seen.push({ file: m.file, envelopeTo: m.envelopeTo, raw: m.raw.toString('utf8') });
+    });
+    await sendOne(sink.port, 'new.hand@tessel.example');
+    // sendMail resolved: the hook has already run
+    expect(seen).toHaveLength(1);
+    expect(seen[0].envelopeTo).toEqual(['new.hand@tessel.example']);
+    expect(seen[0].raw).toContain('Subject: Your first password');
+    expect(fs.readdirSync(mailDir)).toEqual([seen[0].file]);
+    fail = true;
+    await sendOne(sink.port, 'other.hand@tessel.example'); // accepted all the same
+    expect(fs.readdirSync(mailDir).filter((f) => f.endsWith('.eml'))).toHaveLength(2);
+  });
+
   it('tightens a folder and messages left open by an earlier version', async () => {
     dir = fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-sink-'));
     const mailDir = path.join(dir, 'mail');
