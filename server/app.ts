@@ -19,6 +19,7 @@ import { registerRoutes } from './routes/register.routes';
 import { reviewRoutes } from './routes/review.routes';
 import { noteRoutes } from './routes/note.routes';
 import { sectionRoutes } from './routes/section.routes';
+import { analogueRoutes } from './routes/analogue.routes';
 import { accountRoutes, notificationRoutes, outboxRoutes } from './routes/notification.routes';
 import type { Mailer } from './mail/mailer';
 
@@ -63,6 +64,7 @@ export function createApp(deps: AppDeps) {
   app.use('/api', sectionRoutes(deps.config));
   app.use('/api/projects', projectRoutes());
   app.use('/api', buildupRoutes());
+  app.use('/api', analogueRoutes());
   app.use('/api', registerRoutes());
   app.use('/api', reviewRoutes());
   app.use('/api', noteRoutes());

@@ -161,7 +161,8 @@ const tagFields = {
 export const handEntrySchema = z
   .object({
     name: nameText,
-    citation: citationSchema,
+    /** The publication (hand entries); imports may leave it out. */
+    citation: citationSchema.nullable().optional(),
     metrics: metricsSchema,
     /** Unit of each typed length (converted to metres on save). */
     lengthUnit: z.enum(['m', 'ft']).default('m'),

@@ -4,6 +4,7 @@ import type { Config } from '../../config';
 import { seedDemoUsers } from './demo';
 import { seedDemoSections } from './sections';
 import { seedDemoInterpretation } from './interpretations';
+import { seedDemoAnalogues } from './analogues';
 
 export interface SeedDeps {
   sequelize: Sequelize;
@@ -16,4 +17,6 @@ export async function seedDemo(deps: SeedDeps) {
   if (r.seeded) deps.log('seeded the demo accounts and the project "Tessel Basin screening"');
   if ((await seedDemoSections(deps)).seeded.length) deps.log('seeded the demo sections TB-11 and TB-14 (tiles are being built in the background)');
   if (await seedDemoInterpretation(deps)) deps.log('seeded velocity models for the demo sections and the traced bank on TB-14');
+  const analogues = await seedDemoAnalogues(deps.sequelize);
+  if (analogues) deps.log(`seeded ${analogues} invented demo analogues in the Analogue library`);
 }
