@@ -322,6 +322,13 @@ const MATRIX: Record<string, Row> = {
   'PATCH /api/messages/:id': { req: async (f) => ({ path: `/api/messages/${(await noteThread(f)).messageId}`, body: { body: 'Matrix edit' } }), refused: { as: 'reviewer', status: 403 }, allowed: { as: 'interpreter', status: 200 } },
   'DELETE /api/messages/:id': { req: async (f) => ({ path: `/api/messages/${(await noteThread(f)).messageId}` }), refused: { as: 'curator', status: 403 }, allowed: { as: 'interpreter', status: 200 } },
 
+  // project buildup register and its exports (members only; reviewers and curators read and export); one's own display unit
+  'GET /api/projects/:id/buildups': { req: (f) => ({ path: `/api/projects/${f.demoId}/buildups?sort=heightM` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  'GET /api/projects/:id/buildups/export.csv': { req: (f) => ({ path: `/api/projects/${f.demoId}/buildups/export.csv?unit=ft` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'curator', status: 200 } },
+  'GET /api/projects/:id/buildups/export.geojson': { req: (f) => ({ path: `/api/projects/${f.demoId}/buildups/export.geojson` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  'GET /api/me/preferences': { req: () => ({ path: '/api/me/preferences' }), refused: 'none: every signed-in user (their own preferences)', allowed: { as: 'curator', status: 200 } },
+  'PUT /api/me/preferences': { req: () => ({ path: '/api/me/preferences', body: { lengthUnit: 'm' } }), refused: 'none: every signed-in user (their own preferences)', allowed: { as: 'reviewer', status: 200 } },
+
   // admin
   'GET /api/admin/mail': { req: () => ({ path: '/api/admin/mail' }), refused: { as: 'interpreter', status: 403 }, allowed: { as: 'admin', status: 200 } },
   'GET /api/admin/mail/:id': { req: async () => ({ path: `/api/admin/mail/${await newestMailId()}` }), refused: { as: 'interpreter', status: 403 }, allowed: { as: 'admin', status: 200 } },
