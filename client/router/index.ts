@@ -58,6 +58,31 @@ export const router = createRouter({
           meta: { title: 'Interpret', wide: true },
         },
         {
+          path: 'library',
+          name: 'library',
+          component: () => import('../pages/LibraryPage.vue'),
+          meta: { title: 'Analogue library' },
+        },
+        {
+          path: 'library/import',
+          name: 'library-import',
+          component: () => import('../pages/LibraryImportPage.vue'),
+          meta: { roles: ['curator', 'admin'], title: 'Import analogues' },
+        },
+        {
+          path: 'library/look-alikes',
+          name: 'look-alikes',
+          component: () => import('../pages/LookAlikesPage.vue'),
+          meta: { title: 'Look-alikes' },
+        },
+        {
+          path: 'library/:analogueId(\\d+)',
+          name: 'analogue',
+          component: () => import('../pages/AnalogueDetailPage.vue'),
+          props: (route) => ({ analogueId: Number(route.params.analogueId) }),
+          meta: { title: 'Analogue' },
+        },
+        {
           path: 'admin/users',
           name: 'admin-users',
           component: () => import('../pages/AdminUsersPage.vue'),

@@ -15,6 +15,16 @@ export type GeoFilter =
   | { kind: 'box'; west: number; south: number; east: number; north: number }
   | { kind: 'radius'; lon: number; lat: number; km: number };
 
+/** An analogue placed on the map. */
+export interface MapPoint {
+  id: number;
+  name: string;
+  lon: number;
+  lat: number;
+  /** Drawn larger in sand when true (the analogue being looked at). */
+  highlight?: boolean;
+}
+
 let landCache: FeatureCollection<Polygon | MultiPolygon> | Feature<Polygon | MultiPolygon> | null = null;
 
 /** The land outline as GeoJSON, converted once from the TopoJSON file. */

@@ -42,7 +42,7 @@ export interface CrossplotInput {
 /** Data item of a crossplot point: [x, y, id, name]. */
 export type PointDatum = [number, number, number, string];
 
-export function crossplotOption(input: CrossplotInput): { option: EChartsOption; xLog: boolean; yLog: boolean; plotted: number; missing: number } {
+export function crossplotOption(input: CrossplotInput): { option: EChartsOption; xLog: boolean; yLog: boolean; plotted: number; missing: number; marked: string[] } {
   const { items, x, y, colourBy, labels = {}, highlightId = null, extra = null } = input;
   const usable = items.filter((a) => Number.isFinite(a.metrics[x] ?? NaN) && Number.isFinite(a.metrics[y] ?? NaN));
   const xs = usable.map((a) => a.metrics[x] as number);
@@ -111,7 +111,7 @@ export function crossplotOption(input: CrossplotInput): { option: EChartsOption;
     yAxis: { ...axis(y, yLog), nameGap: 52 },
     series,
   };
-  return { option, xLog, yLog, plotted: usable.length, missing: items.length - usable.length };
+  return { option, xLog, yLog, plotted: usable.length, missing: items.length - usable.length, marked: marked.map((d) => d[3]) };
 }
 
 export function histogramOption(items: AnalogueSummary[], key: MetricKey): { option: EChartsOption; log: boolean; counted: number } {

@@ -49,6 +49,7 @@ describe('library crossplot', () => {
     const r = crossplotOption({ items, x: 'areaM2', y: 'heightM', colourBy: 'class', highlightId: 2, extra: { name: 'Marrow Bank', x: 7e4, y: 150 } });
     const last = (r.option.series as { name: string; data: unknown[] }[]).at(-1)!;
     expect(last.name).toBe('this buildup');
+    expect(r.marked).toEqual(['TB analogue 2', 'Marrow Bank']);
     expect(last.data).toEqual([
       [5e6, 300, 2, 'TB analogue 2'],
       [7e4, 150, 0, 'Marrow Bank'],
