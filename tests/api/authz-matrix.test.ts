@@ -76,6 +76,8 @@ interface Req {
   body?: unknown;
   /** multipart upload of a small PNG with the usual fields */
   upload?: boolean;
+  /** multipart upload of a CSV in the field `file`, with text fields (Analogue library import) */
+  csv?: { text: string; fields?: Record<string, string> };
 }
 
 interface Probe {
@@ -160,6 +162,29 @@ async function uploadedSection() {
 
 // ---------------------------------------------------------------------------
 // the matrix: one row per route
+
+/** Analogue library targets: a hand-entered analogue (curator), a promoted one, a pending request, a list value, a CSV. */
+const uniq = () => Math.random().toString(36).slice(2, 8);
+async function freshAnalogue(): Promise<{ id: number; version: number }> {
+  const r = await request(t.app)
+    .post('/api/analogues')
+    .set(bearer(await t.token('curator')))
+    .send({ name: `Matrix Knoll ${uniq()}`, metrics: { heightM: 120, baseWidthM: 2400 }, basis: 'figure', profile: { base: [[0, 900], [2400, 900]], envelope: [[0, 900], [1200, 780], [2400, 900]] } });
+  expect(r.status, JSON.stringify(r.body)).toBe(201);
+  return { id: r.body.id, version: r.body.version };
+}
+async function promotedAnalogue(f: Fx, as: DemoRole = 'curator'): Promise<number> {
+  const r = await request(t.app).post(`/api/buildups/${f.buildup}/promote`).set(bearer(await t.token(as))).send({ name: `Matrix promotion ${uniq()}` });
+  expect(r.status, JSON.stringify(r.body)).toBe(201);
+  return r.body.id;
+}
+async function listValue(): Promise<string> {
+  const value = `matrix-${uniq()}`;
+  const r = await request(t.app).post('/api/analogues/lists/climate').set(bearer(await t.token('curator'))).send({ value, label: 'Matrix climate' });
+  expect(r.status, JSON.stringify(r.body)).toBe(201);
+  return value;
+}
+const matrixCsv = () => ({ text: `name,height_m\nMatrix Import ${uniq()},140\n`, fields: { mapping: JSON.stringify({ columns: { name: 'name', height_m: 'heightM' }, lengthUnit: 'm' }), mode: 'all' } });
 
 /** A Note pin thread on the demo section opened by the interpreter: its id and its first message's id. */
 async function noteThread(f: Fx): Promise<{ id: number; messageId: number }> {
@@ -288,6 +313,19 @@ const MATRIX: Record<string, Row> = {
   },
   'DELETE /api/buildups/:id': { req: async (f) => ({ path: `/api/buildups/${(await savedBuildup(t, await interp(), f.section, 'Delete target')).id}` }), refused: { as: 'curator', status: 403 }, allowed: { as: 'interpreter', status: 204 } },
   'GET /api/buildups/:id/measurements': { req: (f) => ({ path: `/api/buildups/${f.buildup}/measurements?draws=20` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  // reports and exports: every member reads and exports (reviewers and curators included)
+  'GET /api/buildups/:id/report': { req: (f) => ({ path: `/api/buildups/${f.buildup}/report` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  'GET /api/buildups/:id/export/:format': { req: (f) => ({ path: `/api/buildups/${f.buildup}/export/csv` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'curator', status: 200 } },
+  'POST /api/buildups/:id/report/pdf': { req: (f) => ({ path: `/api/buildups/${f.buildup}/report/pdf`, body: { paper: 'a4', stretch: 1.25 } }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'curator', status: 202 } },
+  'GET /api/reports/:id': {
+    req: async (f) => {
+      const r = await request(t.app).post(`/api/buildups/${f.buildup}/report/pdf`).set(bearer(await interp())).send({ paper: 'letter' });
+      expect([200, 202]).toContain(r.status);
+      return { path: `/api/reports/${r.body.id}` };
+    },
+    refused: { as: 'outsider', status: 404 },
+    allowed: { as: 'reviewer', status: 200 },
+  },
   // review states and kept versions
   'GET /api/buildups/:id/review': { req: (f) => ({ path: `/api/buildups/${f.buildup}/review` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'curator', status: 200 } },
   'POST /api/buildups/:id/review': {
@@ -328,6 +366,47 @@ const MATRIX: Record<string, Row> = {
   'GET /api/projects/:id/buildups/export.geojson': { req: (f) => ({ path: `/api/projects/${f.demoId}/buildups/export.geojson` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
   'GET /api/me/preferences': { req: () => ({ path: '/api/me/preferences' }), refused: 'none: every signed-in user (their own preferences)', allowed: { as: 'curator', status: 200 } },
   'PUT /api/me/preferences': { req: () => ({ path: '/api/me/preferences', body: { lengthUnit: 'm' } }), refused: 'none: every signed-in user (their own preferences)', allowed: { as: 'reviewer', status: 200 } },
+
+  // Analogue library (everybody signed in reads; curators and admins change it; interpreters ask for promotions)
+  'GET /api/analogues': { req: () => ({ path: '/api/analogues?setting=bank&r.heightM=10..500' }), refused: 'none: every signed-in user reads the library', allowed: { as: 'reviewer', status: 200 } },
+  'GET /api/analogues/export.csv': { req: () => ({ path: '/api/analogues/export.csv' }), refused: 'none: every signed-in user reads the library', allowed: { as: 'interpreter', status: 200 } },
+  'GET /api/analogues/export.geojson': { req: () => ({ path: '/api/analogues/export.geojson' }), refused: 'none: every signed-in user reads the library', allowed: { as: 'reviewer', status: 200 } },
+  'GET /api/analogues/ics-chart': { req: () => ({ path: '/api/analogues/ics-chart' }), refused: 'none: every signed-in user (a published chart)', allowed: { as: 'outsider', status: 200 } },
+  'GET /api/analogues/lists': { req: () => ({ path: '/api/analogues/lists' }), refused: 'none: every signed-in user reads the lists', allowed: { as: 'reviewer', status: 200 } },
+  'POST /api/analogues/lists/:list': { req: () => ({ path: '/api/analogues/lists/setting', body: { value: `matrix-${uniq()}`, label: 'Matrix setting' } }), refused: { as: 'interpreter', status: 403 }, allowed: { as: 'curator', status: 201 } },
+  'DELETE /api/analogues/lists/:list/:value': { req: async () => ({ path: `/api/analogues/lists/climate/${await listValue()}` }), refused: { as: 'reviewer', status: 403 }, allowed: { as: 'admin', status: 204 } },
+  'GET /api/analogues/saved-searches': { req: () => ({ path: '/api/analogues/saved-searches' }), refused: 'none: every signed-in user (their own saved searches)', allowed: { as: 'reviewer', status: 200 } },
+  'POST /api/analogues/saved-searches': { req: () => ({ path: '/api/analogues/saved-searches', body: { name: 'Matrix search', query: 'setting=bank' } }), refused: 'none: every signed-in user (their own saved searches)', allowed: { as: 'outsider', status: 201 } },
+  'DELETE /api/analogues/saved-searches/:id': {
+    req: async () => {
+      const r = await request(t.app).post('/api/analogues/saved-searches').set(bearer(await interp())).send({ name: 'Matrix search', query: 'q=knoll' });
+      return { path: `/api/analogues/saved-searches/${r.body.id}` };
+    },
+    refused: { as: 'reviewer', status: 404 },
+    allowed: { as: 'interpreter', status: 204 },
+  },
+  'POST /api/analogues/look-alikes': { req: async () => ({ path: '/api/analogues/look-alikes', body: { from: { analogueId: (await freshAnalogue()).id }, mode: 'shape', k: 3 } }), refused: 'none: every signed-in user reads the library', allowed: { as: 'reviewer', status: 200 } },
+  'POST /api/analogues/import/preview': { req: () => ({ path: '/api/analogues/import/preview', csv: { text: 'name,height_m\nMatrix Preview,120\n' } }), refused: { as: 'interpreter', status: 403 }, allowed: { as: 'curator', status: 200 } },
+  'POST /api/analogues/import': { req: () => ({ path: '/api/analogues/import', csv: matrixCsv() }), refused: { as: 'reviewer', status: 403 }, allowed: { as: 'admin', status: 201 } },
+  'POST /api/analogues': { req: () => ({ path: '/api/analogues', body: { name: `Matrix Entry ${uniq()}`, metrics: { heightM: 80 }, basis: 'depth' } }), refused: { as: 'interpreter', status: 403 }, allowed: { as: 'curator', status: 201 } },
+  'GET /api/analogues/:id': { req: async () => ({ path: `/api/analogues/${(await freshAnalogue()).id}` }), refused: 'none: every signed-in user reads the library', allowed: { as: 'reviewer', status: 200 } },
+  'GET /api/analogues/:id/crop': { req: async (f) => ({ path: `/api/analogues/${await promotedAnalogue(f)}/crop` }), refused: 'none: every signed-in user reads the library', allowed: { as: 'reviewer', status: 200 } },
+  'PATCH /api/analogues/:id': {
+    req: async () => {
+      const a = await freshAnalogue();
+      return { path: `/api/analogues/${a.id}`, body: { version: a.version, tags: ['matrix'] } };
+    },
+    refused: { as: 'interpreter', status: 403 },
+    allowed: { as: 'curator', status: 200 },
+  },
+  'DELETE /api/analogues/:id': { req: async () => ({ path: `/api/analogues/${(await freshAnalogue()).id}` }), refused: { as: 'reviewer', status: 403 }, allowed: { as: 'admin', status: 204 } },
+  'POST /api/analogues/:id/accept': { req: async (f) => ({ path: `/api/analogues/${await promotedAnalogue(f, 'interpreter')}/accept`, body: {} }), refused: { as: 'interpreter', status: 403 }, allowed: { as: 'curator', status: 200 } },
+  'POST /api/analogues/:id/decline': {
+    req: async (f) => ({ path: `/api/analogues/${await promotedAnalogue(f, 'interpreter')}/decline`, body: { reason: 'Margin pins not on the shelf break' } }),
+    refused: { as: 'reviewer', status: 403 },
+    allowed: { as: 'admin', status: 200 },
+  },
+  'POST /api/buildups/:id/promote': { req: (f) => ({ path: `/api/buildups/${f.buildup}/promote`, body: { tags: ['matrix'] } }), refused: { as: 'reviewer', status: 403 }, allowed: { as: 'curator', status: 201 } },
 
   // admin
   'GET /api/admin/mail': { req: () => ({ path: '/api/admin/mail' }), refused: { as: 'interpreter', status: 403 }, allowed: { as: 'admin', status: 200 } },
@@ -371,6 +450,10 @@ async function send(method: string, r: Req, who: Who) {
   const tok = await token(who);
   if (tok) q = q.set(bearer(tok));
   if (r.upload) return q.field(FIELDS).attach('image', await makeImage('png', 64, 32), 'small.png');
+  if (r.csv) {
+    for (const [k, v] of Object.entries(r.csv.fields ?? {})) q = q.field(k, v);
+    return q.attach('file', Buffer.from(r.csv.text), 'analogues.csv');
+  }
   return r.body === undefined ? q : q.send(r.body as object);
 }
 
