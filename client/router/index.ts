@@ -91,6 +91,14 @@ export const router = createRouter({
       ],
     },
     {
+      // outside the app shell: a printable page of its own (signed-in only)
+      path: '/buildups/:buildupId(\\d+)/report',
+      name: 'buildup-report',
+      component: () => import('../pages/BuildupReportPage.vue'),
+      props: (route) => ({ buildupId: Number(route.params.buildupId) }),
+      meta: { title: 'Buildup report' },
+    },
+    {
       path: '/:pathMatch(.*)*',
       name: 'not-found',
       component: () => import('../pages/NotFoundPage.vue'),

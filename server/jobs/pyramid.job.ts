@@ -37,6 +37,7 @@ import {
 } from './queue';
 import { startSummaryJobs } from './summary.job';
 import { Liveness, jobTimings, type JobTimings, type WorkerRow } from './liveness';
+import { recoverReports, startReportJobs } from './report.job';
 
 /** Keys of a section's files in the file store. */
 export const sectionKeys = (storageKey: string) => ({
@@ -328,6 +329,7 @@ export async function startBackgroundJobs(opts: { databaseUrl: string; config: C
   deps = mine;
   let timer: NodeJS.Timeout | null = null;
   let queue: JobQueue;
+  let reports: { stop(): void } | null = null;
   try {
     queue = await startJobs({
       ...opts,
@@ -337,6 +339,8 @@ export async function startBackgroundJobs(opts: { databaseUrl: string; config: C
         await startSummaryJobs(boss, opts.config); // register summaries (summary.job.ts)
         await sweepLeftovers();
         await recoverSections(boss);
+        // buildup reports (report.job.ts) share the queue, the liveness and the sweep
+        reports = await startReportJobs({ boss, config: opts.config, sequelize: opts.sequelize, store, liveness, timings, stopping: () => mine.stopping });
       },
     });
   } catch (err) {
@@ -349,6 +353,7 @@ export async function startBackgroundJobs(opts: { databaseUrl: string; config: C
     checking = true;
     (async () => {
       await recoverSections(queue.boss);
+      await recoverReports();
       await sweepScratch();
       await liveness.prune();
     })()
@@ -362,6 +367,7 @@ export async function startBackgroundJobs(opts: { databaseUrl: string; config: C
       if (timer) clearInterval(timer);
       mine.stopping = true; // running builds stop at their next progress report and give their section back
       await queue.stop();
+      reports?.stop();
       await liveness.stop();
       if (deps === mine) {
         store.setScratchOwner(null);

@@ -16,9 +16,10 @@ import type { Role, PublicUser } from '../../shared/schemas/auth';
 import type { NotifyMode } from '../../shared/schemas/notifications';
 import { initSectionModels } from './section';
 import { initBuildupModels } from './buildup';
-import { initReviewModels } from './review';
+import { initReportModels } from './report';
 import { initNoteModels } from './note';
 import { initNotificationModels } from './notification';
+import { initReviewModels } from './review';
 
 export class User extends Model<InferAttributes<User>, InferCreationAttributes<User>> {
   declare id: CreationOptional<number>;
@@ -159,7 +160,8 @@ export function initModels(sequelize: Sequelize) {
   ProjectMember.belongsTo(Project, { foreignKey: 'projectId', as: 'project' });
   initSectionModels(sequelize);
   initBuildupModels(sequelize);
-  initReviewModels(sequelize);
+  initReportModels(sequelize);
   initNoteModels(sequelize);
   initNotificationModels(sequelize);
+  initReviewModels(sequelize);
 }

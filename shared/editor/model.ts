@@ -313,6 +313,7 @@ export interface InterpretationCycleInput {
   flankLeft?: Pt[];
   flankRight?: Pt[];
   ageTopMa?: number;
+  systemsTract?: string;
 }
 
 export interface InterpretationBuildupInput {
@@ -465,6 +466,7 @@ export function toInterpretationInput(
         if (hasLength(c.flankLeft)) ci.flankLeft = copyLine(c.flankLeft!);
         if (hasLength(c.flankRight)) ci.flankRight = copyLine(c.flankRight!);
         if (c.ageTopMa !== null) ci.ageTopMa = c.ageTopMa;
+        if (c.systemsTract) ci.systemsTract = c.systemsTract; // labels the cycle in the Ledger and the exports
         return ci;
       }),
       terminations: b.terminations.map((t) => ({ type: t.type, at: copyPt(t.at) })),

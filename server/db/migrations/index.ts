@@ -11,6 +11,7 @@ import * as m0005 from './0005-job-workers';
 import * as m0006 from './0006-review';
 import * as m0007 from './0007-notes';
 import * as m0008 from './0008-notifications';
+import * as m0009 from './0009-reports';
 import * as m0010 from './0010-units';
 import * as m0011 from './0011-analogues';
 
@@ -29,6 +30,7 @@ export const migrations: Migration[] = [
   { name: '0006-review', ...m0006 },
   { name: '0007-notes', ...m0007 },
   { name: '0008-notifications', ...m0008 },
+  { name: '0009-reports', ...m0009 },
   { name: '0010-units', ...m0010 },
   { name: '0011-analogues', ...m0011 },
 ];

@@ -1,0 +1,221 @@
+/**
+ * The `buildup-report` job: makes a buildup's report PDF and the marked-up
+ * crop (PNG, SVG) off the request path, with progress in its
+ * `buildup_reports` row, and keeps them under `reports/<cache key>/` until
+ * something the report shows changes (the key changes; rows of the same
+ * buildup and choices under an older key are removed with their files).
+ *
+ * Crash safety and liveness follow the pyramid builds (pyramid.job.ts): the
+ * job claims its row (`worker_id` = this process's job_workers id), writes
+ * into a scratch folder tagged with that id, and moves the finished folder
+ * into place with one rename inside the transaction that marks the row
+ * ready, so a crash never leaves half a file in the store. On boot and every
+ * check interval, a `queued`/`running` row whose owner is dead or whose job
+ * ended or vanished is queued again (up to `jobs.maxAttempts`, then failed).
+ */
+import fsp from 'node:fs/promises';
+import path from 'node:path';
+import type PgBoss from 'pg-boss';
+import { Op, type Sequelize, type Transaction } from 'sequelize';
+import type { Config } from '../config';
+import { logger } from '../logger';
+import { Buildup } from '../models/buildup';
+import { Section } from '../models/section';
+import { BuildupReportRow } from '../models/report';
+import { removeTree, type FileStore } from '../storage/fileStore';
+import type { Liveness, JobTimings } from './liveness';
+
+export const REPORT_QUEUE = 'buildup-report';
+export interface ReportJobData {
+  reportId: number;
+}
+
+interface Deps {
+  boss: PgBoss;
+  config: Config;
+  sequelize: Sequelize;
+  store: FileStore;
+  liveness: Liveness;
+  timings: JobTimings;
+  stopping: () => boolean;
+  workerIds: string[];
+}
+let deps: Deps | null = null;
+
+/** pg-boss's `db` option over a Sequelize transaction's own connection (as queue.ts does for pyramids). */
+function transactionDb(transaction: Transaction) {
+  const client = (transaction as unknown as { connection?: { query(text: string, values: unknown[]): Promise<{ rows: unknown[] }> } }).connection;
+  if (!client) throw new Error('sendReportJob: the transaction has no connection yet');
+  return { executeSql: (text: string, values: unknown[]) => client.query(text, values) as Promise<{ rows: any[] }> };
+}
+
+/** Queue a report job inside `transaction`; returns the job id. */
+export async function sendReportJob(reportId: number, transaction: Transaction): Promise<string> {
+  if (!deps) throw new Error('report job sent before the job queue started');
+  const id = await deps.boss.send(REPORT_QUEUE, { reportId } satisfies ReportJobData, {
+    db: transactionDb(transaction),
+    retryLimit: 0,
+    expireInSeconds: deps.config.jobs.expireInSeconds,
+  });
+  if (!id) throw new Error('the job queue refused the report job');
+  return id;
+}
+
+/** Wake this process's report workers (after the sending transaction committed). */
+export function nudgeReportWorkers() {
+  if (!deps) return;
+  for (const id of deps.workerIds) deps.boss.notifyWorker(id);
+}
+
+class ReportStopped extends Error {
+  constructor(readonly why: 'shutdown' | 'lost') {
+    super(why === 'shutdown' ? 'the process is stopping' : 'the report was removed or taken over');
+  }
+}
+
+const PROGRESS_MIN_MS = 300;
+
+/** The pg-boss handler: claim, render into scratch, publish atomically, or mark the row failed. */
+export async function runReportJob(job: PgBoss.Job<ReportJobData>) {
+  if (!deps) throw new Error('report job before startReportJobs()');
+  const d = deps;
+  const me = d.liveness.id;
+  const reportId = Number(job.data?.reportId);
+  const row = Number.isInteger(reportId) ? await BuildupReportRow.findByPk(reportId) : null;
+  if (!row || row.jobId !== job.id || (row.status !== 'queued' && row.status !== 'running')) return;
+  const [claimed] = await BuildupReportRow.update(
+    { status: 'running', workerId: me, progress: 2, progressAt: new Date() },
+    { where: { id: reportId, jobId: job.id, status: { [Op.in]: ['queued', 'running'] } } },
+  );
+  if (!claimed) return;
+  const stillMine = { where: { id: reportId, jobId: job.id, workerId: me, status: 'running' } };
+  const scratchPrefix = `report-${row.cacheKey.slice(0, 24)}`;
+  const work = await d.store.scratchDir(scratchPrefix);
+  let lost = false;
+  let lastAt = 0;
+  let pending: Promise<unknown> = Promise.resolve();
+  const report = (fraction: number) => {
+    if (d.stopping()) throw new ReportStopped('shutdown');
+    if (lost) throw new ReportStopped('lost');
+    const now = Date.now();
+    if (now - lastAt < PROGRESS_MIN_MS && fraction < 1) return;
+    lastAt = now;
+    const pct = Math.min(98, Math.max(2, Math.round(fraction * 98)));
+    pending = pending
+      .then(() => BuildupReportRow.update({ progress: pct, progressAt: new Date() }, stillMine))
+      .then(([n]) => {
+        if (n === 0) lost = true;
+      })
+      .catch((err) => logger.warn({ err, reportId }, 'report progress failed'));
+  };
+  try {
+    const buildup = await Buildup.findByPk(row.buildupId);
+    const section = buildup ? await Section.findByPk(buildup.sectionId) : null;
+    if (!buildup || !section) throw new ReportStopped('lost');
+    const out = path.join(work, 'files');
+    await fsp.mkdir(out);
+    const { renderReportFiles } = await import('../reports/render');
+    const result = await renderReportFiles({ buildup, section, row, store: d.store, outDir: out, onProgress: report });
+    await pending;
+    if (lost) throw new ReportStopped('lost');
+    const folder = `reports/${row.cacheKey}`;
+    const stale = await d.sequelize.transaction(async (transaction) => {
+      const cur = await BuildupReportRow.findByPk(reportId, { transaction, lock: transaction.LOCK.UPDATE });
+      if (!cur || cur.jobId !== job.id || cur.workerId !== me || cur.status !== 'running') return null;
+      await d.store.removePrefix(folder);
+      await d.store.importDir(out, folder);
+      await cur.update({ status: 'ready', progress: 100, workerId: null, progressAt: new Date(), pdfBytes: result.pdfBytes, pages: result.pages, failureReason: null }, { transaction });
+      // older reports of this buildup with the same choices are out of date now
+      const older = await BuildupReportRow.findAll({
+        where: { buildupId: cur.buildupId, paper: cur.paper, unit: cur.unit, stretch: cur.stretch, id: { [Op.ne]: cur.id }, status: { [Op.in]: ['ready', 'failed'] } },
+        transaction,
+      });
+      await BuildupReportRow.destroy({ where: { id: older.map((o) => o.id) }, transaction });
+      return older.map((o) => o.cacheKey);
+    });
+    for (const key of stale ?? []) await d.store.removePrefix(`reports/${key}`);
+  } catch (err) {
+    await pending;
+    if (err instanceof ReportStopped && err.why === 'shutdown') {
+      // give it back: the next process's recovery queues it again
+      await BuildupReportRow.update({ workerId: null, status: 'queued', progress: 0, progressAt: new Date() }, stillMine).catch(() => {});
+      return;
+    }
+    if (err instanceof ReportStopped || lost) {
+      logger.info({ reportId }, 'report stopped: its row was removed or taken over');
+      return;
+    }
+    logger.warn({ err, reportId }, 'report failed');
+    const m = (err instanceof Error ? err.message : String(err)).split('\n')[0].split(d.config.storageDir).join('…').slice(0, 300);
+    await BuildupReportRow.update({ status: 'failed', progress: 0, workerId: null, failureReason: `The report could not be made: ${m}` }, stillMine).catch(() => {});
+  } finally {
+    await removeTree(work);
+  }
+}
+
+const QUEUED_STATES = new Set(['created', 'retry']);
+
+/** Why a queued/running report has no live job, or null when it has one. */
+async function deadReason(boss: PgBoss, r: BuildupReportRow, owners: Map<string, import('./liveness').WorkerRow>): Promise<string | null> {
+  const { liveness, timings } = deps!;
+  if (r.workerId) return liveness.isAlive(r.workerId, owners.get(r.workerId)) ? null : 'owner_dead';
+  const job = r.jobId ? await boss.getJobById<ReportJobData>(REPORT_QUEUE, r.jobId, { includeArchive: true }).catch(() => null) : null;
+  if (!job) return 'job_ended';
+  if (QUEUED_STATES.has(job.state)) return null;
+  if (job.state === 'active') {
+    const startedOn = job.startedOn ? new Date(job.startedOn).getTime() : Date.now();
+    return Date.now() - startedOn > timings.staleAfterSeconds * 1000 ? 'unclaimed' : null;
+  }
+  return 'job_ended';
+}
+
+/** Queue again the reports of dead processes (or fail them after `jobs.maxAttempts`). */
+export async function recoverReports(): Promise<{ requeued: number[]; failed: number[] }> {
+  const out = { requeued: [] as number[], failed: [] as number[] };
+  if (!deps) return out;
+  const { boss, sequelize, liveness, config } = deps;
+  const rows = await BuildupReportRow.findAll({ where: { status: { [Op.in]: ['queued', 'running'] } }, order: [['id', 'ASC']] });
+  if (!rows.length) return out;
+  const owners = await liveness.workers(rows.flatMap((r) => (r.workerId ? [r.workerId] : [])));
+  for (const r of rows) {
+    const why = await deadReason(boss, r, owners);
+    if (!why) continue;
+    const outcome = await sequelize.transaction(async (transaction) => {
+      const cur = await BuildupReportRow.findByPk(r.id, { transaction, lock: transaction.LOCK.UPDATE });
+      if (!cur || cur.jobId !== r.jobId || cur.workerId !== r.workerId || (cur.status !== 'queued' && cur.status !== 'running')) return null;
+      if (cur.jobId) await boss.cancel(REPORT_QUEUE, cur.jobId, { db: transactionDb(transaction) }).catch(() => {});
+      if (cur.attempts >= config.jobs.maxAttempts) {
+        await cur.update({ status: 'failed', workerId: null, progress: 0, failureReason: `Making the report was interrupted ${cur.attempts} times; ask for it again` }, { transaction });
+        return 'failed' as const;
+      }
+      const jobId = await sendReportJob(cur.id, transaction);
+      await cur.update({ jobId, status: 'queued', workerId: null, progress: 0, attempts: cur.attempts + 1, progressAt: new Date() }, { transaction });
+      return 'requeued' as const;
+    });
+    if (outcome) {
+      out[outcome].push(r.id);
+      logger.info({ reportId: r.id, why, outcome }, 'resumed a report of a dead process');
+    }
+  }
+  if (out.requeued.length) nudgeReportWorkers();
+  return out;
+}
+
+/** Create the queue, run a worker (unless disabled) and resume dead processes' reports. Called by startBackgroundJobs. */
+export async function startReportJobs(d: Omit<Deps, 'workerIds'>): Promise<{ stop(): void }> {
+  await d.boss.createQueue(REPORT_QUEUE);
+  deps = { ...d, workerIds: [] };
+  const mine = deps;
+  if (d.config.jobs.runWorkers) {
+    const id = await d.boss.work<ReportJobData>(REPORT_QUEUE, { pollingIntervalSeconds: d.config.jobs.pollingIntervalSeconds, batchSize: 1 }, async (jobs) => {
+      for (const job of jobs) await runReportJob(job);
+    });
+    mine.workerIds.push(id);
+  }
+  await recoverReports().catch((err) => logger.warn({ err }, 'resuming reports failed'));
+  return {
+    stop() {
+      if (deps === mine) deps = null;
+    },
+  };
+}

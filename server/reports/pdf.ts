@@ -1,0 +1,345 @@
+/**
+ * The buildup report as PDF, built with pdfkit: title block, the marked-up
+ * crop(s) (the crop as an image, the interpretation as vectors through
+ * svg-to-pdfkit), buildup figures with P90/P50/P10, classification with its
+ * evidence and drowning signs, the Ledger per cycle, the plots (the same
+ * ECharts options as the page, rendered to SVG by ECharts' server-side
+ * renderer and drawn as vectors), the velocity model and its sources, the
+ * assumptions and the caution. A4 or US Letter, "Page n of N" on every page.
+ *
+ * Fonts: IBM Plex Sans from the app's own @fontsource package (WOFF, which
+ * pdfkit's fontkit reads), embedded as subsets. The Latin subset lacks a few
+ * signs the number wording uses (≈, ≥, superscript digits other than ¹²³);
+ * `pdfText` spells those out.
+ */
+import fs from 'node:fs';
+import path from 'node:path';
+import PDFDocument from 'pdfkit';
+import SVGtoPDF from 'svg-to-pdfkit';
+import * as echarts from 'echarts';
+import { ROOT_DIR } from '../config';
+import { HOUSE_PALETTE } from '../../shared/palette';
+import { reportPlots } from '../../shared/report/plots';
+import {
+  CYCLE_COLUMNS,
+  PAPERS,
+  buildupFigures,
+  classLabel,
+  columnHeader,
+  columnValue,
+  flankRanges,
+  type BuildupReport,
+  type Paper,
+} from '../../shared/report/report';
+import { formatNumber, formatScientific, SCIENTIFIC_FROM } from '../../shared/format';
+import { quantityLabel, toDisplayLength, type Quantity } from '../../shared/units';
+
+const FONT_DIR = path.join(ROOT_DIR, 'node_modules', '@fontsource', 'ibm-plex-sans', 'files');
+export const FONT_FILES = {
+  regular: path.join(FONT_DIR, 'ibm-plex-sans-latin-400-normal.woff'),
+  semibold: path.join(FONT_DIR, 'ibm-plex-sans-latin-600-normal.woff'),
+};
+
+const SUPER: Record<string, string> = { '⁰': '0', '¹': '1', '²': '2', '³': '3', '⁴': '4', '⁵': '5', '⁶': '6', '⁷': '7', '⁸': '8', '⁹': '9', '⁻': '-' };
+/** Spellings of signs the embedded Latin subset lacks. */
+const SPELLED: Record<string, string> = { '≈': '~', '≥': '>=', '≤': '<=', '→': '->', '←': '<-', 'θ': 'theta', 'Δ': 'delta', 'Σ': 'sum', 'μ': 'u', '…': '...' };
+
+const SPELLED_CODES: Record<number, true> = Object.fromEntries(Object.keys(SPELLED).map((c) => [c.codePointAt(0)!, true]));
+
+/** Whether the embedded font has a glyph for a code point (set once the font is registered). */
+let hasGlyph: (cp: number) => boolean = (cp) => !(cp in SPELLED_CODES);
+
+/**
+ * Text for the embedded Latin subset: "× 10⁹" → "× 10^9" (², ³ in units
+ * stay), the signs of SPELLED spelled out, anything else the font lacks
+ * shown as "?" rather than dropped.
+ */
+export function pdfText(s: string): string {
+  const t = s.replace(/10([⁰¹²³⁴⁵⁶⁷⁸⁹⁻]+)/g, (_m, e: string) => `10^${[...e].map((c) => SUPER[c]).join('')}`);
+  let out = '';
+  for (const ch of t) {
+    const cp = ch.codePointAt(0)!;
+    if (cp < 0x80 || hasGlyph(cp)) out += ch;
+    else out += SPELLED[ch] ?? (/\s/.test(ch) ? ' ' : '?');
+  }
+  return out;
+}
+
+/** A value of a quantity in the display unit, with its unit. */
+export function formatValue(q: Quantity, v: number | null | undefined, unit: BuildupReport['unit'], decimals = 1): string {
+  if (v == null || !Number.isFinite(v)) return '—';
+  const label = quantityLabel(q, unit);
+  if (q === 'ratio') return v === 0 ? '0' : formatNumber(v, Math.abs(v) < 1 ? 3 : 2);
+  const text = (q === 'area' || q === 'volume') && Math.abs(v) >= SCIENTIFIC_FROM ? formatScientific(v) : formatNumber(v, q === 'area' || q === 'volume' ? 0 : decimals);
+  return q === 'angle' ? `${text}°` : `${text} ${label}`;
+}
+
+export interface CropFigure {
+  title: string;
+  caption: string;
+  /** The crop (PNG), drawn `width` × `height` px. */
+  png: Buffer;
+  /** The overlay drawn over it, same size, no background. */
+  overlay: string;
+  width: number;
+  height: number;
+}
+
+export interface PdfInput {
+  report: BuildupReport;
+  figures: CropFigure[];
+  paper: Paper;
+  onProgress?: (fraction: number) => void;
+}
+
+const MARGIN = 48;
+const INK = HOUSE_PALETTE.ink;
+const MUTED = HOUSE_PALETTE.inkMuted;
+
+/** Render one plot option to an SVG string (ECharts SSR). */
+export function plotSvg(option: Record<string, unknown>, width: number, height: number): string {
+  const chart = echarts.init(null, null, { renderer: 'svg', ssr: true, width, height });
+  try {
+    chart.setOption(option as echarts.EChartsOption);
+    return chart.renderToSVGString();
+  } finally {
+    chart.dispose();
+  }
+}
+
+/** Write the report PDF to `file`; resolves with its page count. */
+export async function writeReportPdf(input: PdfInput, file: string): Promise<{ pages: number }> {
+  const { report, paper } = input;
+  const size = PAPERS[paper];
+  const doc = new PDFDocument({
+    size: [size.width, size.height],
+    margins: { top: MARGIN, bottom: MARGIN + 14, left: MARGIN, right: MARGIN },
+    bufferPages: true,
+    info: {
+      Title: pdfText(`Buildup report: ${report.title.buildup}`),
+      Subject: pdfText(`${report.title.section} (${report.title.line}, ${report.title.survey})`),
+      Creator: `Cayline ${report.title.caylineVersion}`,
+      Producer: 'Cayline (pdfkit)',
+    },
+  });
+  doc.registerFont('plex', fs.readFileSync(FONT_FILES.regular));
+  doc.registerFont('plex-semi', fs.readFileSync(FONT_FILES.semibold));
+  doc.font('plex');
+  // pdfkit keeps the fontkit font of the current face on `_font.font` (not public API; without it every sign is kept)
+  const face = (doc as unknown as { _font?: { font?: { hasGlyphForCodePoint?(cp: number): boolean } } })._font?.font;
+  if (face?.hasGlyphForCodePoint) hasGlyph = (cp) => face.hasGlyphForCodePoint!(cp) && !(cp in SPELLED_CODES);
+  const out = fs.createWriteStream(file);
+  const done = new Promise<void>((resolve, reject) => {
+    out.on('finish', () => resolve());
+    out.on('error', reject);
+    doc.on('error', reject);
+  });
+  doc.pipe(out);
+  const W = size.width - 2 * MARGIN;
+  const bottom = () => size.height - MARGIN - 14;
+  const ensure = (h: number) => {
+    if (doc.y + h > bottom()) doc.addPage();
+  };
+  const heading = (text: string, fontSize = 12) => {
+    ensure(fontSize * 3);
+    doc.moveDown(0.6).font('plex-semi').fontSize(fontSize).fillColor(INK).text(pdfText(text), MARGIN, doc.y, { width: W });
+    doc.moveDown(0.25);
+  };
+  const para = (text: string, opts: { fontSize?: number; colour?: string; bullet?: boolean } = {}) => {
+    doc.font('plex').fontSize(opts.fontSize ?? 9).fillColor(opts.colour ?? INK);
+    const t = pdfText(text);
+    if (opts.bullet) {
+      ensure(12);
+      const y = doc.y;
+      doc.text('•', MARGIN + 4, y, { width: 10 });
+      doc.text(t, MARGIN + 16, y, { width: W - 16 });
+    } else doc.text(t, MARGIN, doc.y, { width: W });
+    doc.moveDown(0.2);
+  };
+  /** A simple table: header row, rows; column widths as fractions of the width. */
+  const table = (headers: string[], rows: string[][], widths: number[], fontSize = 8) => {
+    const xs: number[] = [];
+    let x = MARGIN;
+    for (const w of widths) {
+      xs.push(x);
+      x += w * W;
+    }
+    const rowHeight = (cells: string[], font: string) => {
+      doc.font(font).fontSize(fontSize);
+      return Math.max(...cells.map((c, i) => doc.heightOfString(pdfText(c), { width: widths[i] * W - 4 }))) + 4;
+    };
+    const drawRow = (cells: string[], font: string, fill: string | null) => {
+      const h = rowHeight(cells, font);
+      ensure(h);
+      const y = doc.y;
+      if (fill) doc.rect(MARGIN, y, W, h).fill(fill);
+      doc.font(font).fontSize(fontSize).fillColor(INK);
+      cells.forEach((c, i) => doc.text(pdfText(c), xs[i] + 2, y + 2, { width: widths[i] * W - 4 }));
+      doc.moveTo(MARGIN, y + h).lineTo(MARGIN + W, y + h).lineWidth(0.4).strokeColor(HOUSE_PALETTE.line).stroke();
+      doc.y = y + h;
+    };
+    drawRow(headers, 'plex-semi', '#eef2f4');
+    rows.forEach((r) => drawRow(r, 'plex', null));
+    doc.x = MARGIN;
+    doc.moveDown(0.4);
+  };
+  const progress = (f: number) => input.onProgress?.(f);
+
+  // ---- title block
+  const t = report.title;
+  doc.font('plex-semi').fontSize(18).fillColor(INK).text(pdfText(`Buildup report: ${t.buildup}`), MARGIN, MARGIN, { width: W });
+  doc.font('plex').fontSize(9).fillColor(MUTED).text(pdfText(`${t.project} · ${t.section}`), { width: W });
+  doc.moveDown(0.5);
+  const signed = t.signedOffBy ? `${t.reviewStateLabel}, by ${t.signedOffBy}${t.signedOffAt ? ` on ${t.signedOffAt.slice(0, 10)}` : ''}${t.signedOffVersion != null ? ` (version ${t.signedOffVersion})` : ''}` : t.reviewStateLabel;
+  table(
+    ['Item', 'Value'],
+    [
+      ['Project', t.project],
+      ['Section', t.section],
+      ['Line', t.line || '—'],
+      ['Survey', t.survey || '—'],
+      ['Buildup', `${t.buildup} (version ${t.buildupVersion})`],
+      ['Interpreter', t.interpreter ?? '—'],
+      ['Review state', signed],
+      ['Report date', t.date.slice(0, 10)],
+      ['Cayline version', t.caylineVersion],
+      ['Length unit', report.unit === 'ft' ? 'international foot (0.3048 m)' : 'metre'],
+    ],
+    [0.28, 0.72],
+  );
+  const m = report.measurement;
+  doc.font('plex-semi').fontSize(13).fillColor(INK).text(pdfText(`Classification: ${classLabel(m)}`), MARGIN, doc.y, { width: W });
+  if (m) para(`Height ${formatValue('length', toDisplayLength(m.heightM, report.unit), report.unit)} · base width ${formatValue('length', toDisplayLength(m.baseWidthM, report.unit), report.unit)}`, { fontSize: 10 });
+  progress(0.1);
+
+  if (report.missing.length) {
+    heading('What is missing before this buildup can be measured');
+    for (const item of report.missing) para(item, { bullet: true });
+  }
+
+  // ---- crops
+  for (const f of input.figures) {
+    heading(f.title);
+    const maxH = Math.min(360, bottom() - MARGIN - 60);
+    const scale = Math.min(W / f.width, maxH / f.height);
+    const w = f.width * scale;
+    const h = f.height * scale;
+    ensure(h + 30);
+    const y = doc.y;
+    doc.image(f.png, MARGIN, y, { width: w, height: h });
+    SVGtoPDF(doc, f.overlay, MARGIN, y, { width: w, height: h, fontCallback: () => 'plex', preserveAspectRatio: 'none' });
+    doc.rect(MARGIN, y, w, h).lineWidth(0.5).strokeColor(MUTED).stroke();
+    doc.x = MARGIN;
+    doc.y = y + h + 4;
+    para(f.caption, { fontSize: 8, colour: MUTED });
+  }
+  progress(0.3);
+
+  if (m) {
+    // ---- figures
+    heading('Buildup figures');
+    const figs = buildupFigures(m, report.unit);
+    const ranged = !!m.ranges;
+    table(
+      ranged ? ['Figure', 'Value', 'P90 (low)', 'P50', 'P10 (high)'] : ['Figure', 'Value'],
+      figs.map((r) => {
+        const row = [r.label, formatValue(r.quantity, r.value, report.unit)];
+        if (ranged) row.push(...(r.range ? [r.range.p90, r.range.p50, r.range.p10].map((v) => formatValue(r.quantity, v, report.unit)) : ['', '', '']));
+        return row;
+      }),
+      ranged ? [0.36, 0.16, 0.16, 0.16, 0.16] : [0.5, 0.5],
+    );
+    const fr = flankRanges(m);
+    if (fr.length) {
+      table(
+        ['Flank angle', 'P90 (low)', 'P50', 'P10 (high)'],
+        fr.map((r) => [r.label, ...[r.p90, r.p50, r.p10].map((v) => formatValue('angle', v, report.unit))]),
+        [0.4, 0.2, 0.2, 0.2],
+      );
+    }
+    if (m.ranges) para(`Ranges from ${m.ranges.draws} seeded draws of the velocity ranges; P90 is the low value (90 % of draws at or above it), P10 the high one (SPE-PRMS convention).`, { fontSize: 8, colour: MUTED });
+    para(m.volumeNote, { fontSize: 8, colour: MUTED });
+
+    // ---- classification
+    heading(`Classification: ${classLabel(m)}`);
+    for (const e of m.evidence) para(e, { bullet: true });
+    heading('Drowning signs', 10);
+    if (m.drowningIndicators.length) for (const d of m.drowningIndicators) para(d.text, { bullet: true });
+    else para('None found.', { colour: MUTED });
+    if (m.asymmetry.hint) para(m.asymmetry.hint, { colour: MUTED });
+    progress(0.4);
+
+    // ---- Ledger
+    heading('Ledger per cycle');
+    const split = [CYCLE_COLUMNS.slice(0, 7), [CYCLE_COLUMNS[0], ...CYCLE_COLUMNS.slice(7)]];
+    for (const cols of split) {
+      table(
+        cols.map((c) => columnHeader(c, report.unit)),
+        m.cycles.map((c) =>
+          cols.map((col) => {
+            const v = columnValue(col, c, report.unit);
+            if (v == null) return '—';
+            if (typeof v === 'string') return v;
+            return col.key === 'cycle' ? String(v) : formatNumber(v, col.decimals);
+          }),
+        ),
+        cols.map(() => 1 / cols.length),
+        7.5,
+      );
+    }
+    progress(0.5);
+
+    // ---- plots
+    doc.addPage();
+    heading('Plots');
+    const plots = reportPlots(m, report.unit, report.options?.aggradingToleranceDeg ?? 10);
+    const pw = Math.floor((W - 12) / 2);
+    const ph = 170;
+    plots.forEach((p, i) => {
+      const col = i % 2;
+      if (col === 0) ensure(ph + 8);
+      const y = doc.y;
+      SVGtoPDF(doc, plotSvg(p.option, pw, ph), MARGIN + col * (pw + 12), y, { width: pw, height: ph, fontCallback: () => 'plex' });
+      if (col === 1 || i === plots.length - 1) doc.y = y + ph + 8;
+      else doc.y = y;
+      doc.x = MARGIN;
+      progress(0.5 + (0.3 * (i + 1)) / plots.length);
+    });
+  }
+
+  // ---- velocity, assumptions, caution
+  heading('Velocity model');
+  para(report.velocity.description);
+  if (report.velocity.sources.length) {
+    para(report.velocity.isDefault ? 'Default model; its sources:' : 'Sources:', { colour: MUTED });
+    for (const s of report.velocity.sources) para(s, { bullet: true, fontSize: 8 });
+  }
+  if (report.assumptions.length) {
+    heading('Assumptions');
+    for (const a of report.assumptions) para(a, { bullet: true, fontSize: 8.5 });
+  }
+  heading('Caution');
+  ensure(40);
+  const cy = doc.y;
+  doc.font('plex').fontSize(9);
+  const ch = doc.heightOfString(pdfText(report.caution), { width: W - 16 }) + 12;
+  doc.rect(MARGIN, cy, W, ch).fill(HOUSE_PALETTE.sandSoft);
+  doc.fillColor(INK).text(pdfText(report.caution), MARGIN + 8, cy + 6, { width: W - 16 });
+  doc.y = cy + ch;
+  progress(0.9);
+
+  // ---- page numbers
+  const range = doc.bufferedPageRange();
+  for (let i = range.start; i < range.start + range.count; i++) {
+    doc.switchToPage(i);
+    const keep = doc.page.margins.bottom;
+    doc.page.margins.bottom = 0;
+    doc.font('plex').fontSize(8).fillColor(MUTED);
+    doc.text(pdfText(`${t.buildup} · ${t.section}`), MARGIN, size.height - MARGIN + 6, { width: W / 2, lineBreak: false });
+    doc.text(`Page ${i - range.start + 1} of ${range.count}`, MARGIN + W / 2, size.height - MARGIN + 6, { width: W / 2, align: 'right', lineBreak: false });
+    doc.page.margins.bottom = keep;
+  }
+  doc.end();
+  await done;
+  return { pages: range.count };
+}
