@@ -26,6 +26,19 @@ export const router = createRouter({
       meta: { public: true, guestOnly: true, title: 'Sign in' },
     },
     {
+      path: '/forgot-password',
+      name: 'forgot-password',
+      component: () => import('../pages/ForgotPasswordPage.vue'),
+      meta: { public: true, guestOnly: true, title: 'Forgot password' },
+    },
+    {
+      // public and not guest-only: a link from a mail may be opened in a browser someone is signed in to
+      path: '/set-password',
+      name: 'set-password',
+      component: () => import('../pages/SetPasswordPage.vue'),
+      meta: { public: true, title: 'Choose your password' },
+    },
+    {
       path: '/',
       component: () => import('../layouts/AppShell.vue'),
       children: [
@@ -87,6 +100,18 @@ export const router = createRouter({
           name: 'admin-users',
           component: () => import('../pages/AdminUsersPage.vue'),
           meta: { roles: ['admin'], title: 'Users' },
+        },
+        {
+          path: 'admin/outbox',
+          name: 'admin-outbox',
+          component: () => import('../pages/AdminOutboxPage.vue'),
+          meta: { roles: ['admin'], title: 'Outbox' },
+        },
+        {
+          path: 'account',
+          name: 'account',
+          component: () => import('../pages/AccountPage.vue'),
+          meta: { title: 'Account settings' },
         },
       ],
     },
