@@ -13,7 +13,7 @@ import pg from 'pg';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { bearer, createTestApp, ROLE_EMAIL, type DemoRole, type TestApp } from '../helpers/app';
-import { readyCalibratedSection, signIn } from '../helpers/api-fixtures';
+import { SMALL_GEOMETRY, readyCalibratedSection, savedBuildup, signIn } from '../helpers/api-fixtures';
 import { DEMO_PASSWORD } from '../../server/db/seeders/demo';
 import { mailSettled, notify, runDigest, type NotifyEvent } from '../../server/services/notify.service';
 import { sha256 } from '../../server/services/account.service';
@@ -221,6 +221,43 @@ describe('notification mails', () => {
     expect(r!.recipients).toEqual([ROLE_EMAIL.reviewer]);
     expect(r!.subject).toMatch(/^Ivo Marlstone replied in Note \d+/);
     expect(r!.text).toContain('> Moved it to the toe of the slope.');
+  });
+
+  it('review state changes through the review route mail the owner and the reviewer, with the comment and a link to the buildup', async () => {
+    const interp = await t.token('interpreter');
+    const rev = await t.token('reviewer');
+    const section = await readyCalibratedSection(t, interp, demoId);
+    const b = await savedBuildup(t, interp, section, 'Marrow Bank');
+    const review = (token: string, body: object) => request(t.app).post(`/api/buildups/${b.id}/review`).set(bearer(token)).send(body);
+    const before = { interp: (await mailsTo(ROLE_EMAIL.interpreter)).length, rev: (await mailsTo(ROLE_EMAIL.reviewer)).length };
+
+    expect((await review(interp, { from: 'draft', to: 'out_for_review' })).status).toBe(200);
+    // nobody else took part yet: the owner acted, no reviewer so far
+    expect((await mailsTo(ROLE_EMAIL.interpreter)).length).toBe(before.interp);
+    const rework = await review(rev, { from: 'out_for_review', to: 'needs_rework', comment: 'The right Margin pin sits on a multiple.' });
+    expect(rework.status, JSON.stringify(rework.body)).toBe(200);
+    const toOwner = (await mailsTo(ROLE_EMAIL.interpreter))[0];
+    expect((await mailsTo(ROLE_EMAIL.interpreter)).length).toBe(before.interp + 1);
+    expect(toOwner.recipients).toEqual([ROLE_EMAIL.interpreter]);
+    expect(toOwner.subject).toMatch(/^Remy Dunlin .*Marrow Bank \(Out for review → Needs rework/);
+    expect(toOwner.text).toContain('> The right Margin pin sits on a multiple.');
+    expect(toOwner.links.some((l) => l.startsWith(`${t.running.url}/sections/${section}/interpret`) && l.includes(String(b.id)))).toBe(true);
+
+    // the owner edits (Needs rework → Draft by saving) and sends it again: the reviewer, who took part, hears of both
+    const current = await request(t.app).get(`/api/buildups/${b.id}`).set(bearer(interp));
+    const save = await request(t.app).put(`/api/buildups/${b.id}`).set(bearer(interp)).send({ version: current.body.version, geometry: SMALL_GEOMETRY });
+    expect(save.status, JSON.stringify(save.body)).toBe(200);
+    expect((await review(interp, { from: 'draft', to: 'out_for_review' })).status).toBe(200);
+    const toReviewer = (await mailsTo(ROLE_EMAIL.reviewer)).slice(0, 2).map((m) => m.subject);
+    expect((await mailsTo(ROLE_EMAIL.reviewer)).length).toBe(before.rev + 2);
+    expect(toReviewer[1]).toMatch(/^Ivo Marlstone .*Marrow Bank \(Needs rework → Draft/);
+    expect(toReviewer[0]).toMatch(/^Ivo Marlstone .*Marrow Bank \(Draft → Out for review/);
+    const sign = await review(rev, { from: 'out_for_review', to: 'signed_off', comment: 'Good to go.' });
+    expect(sign.status, JSON.stringify(sign.body)).toBe(200);
+    const signed = (await mailsTo(ROLE_EMAIL.interpreter))[0];
+    expect(signed.subject).toMatch(/Marrow Bank \(Out for review → Signed off/);
+    expect(signed.text).toContain('> Good to go.');
+    expect((await mailsTo(ROLE_EMAIL.reviewer)).length).toBe(before.rev + 2); // not told of their own sign-off
   });
 
   it('notify drops the actor, duplicates, non-members and inactive people; each kind mails its subject and link', async () => {
