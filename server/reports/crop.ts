@@ -7,7 +7,7 @@
  * (vertical stretch included). The interpretation overlay (shared/report/overlay.ts)
  * is composited on top for the PNG export; the PDF draws it as vectors.
  */
-import sharp from 'sharp';
+import sharp, { type OverlayOptions } from 'sharp';
 import type { Section } from '../models/section';
 import type { FileStore } from '../storage/fileStore';
 import { pyramidLevels, TILE_EXT } from '../services/tiles.service';
@@ -49,7 +49,7 @@ export async function compositeCrop(store: FileStore, section: Section, crop: Cr
   const canvasW = Math.min(level.width, (c1 + 1) * tileSize) - c0 * tileSize;
   const canvasH = Math.min(level.height, (r1 + 1) * tileSize) - r0 * tileSize;
   const root = sectionKeys(section.storageKey).pyramid;
-  const layers: sharp.OverlayOptions[] = [];
+  const layers: OverlayOptions[] = [];
   const releases: (() => Promise<void>)[] = [];
   try {
     for (let r = r0; r <= r1; r++) {

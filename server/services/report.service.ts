@@ -36,7 +36,7 @@ import { fileStoreFor, type StoredObject } from '../storage/fileStore';
 import { applyCalibration, createDepthConverter, describeVelocityModel, type CalibrationFit, type MeasurementOutput } from '../../shared/measure/index';
 import { fromGeometry, measurabilityIssues, toInterpretationInput, type BuildupGeometry, type VelocityModel } from '../../shared/editor/model';
 import { DEFAULT_VELOCITY, DEFAULT_VELOCITY_SOURCES } from '../../shared/schemas/buildups';
-import { REVIEW_STATE_LABELS } from '../../shared/schemas/review';
+import { REVIEW_STATE_LABELS, type ReviewState } from '../../shared/schemas/review';
 import { checklistItem } from '../../shared/format';
 import { isLengthUnit, toDisplay, DEFAULT_LENGTH_UNIT, type LengthUnit } from '../../shared/units';
 import { CAUTION } from '../../shared/measure/index';
@@ -178,7 +178,7 @@ export async function assembleReport(buildup: Buildup, section: Section, measure
     }
     crop = { ...w, stretch: opts.stretch, intrinsicVE: ve, ve: ve === null ? null : ve * opts.stretch, trueScaleStretch: ve === null ? null : 1 / ve, imageWidth: section.width, imageHeight: section.height };
   }
-  const reviewState = buildup.reviewState ?? 'draft';
+  const reviewState: ReviewState = buildup.reviewState ?? 'draft';
   const hasEnds = [section.startLon, section.startLat, section.endLon, section.endLat].every((v) => typeof v === 'number' && Number.isFinite(v));
   return {
     format: REPORT_FORMAT,
