@@ -85,7 +85,7 @@ export function crossplotOption(input: CrossplotInput): { option: EChartsOption;
       symbolSize: 18,
       z: 10,
       itemStyle: { color: palette.sand, borderColor: palette.ink, borderWidth: 1.5 },
-      label: { show: true, position: 'right', formatter: (p: { data: unknown }) => (p.data as PointDatum)[3], color: palette.ink, fontWeight: 600 },
+      label: { show: true, position: 'top', distance: 8, formatter: (p: { data: unknown }) => (p.data as PointDatum)[3], color: palette.ink, fontWeight: 600 },
     });
   }
   const axis = (key: MetricKey, log: boolean) => ({
@@ -121,7 +121,7 @@ export function histogramOption(items: AnalogueSummary[], key: MetricKey): { opt
   const counted = bins.reduce((s, b) => s + b.count, 0);
   const option: EChartsOption = {
     animation: false,
-    grid: { left: 56, right: 20, top: 20, bottom: 64 },
+    grid: { left: 56, right: 20, top: 36, bottom: 64 },
     tooltip: { trigger: 'axis', axisPointer: { type: 'shadow' } },
     xAxis: {
       type: 'category',

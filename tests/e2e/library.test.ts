@@ -1,0 +1,265 @@
+/**
+ * The Analogue library in Chromium. The curator opens Kestrel Knoll (TB-11)
+ * on the interpretation page and promotes it from its Readings, tags it on
+ * its library page, finds it on the map (also by drawing a box around it)
+ * and in a crossplot; the interpreter opens the Look-alikes of Marrow Bank
+ * (TB-14) from its Readings, by numbers and by shape. The library holds the
+ * ~200 invented demo analogues besides. Screenshots 60-… in tests/e2e/screenshots/.
+ */
+import type { Page } from 'playwright-core';
+import request from 'supertest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { BuildupGeometry } from '../../shared/editor/model';
+import { ctx } from '../../server/context';
+import { seedDemoAnalogues } from '../../server/db/seeders/analogues';
+import { seedDemoInterpretation } from '../../server/db/seeders/interpretations';
+import { seedDemoSections } from '../../server/db/seeders/sections';
+import { DEMO_SECTIONS, sectionGeometry } from '../../server/scripts/synth/demo';
+import { bearer, createTestApp, type TestApp } from '../helpers/app';
+import { openBrowser, type Browser } from '../helpers/browser';
+import { waitForStatus } from '../helpers/sections';
+
+const W = 2400;
+const H = 750;
+
+let t: TestApp;
+let curatorBrowser: Browser;
+let interpreterBrowser: Browser | null = null;
+let tb11 = 0;
+let tb14 = 0;
+let kestrelBuildupId = 0;
+let analogueId = 0;
+let settingLabel = '';
+let settingValue = '';
+
+beforeAll(async () => {
+  t = await createTestApp({ listen: true });
+  const deps = { sequelize: ctx().sequelize, config: t.running.config, log: () => {} };
+  const { seeded } = await seedDemoSections(deps, { width: W, height: H });
+  await seedDemoInterpretation(deps);
+  await seedDemoAnalogues(ctx().sequelize);
+  const token = await t.token('interpreter');
+  for (const id of seeded) await waitForStatus(t, token, id);
+  for (const id of seeded) {
+    const s = await request(t.app).get(`/api/sections/${id}`).set(bearer(token));
+    if (s.body.lineName === 'TB-11') tb11 = id;
+    if (s.body.lineName === 'TB-14') tb14 = id;
+  }
+  expect(tb11).toBeGreaterThan(0);
+  expect(tb14).toBeGreaterThan(0);
+
+  // Kestrel Knoll as its interpreter traced it: the synthetic section's true geometry at the seeded size.
+  const def = DEMO_SECTIONS.find((d) => d.key === 'tb-11-kestrel-knoll')!;
+  const g = sectionGeometry(def, { width: W, height: H });
+  const b = g.pixelGeometry.buildups[0] as unknown as BuildupGeometry;
+  const geometry: BuildupGeometry = {
+    base: b.base,
+    cycles: b.cycles.map((c) => ({ ...c, systemsTract: null })),
+    terminations: b.terminations,
+    topIsDrowningSurface: b.topIsDrowningSurface,
+  };
+  const created = await request(t.app).post(`/api/sections/${tb11}/buildups`).set(bearer(token)).send({ name: 'Kestrel Knoll' });
+  expect(created.status, JSON.stringify(created.body)).toBe(201);
+  const saved = await request(t.app).put(`/api/buildups/${created.body.id}`).set(bearer(token)).send({ version: created.body.version, geometry });
+  expect(saved.status, JSON.stringify(saved.body)).toBe(200);
+  kestrelBuildupId = created.body.id;
+
+  const lists = await request(t.app).get('/api/analogues/lists').set(bearer(await t.token('curator')));
+  expect(lists.status).toBe(200);
+  const pinnacle = (lists.body.setting as { value: string; label: string }[]).find((i) => i.value === 'pinnacle') ?? lists.body.setting[0];
+  settingLabel = pinnacle.label;
+  settingValue = pinnacle.value;
+
+  curatorBrowser = await openBrowser(t.running.url);
+});
+
+afterAll(async () => {
+  await interpreterBrowser?.close();
+  await curatorBrowser?.close();
+  await t?.close();
+});
+
+async function signIn(page: Page, email: string): Promise<void> {
+  await page.goto('/sign-in');
+  await page.fill('[data-test="signin-email"]', email);
+  await page.fill('[data-test="signin-password"]', 'cayline-demo');
+  await page.click('[data-test="signin-submit"]');
+  await page.waitForURL(/\/projects/);
+}
+
+/** Pick an option of a naive-ui select by its visible label. */
+async function choose(page: Page, selectTest: string, label: string): Promise<void> {
+  await page.click(`[data-test="${selectTest}"]`);
+  await page.locator('.n-base-select-option', { hasText: label }).first().click();
+}
+
+describe('Analogue library in the browser', () => {
+  it('the curator promotes Kestrel Knoll from its Readings', async () => {
+    const page = curatorBrowser.page;
+    await signIn(page, 'curator@tessel.example');
+    await page.goto(`/sections/${tb11}/interpret`);
+    await page.waitForSelector('[data-test="readings-library-actions"]');
+    const promote = page.locator('[data-test="readings-promote"]');
+    await expect.poll(() => promote.textContent()).toContain('Promote to library');
+    await expect.poll(() => promote.isEnabled()).toBe(true);
+    await curatorBrowser.shot('60-library-readings-actions');
+    await promote.click();
+    await page.waitForSelector('[data-test="promote-name"]');
+    expect(await page.inputValue('[data-test="promote-name"]')).toBe('Kestrel Knoll');
+    await choose(page, 'promote-setting', settingLabel);
+    await curatorBrowser.shot('61-library-promote-dialog');
+    await page.click('[data-test="promote-submit"]');
+    await page.waitForSelector('[data-test="promote-done"]', { timeout: 60_000 });
+    await page.click('[data-test="promote-open"]');
+    await page.waitForURL(/\/library\/\d+$/);
+    analogueId = Number(new URL(page.url()).pathname.split('/').pop());
+    await page.waitForSelector('[data-test="analogue-name"]');
+    expect(await page.textContent('[data-test="analogue-name"]')).toBe('Kestrel Knoll');
+    // The engine classes the synthetic Kestrel Knoll as drowned or backstepping (generator: a backstepping pinnacle that drowned).
+    expect(await page.textContent('[data-test="analogue-class"]')).toMatch(/Drowned|Backstepping/);
+    expect(await page.textContent('[data-test="tag-setting"]')).toBe(settingLabel);
+    expect(await page.locator('[data-test="analogue-numbers"] tr[data-test="metric-heightM"]').count()).toBe(1);
+    await page.waitForSelector('[data-test="analogue-profile"] svg');
+    await page.waitForSelector('[data-test="analogue-crop"] img', { timeout: 30_000 }).catch(() => undefined);
+    await curatorBrowser.shot('62-library-analogue-detail');
+
+    const api = await request(t.app).get(`/api/analogues/${analogueId}`).set(bearer(await t.token('curator')));
+    expect(api.body).toMatchObject({ status: 'accepted', source: 'promoted', setting: settingValue, origin: { buildupId: kestrelBuildupId } });
+  });
+
+  it('the curator tags it: free tags, a class override with its reason and a location', async () => {
+    const page = curatorBrowser.page;
+    await page.click('[data-test="analogue-edit"]');
+    await page.waitForSelector('[data-test="analogue-edit-form"]');
+    // A free tag through the dynamic tag input.
+    await page.locator('[data-test="edit-tags"] button').last().click();
+    await page.keyboard.type('onlapped-top');
+    await page.keyboard.press('Enter');
+    // Override without a reason is refused, naming the field.
+    await choose(page, 'edit-class', 'Backstepping');
+    await page.fill('[data-test="edit-class-reason"]', '');
+    await page.click('[data-test="analogue-edit-save"]');
+    await page.waitForSelector('[data-test="analogue-edit-error"]');
+    expect(await page.textContent('[data-test="analogue-edit-error"]')).toContain('classOverrideReason');
+    await page.fill('[data-test="edit-class-reason"]', 'The youngest cycle still builds up on a narrower top; the onlap may be a later lowstand.');
+    await page.fill('[data-test="edit-lat"] input', '-27.85');
+    await page.fill('[data-test="edit-lon"] input', '63.49');
+    await page.locator('[data-test="edit-lon"] input').press('Tab');
+    await page.click('[data-test="analogue-edit-save"]');
+    await page.waitForSelector('[data-test="analogue-edit-form"]', { state: 'detached' });
+    await expect.poll(() => page.textContent('[data-test="tag-free"]')).toContain('#onlapped-top');
+    expect(await page.textContent('[data-test="tag-class-reason"]')).toContain('still builds up on a narrower top');
+    expect(await page.textContent('[data-test="analogue-class"]')).toContain('Backstepping');
+    await curatorBrowser.shot('63-library-analogue-tagged');
+
+    const api = await request(t.app).get(`/api/analogues/${analogueId}`).set(bearer(await t.token('curator')));
+    expect(api.body).toMatchObject({ tags: ['onlapped-top'], classOverride: 'backstepping', class: 'backstepping', latitude: -27.85, longitude: 63.49 });
+  });
+
+  it('finds it in the search, on the map and by a box drawn around it', async () => {
+    const page = curatorBrowser.page;
+    await page.click('[data-test="nav-library"]');
+    await page.waitForURL(/\/library$/);
+    await page.waitForSelector('[data-test="library-rows"]');
+    const all = Number((await page.textContent('[data-test="library-total"]'))!.replace(/\D/g, ''));
+    expect(all).toBeGreaterThan(150); // the demo analogues and Kestrel Knoll
+    // The facet count of the tag is 1 and ticking it narrows the list to Kestrel Knoll; the URL carries it.
+    await page.waitForSelector('[data-test="facet-tags"] li');
+    if (await page.locator('[data-test="facet-tags-more"]').count()) await page.click('[data-test="facet-tags-more"]');
+    await page.waitForSelector('[data-test="facet-tags-onlapped-top"]');
+    const tagCount = page.locator('[data-test="facet-tags"] li', { has: page.locator('[data-test="facet-tags-onlapped-top"]') }).locator('.count');
+    expect(await tagCount.textContent()).toBe('1');
+    await page.click('[data-test="facet-tags-onlapped-top"]');
+    await page.waitForURL(/tags=onlapped-top/);
+    await expect.poll(() => page.textContent('[data-test="library-total"]')).toMatch(/^1 analogue$/);
+    expect(await page.locator(`[data-test="library-row-${analogueId}"]`).count()).toBe(1);
+    await curatorBrowser.shot('64-library-search-tag');
+
+    // Map of the same search.
+    await page.click('[data-test="view-map"]');
+    await page.waitForURL(/view=map/);
+    const point = page.locator(`[data-test="map-point"][data-id="${analogueId}"]`);
+    await point.waitFor();
+    await curatorBrowser.shot('65-library-map-tagged');
+
+    // The whole library on the map, then a box drawn around Kestrel Knoll leaves it (and nothing from the far Pacific demo set).
+    await page.goto('/library?view=map');
+    await page.waitForSelector('[data-test="map-cluster"]');
+    await point.waitFor();
+    await curatorBrowser.shot('65-library-map-all');
+    const at = (await point.boundingBox())!;
+    const cx = at.x + at.width / 2;
+    const cy = at.y + at.height / 2;
+    await page.click('[data-test="map-mode-box"]');
+    await page.mouse.move(cx - 40, cy - 30);
+    await page.mouse.down();
+    await page.mouse.move(cx, cy, { steps: 4 });
+    await page.mouse.move(cx + 40, cy + 30, { steps: 4 });
+    await page.mouse.up();
+    await page.waitForURL(/bbox=/);
+    await page.waitForSelector('[data-test="map-area"]');
+    await expect.poll(() => page.locator('[data-test="map-point"]').count()).toBe(1);
+    await point.waitFor();
+    const bbox = new URL(page.url()).searchParams.get('bbox')!.split(',').map(Number);
+    expect(bbox[0]).toBeLessThan(63.49);
+    expect(bbox[2]).toBeGreaterThan(63.49);
+    expect(bbox[1]).toBeLessThan(-27.85);
+    expect(bbox[3]).toBeGreaterThan(-27.85);
+    await curatorBrowser.shot('66-library-map-box');
+    await page.click('[data-test="view-list"]');
+    await expect.poll(() => page.textContent('[data-test="library-total"]')).toMatch(/^1 analogue$/);
+
+    // The map's point opens the analogue.
+    await page.click('[data-test="view-map"]');
+    await point.click();
+    await page.waitForURL(new RegExp(`/library/${analogueId}$`));
+  });
+
+  it('finds it in a crossplot, highlighted among the library', async () => {
+    const page = curatorBrowser.page;
+    await page.goto(`/library?view=plots&x=areaM2&y=heightM&color=setting&mark=${analogueId}`);
+    const chart = page.locator('[data-test="crossplot-chart"]');
+    await chart.waitFor();
+    await expect.poll(() => chart.getAttribute('data-marked')).toBe('Kestrel Knoll');
+    expect(Number(await chart.getAttribute('data-plotted'))).toBeGreaterThan(150);
+    expect(await page.textContent('[data-test="crossplot-note"]')).toContain('Log scale'); // areas span more than two decades
+    await page.waitForTimeout(400); // let ECharts draw before the picture
+    await curatorBrowser.shot('67-library-crossplot');
+  });
+
+  it('the interpreter opens the Look-alikes of Marrow Bank from its Readings', async () => {
+    interpreterBrowser = await openBrowser(t.running.url);
+    const page = interpreterBrowser.page;
+    await signIn(page, 'interpreter@tessel.example');
+    await page.goto(`/sections/${tb14}/interpret`);
+    const look = page.locator('[data-test="readings-look-alikes"]');
+    await look.waitFor();
+    await expect.poll(() => look.isEnabled()).toBe(true);
+    // Interpreters ask a curator instead of promoting.
+    expect(await page.textContent('[data-test="readings-promote"]')).toContain('Ask a curator');
+    await look.click();
+    await page.waitForURL(/\/library\/look-alikes\?buildup=\d+/);
+    const matches = page.locator('[data-test="look-alikes-matches"] > li');
+    await expect.poll(() => matches.count(), { timeout: 60_000 }).toBe(10);
+    expect(await page.textContent('h1')).toContain('Marrow Bank');
+    // Every match lists its per-metric differences and the two profiles overlaid.
+    expect(await matches.first().locator('table.diffs tbody tr').count()).toBe(5);
+    expect(await matches.first().locator('svg polyline').count()).toBe(2);
+    const distances = await page.locator('[data-test="look-alikes-matches"] .dist').allTextContents();
+    const values = distances.map((d) => Number(d.replace(/[^\d.]/g, '')));
+    expect([...values].sort((a, b) => a - b)).toEqual(values); // nearest first
+    await page.waitForSelector('[data-test="look-alikes-crossplot"]');
+    await page.waitForTimeout(400);
+    await interpreterBrowser.shot('68-look-alikes-metrics');
+
+    // By shape, five of them.
+    await page.click('[data-test="mode-shape"]');
+    await page.fill('[data-test="look-alikes-k"] input', '5');
+    await page.click('[data-test="look-alikes-find"]');
+    await page.waitForURL(/mode=shape/);
+    await expect.poll(() => matches.count(), { timeout: 60_000 }).toBe(5);
+    expect(await page.textContent('[data-test="look-alikes-method"]')).toMatch(/L2|shape/i);
+    expect(await matches.first().locator('svg polyline').count()).toBe(2);
+    await interpreterBrowser.shot('69-look-alikes-shape');
+  });
+});
