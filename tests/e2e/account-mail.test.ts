@@ -4,7 +4,7 @@
  * a password and signs in; the bell counts a new notification without a page
  * reload and leads to its place; the account page switches to a daily digest
  * and changes the password; "forgot password" answers from the sign-in page.
- * Screenshots in tests/e2e/screenshots/ (70-… onwards).
+ * Screenshots in tests/e2e/screenshots/ (80-… onwards).
  */
 import type { Page } from 'playwright-core';
 import request from 'supertest';
@@ -64,7 +64,7 @@ describe('account e-mails and the bell', () => {
     expect(text).not.toMatch(/password is/i);
     const link = await page.locator('[data-test="outbox-link"]').first().getAttribute('href');
     expect(link).toMatch(new RegExp(`^${t.running.url}/set-password\\?token=`));
-    await b.shot('70-outbox-invitation');
+    await b.shot('80-outbox-invitation');
     await signOut(page);
 
     // the colleague follows the link
@@ -75,7 +75,7 @@ describe('account e-mails and the bell', () => {
     await page.click('[data-test="set-password-submit"]');
     await page.getByText('does not match the new password').waitFor();
     await page.fill('[data-test="repeat-password"]', 'gannet-nest-42');
-    await b.shot('71-set-password');
+    await b.shot('81-set-password');
     await page.click('[data-test="set-password-submit"]');
     await page.waitForURL(/\/sign-in\?email=/);
     expect(await page.inputValue('[data-test="signin-email"]')).toBe('nell@tessel.example');
@@ -86,7 +86,7 @@ describe('account e-mails and the bell', () => {
     await page.fill('[data-test="repeat-password"]', 'gannet-nest-43');
     await page.click('[data-test="set-password-submit"]');
     await expect.poll(() => page.locator('[data-test="set-password-problem"]').textContent()).toMatch(/already been used/);
-    await b.shot('72-set-password-used');
+    await b.shot('82-set-password-used');
 
     // signed in, the bell is empty; a mention arrives and the count shows up without a reload
     const nell = (await request(t.app).get('/api/users?q=nell').set(bearer(await t.token('admin')))).body.items[0].id as number;
@@ -103,7 +103,7 @@ describe('account e-mails and the bell', () => {
     await page.click('[data-test="bell"]');
     await page.locator('[data-test="bell-item"]').first().waitFor();
     await page.waitForTimeout(400); // the popover's fade-in, for the picture only
-    await b.shot('73-bell-open');
+    await b.shot('83-bell-open');
     await page.locator('[data-test="bell-item"]').first().click();
     await page.waitForURL(new RegExp(`/projects/${demoId}$`));
     await expect.poll(() => page.locator('[data-test="bell-count"]').count()).toBe(0);
@@ -123,7 +123,7 @@ describe('account e-mails and the bell', () => {
     await page.fill('[data-test="current-password"]', 'gannet-nest-42');
     await page.click('[data-test="change-password-submit"]');
     await page.locator('[data-test="password-changed"]').waitFor();
-    await b.shot('74-account-settings');
+    await b.shot('84-account-settings');
     expect((await request(t.app).get('/api/auth/me').set(bearer(other))).status).toBe(401); // the other session ended
     expect((await page.evaluate(() => fetch('/api/auth/me', { headers: { Authorization: `Bearer ${JSON.parse(localStorage.getItem('cayline.session')!).token}` } }).then((r) => r.status)))).toBe(200);
     await signOut(page);
@@ -135,6 +135,6 @@ describe('account e-mails and the bell', () => {
     await page.click('[data-test="forgot-submit"]');
     await page.locator('[data-test="forgot-sent"]').waitFor();
     expect(await page.locator('[data-test="forgot-sent"]').textContent()).toMatch(/If an active account uses this address/);
-    await b.shot('75-forgot-password');
+    await b.shot('85-forgot-password');
   }, 120_000);
 });
