@@ -703,8 +703,21 @@ export { toSummary };
 
 type LookAlikesInput = z.output<typeof lookAlikesSchema>;
 
+const sdCache = new LRUCache<string, number[]>({ max: 4 });
+
+/** Population standard deviation of every metric (Look-alikes space) over the accepted library, cached per library generation. */
+async function librarySds(): Promise<number[]> {
+  const g = await generation();
+  const hit = sdCache.get(g);
+  if (hit) return hit;
+  const [r] = await db().query<Row>(`SELECT ${METRIC_KEYS.map((_, i) => `stddev_pop(metric_vec[${i + 1}]) AS s${i}`).join(', ')} FROM analogues WHERE status = 'accepted'`, { type: QueryTypes.SELECT });
+  const sds = METRIC_KEYS.map((_, i) => Number(r[`s${i}`] ?? 0));
+  sdCache.set(g, sds);
+  return sds;
+}
+
 /**
- * The k analogues most like a buildup or an analogue.
+ * The k analogues most like a buildup or an analogue (analogues lacking what is compared are counted in `skipped`).
  *
  * - `metrics`: weighted Euclidean distance of z-scores,
  *   d = √( Σ wᵢ·((vᵢ − qᵢ)/σᵢ)² / Σ wᵢ ), with σᵢ the population standard
@@ -714,8 +727,9 @@ type LookAlikesInput = z.output<typeof lookAlikesSchema>;
  * - `shape`: the L2 distance of the normalised profiles resampled at
  *   SHAPE_SAMPLES equally spaced x, divided by √N (shared/analogue-shape.ts).
  *
- * Both are one sequential scan in SQL over the precomputed `metric_vec` and
- * `shape` arrays (no per-row JSON), ordered by distance with LIMIT k.
+ * Metrics: one sequential scan in SQL over the precomputed `metric_vec`
+ * array (no per-row JSON), top k by distance. Shape: a nearest-neighbour scan
+ * of the GiST index on `shape_cube` (the `cube` extension's `<->`, Euclidean).
  */
 export async function lookAlikes(actor: Actor, v: LookAlikesInput): Promise<LookAlikesResponse> {
   let qMetrics: Metrics;
@@ -738,36 +752,48 @@ export async function lookAlikes(actor: Actor, v: LookAlikesInput): Promise<Look
   const filter = { status: 'accepted' as const, ...(v.filter ?? {}) };
   const where = [whereOf(filter, b)];
   if (selfId != null) where.push(`id <> ${b.add(selfId)}`);
-  let distance: string;
-  let usable: string;
   let metricInfo: LookAlikesResponse['metrics'] = [];
   let method: string;
+  let top: { id: number; d: number }[];
+  const where_ = where.join(' AND ');
+  let usable: string;
   if (v.mode === 'metrics') {
     const chosen = (v.metrics ?? DEFAULT_LOOKALIKE_METRICS).filter((m) => m.weight > 0);
     if (!chosen.length) throw invalid(400, 'validation_failed', 'metrics', 'give at least one metric a weight above 0');
     const idx = (k: MetricKey) => METRIC_KEYS.indexOf(k) + 1;
-    const sds = await db().query<Row>(`SELECT ${chosen.map((m, i) => `stddev_pop(metric_vec[${idx(m.key)}]) AS s${i}`).join(', ')} FROM analogues WHERE status = 'accepted'`, { type: QueryTypes.SELECT });
-    metricInfo = chosen.map((m, i) => ({ key: m.key, weight: m.weight, sd: Number(sds[0][`s${i}`] ?? 0), log: METRICS.find((d) => d.key === m.key)!.log }));
+    const sds = await librarySds();
+    metricInfo = chosen.map((m) => ({ key: m.key, weight: m.weight, sd: sds[idx(m.key) - 1], log: METRICS.find((d) => d.key === m.key)!.log }));
     const missing = metricInfo.filter((m) => metricSpaceValue(m.key, qMetrics[m.key]) == null);
     if (missing.length)
       throw invalid(422, 'query_lacks_metric', 'metrics', `${qName} has no value for ${missing.map((m) => m.key).join(', ')}${missing.some((m) => m.log) ? ' (or it is not positive, needed for the log scale)' : ''}`);
     const live = metricInfo.filter((m) => m.sd > 0);
     const wsum = live.reduce((s, m) => s + m.weight, 0) || 1;
-    const terms = live.map((m) => `${b.add(m.weight / wsum)} * power((metric_vec[${idx(m.key)}] - ${b.add(metricSpaceValue(m.key, qMetrics[m.key]))}) / ${b.add(m.sd)}, 2)`);
-    distance = terms.length ? `sqrt(${terms.join(' + ')})` : '0';
+    // Σ (cᵢ·(vᵢ − qᵢ))² with cᵢ = √(wᵢ / Σw) / σᵢ; the square root is taken on the k rows kept
+    const terms = live.map((m) => `power(${b.add(Math.sqrt(m.weight / wsum) / m.sd)} * (metric_vec[${idx(m.key)}] - ${b.add(metricSpaceValue(m.key, qMetrics[m.key]))}), 2)`);
     usable = metricInfo.map((m) => `metric_vec[${idx(m.key)}] IS NOT NULL`).join(' AND ');
+    const sq = terms.length ? terms.join(' + ') : '0';
+    const rows = await db().query<{ id: number; d2: number }>(`SELECT id, ${sq} AS d2 FROM analogues WHERE ${where_} AND ${usable} ORDER BY 2, id LIMIT ${v.k}`, { bind: b.values, type: QueryTypes.SELECT });
+    top = rows.map((r) => ({ id: r.id, d: Math.sqrt(r.d2) }));
     method = `Weighted Euclidean distance of z-scores over the accepted library (standard deviations ${metricInfo.map((m) => `${m.key} ${m.sd.toPrecision(3)}${m.log ? ' in log10' : ''}`).join(', ')}).`;
   } else {
     if (!qShape) throw invalid(422, 'query_lacks_profile', 'from', `${qName} has no depth profile to compare`);
-    const terms = qShape.map((s, i) => `power(shape[${i + 1}] - ${b.add(s)}, 2)`);
-    distance = `sqrt((${terms.join(' + ')}) / ${SHAPE_SAMPLES})`;
-    usable = 'shape IS NOT NULL';
+    usable = 'shape_cube IS NOT NULL';
+    // nearest neighbours on the GiST index of the shape cube: Euclidean distance, divided by √N below
+    const qc = b.add(qShape);
+    const rows = await db().query<{ id: number; d: number }>(`SELECT id, shape_cube <-> cube(${qc}::float8[]) AS d FROM analogues WHERE ${where_} AND ${usable} ORDER BY shape_cube <-> cube(${qc}::float8[]), id LIMIT ${v.k}`, {
+      bind: b.values,
+      type: QueryTypes.SELECT,
+    });
+    top = rows.map((r) => ({ id: r.id, d: r.d / Math.sqrt(SHAPE_SAMPLES) }));
     method = `L2 distance of depth profiles normalised to unit height and width and resampled at ${SHAPE_SAMPLES} equally spaced points, divided by √${SHAPE_SAMPLES} (root-mean-square height difference; 0 = same shape).`;
   }
-  const sql = `WITH c AS MATERIALIZED (SELECT id, CASE WHEN ${usable} THEN ${distance} END AS d FROM analogues WHERE ${where.join(' AND ')})
-    SELECT id, d, (SELECT count(*) FROM c WHERE d IS NOT NULL)::int AS compared, (SELECT count(*) FROM c WHERE d IS NULL)::int AS skipped
-      FROM c WHERE d IS NOT NULL ORDER BY d, id LIMIT ${v.k}`;
-  const top = await db().query<{ id: number; d: number; compared: number; skipped: number }>(sql, { bind: b.values, type: QueryTypes.SELECT });
+  const cb = new Binds();
+  const cw = [whereOf(filter, cb)];
+  if (selfId != null) cw.push(`id <> ${cb.add(selfId)}`);
+  const [cnt] = await db().query<{ compared: number; skipped: number }>(
+    `SELECT count(*) FILTER (WHERE ${usable})::int AS compared, count(*) FILTER (WHERE NOT (${usable}))::int AS skipped FROM analogues WHERE ${cw.join(' AND ')}`,
+    { bind: cb.values, type: QueryTypes.SELECT },
+  );
   const ids = top.map((t) => t.id);
   const rows = ids.length ? await db().query<Row>(`SELECT ${SUMMARY_COLUMNS}, shape FROM analogues WHERE id = ANY($1::int[])`, { bind: [ids], type: QueryTypes.SELECT }) : [];
   const byId = new Map(rows.map((r) => [r.id, r]));
@@ -788,16 +814,7 @@ export async function lookAlikes(actor: Actor, v: LookAlikesInput): Promise<Look
           : [],
     };
   });
-  let compared = top[0]?.compared ?? 0;
-  let skipped = top[0]?.skipped ?? 0;
-  if (!top.length) {
-    const cb = new Binds();
-    const cw = [whereOf(filter, cb)];
-    if (selfId != null) cw.push(`id <> ${cb.add(selfId)}`);
-    const [{ n }] = await db().query<{ n: number }>(`SELECT count(*)::int AS n FROM analogues WHERE ${cw.join(' AND ')}`, { bind: cb.values, type: QueryTypes.SELECT });
-    compared = 0;
-    skipped = n;
-  }
+  const { compared, skipped } = cnt;
   return { mode: v.mode, query: { name: qName, metrics: qMetrics, shape: qShape }, metrics: metricInfo, compared, skipped, matches, method };
 }
 

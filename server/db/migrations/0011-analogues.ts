@@ -10,9 +10,14 @@
  * - GIN on `tags` (array containment `@>`) and on the generated `tsv` column
  *   (full text over name, citation and notes, weights A/B/C);
  * - `metric_vec` (float8[], the metrics in METRICS order, log10 where the metric
- *   spans decades) and `shape` (float8[SHAPE_SAMPLES], the normalised profile)
- *   are precomputed on write, so Look-alikes is one sequential scan computing a
- *   weighted distance per row in SQL (no per-row JSON parsing).
+ *   spans decades) is precomputed on write: Look-alikes by metrics is one
+ *   sequential scan computing the weighted z-score distance per row in SQL
+ *   (no per-row JSON), top k by a heap sort;
+ * - `shape` (float8[SHAPE_SAMPLES], the normalised profile) is mirrored into a
+ *   generated `shape_cube` column (the `cube` extension that Debian's
+ *   postgresql-15 package ships, marked trusted so a database owner may create
+ *   it) with a GiST index: Look-alikes by shape is a nearest-neighbour index
+ *   scan on the Euclidean distance `<->`.
  */
 import type { MigrationContext } from '../migrate';
 
@@ -90,6 +95,9 @@ export async function up({ sequelize }: MigrationContext) {
       setweight(to_tsvector('english', coalesce(notes, '')), 'C')
     ) STORED
   )`);
+  await q('CREATE EXTENSION IF NOT EXISTS cube');
+  await q(`ALTER TABLE analogues ADD COLUMN shape_cube cube GENERATED ALWAYS AS (cube(shape)) STORED`);
+  await q(`CREATE INDEX analogues_shape_cube_idx ON analogues USING gist (shape_cube)`);
   for (const c of ['status', 'setting', 'factory', 'climate', 'class', 'period', 'age_ma', 'latitude', 'longitude', 'year', 'updated_at', 'buildup_id', ...METRIC_COLUMNS])
     await q(`CREATE INDEX analogues_${c}_idx ON analogues (${c})`);
   await q(`CREATE INDEX analogues_lower_name_idx ON analogues (lower(name))`);

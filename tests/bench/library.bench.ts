@@ -1,0 +1,155 @@
+/**
+ * Analogue library benchmark: faceted search and Look-alikes over 100,000 analogues.
+ *
+ *   npx tsx tests/bench/library.bench.ts [--rows=100000] [--seconds=10]     (or `npm run bench -- library`)
+ *
+ * Setup (all real): a throwaway PostgreSQL cluster in a temp folder, the
+ * Cayline server booted on it and listening, 100,000 generated analogues
+ * (the demo generator of server/db/seeders/analogues.ts with another seed:
+ * profiles, shapes and metric vectors computed as on every write), ANALYZE.
+ *
+ * Measured with autocannon, 50 connections:
+ * - `GET /api/health` (a bare route answering `SELECT 1`, no sign-in): the baseline;
+ * - the faceted search with three facets and one numeric range active
+ *   (signed in, so each request also checks the token and reads the user):
+ *   (a) the same query repeated — served from the search cache after the
+ *   first (one read of the library generation per request);
+ *   (b) a different height range on every request — every request misses the
+ *   cache and runs the list query and the one-statement facet counts.
+ * Printed: p50 and p97.5 of each, the ratios to the baseline's p97.5, and the
+ * goals (≤ 30 ms and ≤ 3× the baseline).
+ *
+ * Look-alikes (one client, 15 requests each, first one dropped): metrics mode
+ * (five metrics) and shape mode (64-point profiles), median and worst, against
+ * the 200 ms goal. Method: one sequential scan in SQL over the precomputed
+ * `metric_vec` / `shape` float8[] columns, ordered by distance, LIMIT k.
+ * Never fails on time.
+ */
+import crypto from 'node:crypto';
+import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import pg from 'pg';
+import autocannon from 'autocannon';
+import { removeCluster, startCluster } from '../../server/db/cluster';
+import { DEMO_PASSWORD, seedDemoUsers } from '../../server/db/seeders/demo';
+import { generateAnalogues } from '../../server/db/seeders/analogues';
+import { handColumns, insertMany } from '../../server/services/analogue.service';
+import { boot } from '../../server/index';
+
+const args = new Map(
+  process.argv.slice(2).map((a) => {
+    const [k, v] = a.replace(/^--/, '').split('=');
+    return [k, v ?? '1'] as const;
+  }),
+);
+const ROWS = Number(args.get('rows') ?? 100_000);
+const SECONDS = Number(args.get('seconds') ?? 10);
+const CONNECTIONS = 50;
+const log = (m: string) => console.log(`[library.bench] ${m}`);
+
+const SEARCH = '/api/analogues?setting=bank,pinnacle,isolated-platform&factory=tropical&class=aggrading,backstepping,prograding&r.heightM=';
+
+function cannon(url: string, headers: Record<string, string>, varyPath?: () => string): Promise<autocannon.Result> {
+  return new Promise((resolve, reject) => {
+    autocannon(
+      {
+        url,
+        connections: CONNECTIONS,
+        duration: SECONDS,
+        headers,
+        requests: varyPath ? [{ setupRequest: (req) => ({ ...req, path: varyPath() }) }] : undefined,
+      },
+      (err, res) => (err ? reject(err) : resolve(res)),
+    );
+  });
+}
+
+const ms = (v: number) => `${v.toFixed(1)} ms`;
+
+async function main() {
+  const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-bench-library-'));
+  fs.chmodSync(tmp, 0o755);
+  const cleanups: (() => Promise<void> | void)[] = [];
+  try {
+    const dataDir = path.join(tmp, 'pg', 'data');
+    process.env.CAYLINE_PG_FSYNC = 'off';
+    const cluster = await startCluster({ dataDir, database: 'postgres', log: () => {} });
+    cleanups.push(async () => {
+      await cluster.stop();
+      removeCluster(dataDir);
+    });
+    const dbName = `bench_${crypto.randomBytes(4).toString('hex')}`;
+    const c = new pg.Client({ connectionString: cluster.url });
+    await c.connect();
+    await c.query(`CREATE DATABASE ${dbName}`);
+    await c.end();
+    const storageDir = path.join(tmp, 'storage');
+    fs.mkdirSync(storageDir, { recursive: true });
+    const running = await boot({
+      databaseUrl: cluster.url.replace(/\/postgres$/, `/${dbName}`),
+      listen: true,
+      config: { storageDir, port: 0, bcryptCost: 4, jwtSecret: crypto.randomBytes(24).toString('hex') },
+      afterMigrate: async ({ sequelize }) => {
+        await seedDemoUsers(sequelize);
+        const t0 = Date.now();
+        for (let at = 0; at < ROWS; at += 10_000) {
+          const rows = generateAnalogues(Math.min(10_000, ROWS - at), `library-bench-${at}`).map((v, i) => handColumns({ ...v, name: `${v.name}-${at + i}` }, 'import', null));
+          await sequelize.transaction((transaction) => insertMany(rows, transaction, sequelize));
+        }
+        await sequelize.query('ANALYZE analogues');
+        log(`${ROWS} analogues generated and inserted in ${((Date.now() - t0) / 1000).toFixed(1)} s`);
+      },
+    });
+    cleanups.push(() => running.close());
+    const base = running.url.replace('localhost', '127.0.0.1');
+    const login = await fetch(`${base}/api/auth/login`, { method: 'POST', headers: { 'Content-Type': 'application/json' }, body: JSON.stringify({ email: 'interpreter@tessel.example', password: DEMO_PASSWORD }) });
+    const { token } = (await login.json()) as { token: string };
+    const auth = { Authorization: `Bearer ${token}` };
+    const probe = await fetch(`${base}${SEARCH}60..250`, { headers: auth });
+    const body = (await probe.json()) as { total: number; facets: Record<string, unknown[]> };
+    log(`server at ${base}; ${os.availableParallelism?.() ?? os.cpus().length} cores; search probe: ${probe.status}, ${body.total} of ${ROWS} match, ${Object.keys(body.facets).length} facets`);
+
+    log(`autocannon, ${CONNECTIONS} connections, ${SECONDS} s each`);
+    const health = await cannon(`${base}/api/health`, {});
+    const cached = await cannon(`${base}${SEARCH}60..250`, auth);
+    let n = 0;
+    const fresh = await cannon(`${base}${SEARCH}60..250`, auth, () => `${SEARCH}${40 + (n % 40)}..${200 + Math.floor(n++ / 40)}`);
+    const row = (name: string, r: autocannon.Result) =>
+      log(`${name.padEnd(44)} p50 ${ms(r.latency.p50).padStart(9)}  p97.5 ${ms(r.latency.p97_5).padStart(9)}  ${String(Math.round(r.requests.average)).padStart(6)} req/s  non-2xx ${r.non2xx}  errors ${r.errors}`);
+    row('GET /api/health (SELECT 1, baseline)', health);
+    row('search, 3 facets + range, repeated (cache)', cached);
+    row('search, 3 facets + range, new range each', fresh);
+    const b = health.latency.p97_5;
+    log(`ratio p97.5 search (cache) ÷ baseline:    ${(cached.latency.p97_5 / b).toFixed(2)}  (goal ≤ 3; p97.5 ${ms(cached.latency.p97_5)}, goal ≤ 30 ms)`);
+    log(`ratio p97.5 search (no cache) ÷ baseline: ${(fresh.latency.p97_5 / b).toFixed(2)}  (goal ≤ 3; p97.5 ${ms(fresh.latency.p97_5)}, goal ≤ 30 ms)`);
+
+    // Look-alikes, one client
+    const [some] = ((await (await fetch(`${base}/api/analogues?pageSize=1&facets=0`, { headers: auth })).json()) as { items: { id: number }[] }).items;
+    for (const mode of ['metrics', 'shape'] as const) {
+      const times: number[] = [];
+      let compared = 0;
+      for (let i = 0; i < 15; i++) {
+        const t0 = performance.now();
+        const r = await fetch(`${base}/api/analogues/look-alikes`, { method: 'POST', headers: { ...auth, 'Content-Type': 'application/json' }, body: JSON.stringify({ from: { analogueId: some.id }, mode, k: 10 }) });
+        const j = (await r.json()) as { compared: number };
+        if (r.status !== 200) throw new Error(`look-alikes ${mode} → ${r.status} ${JSON.stringify(j)}`);
+        compared = j.compared;
+        if (i > 0) times.push(performance.now() - t0);
+      }
+      times.sort((x, y) => x - y);
+      log(`Look-alikes ${mode.padEnd(7)} over ${compared} analogues: median ${ms(times[Math.floor(times.length / 2)])}, worst ${ms(times[times.length - 1])} (goal ≤ 200 ms)`);
+    }
+  } finally {
+    for (const f of cleanups.reverse()) await f();
+    fs.rmSync(tmp, { recursive: true, force: true });
+  }
+}
+
+main().then(
+  () => process.exit(0),
+  (e) => {
+    console.error(e);
+    process.exit(1);
+  },
+);
