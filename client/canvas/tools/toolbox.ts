@@ -21,6 +21,9 @@ export const TOOL_KEYS: Readonly<Record<ToolId, string>> = Object.freeze({
   ruler: 'u',
 });
 
+/** Key of the Note pin mode (outside the Toolbox: placing a pin changes no geometry, so every member may). */
+export const NOTE_PIN_KEY = 'k';
+
 export const TOOL_LABEL: Readonly<Record<ToolId, string>> = Object.freeze({
   select: 'Select',
   edit: 'Edit vertices',
@@ -93,6 +96,7 @@ export const SHORTCUT_GROUPS: readonly ShortcutGroup[] = Object.freeze([
     entries: [
       { keys: ['Ctrl+Z'], what: 'Undo' },
       { keys: ['Ctrl+Shift+Z', 'Ctrl+Y'], what: 'Redo' },
+      { keys: ['K'], what: 'Place a Note pin (click an object or a point; Esc cancels)' },
       { keys: ['?'], what: 'Show or hide this list' },
       { keys: ['Space+Drag', 'Middle drag'], what: 'Pan' },
       { keys: ['Wheel', '+', '−'], what: 'Zoom' },

@@ -9,6 +9,7 @@ import { splitLinks } from '../../../shared/notes/links';
 import { anchorPositionInEditor, anchorPositionInGeometry, midAlong } from '../../../shared/notes/anchor';
 import { fromGeometry, toGeometry, type BuildupGeometry, type EditorBuildup } from '../../../shared/editor/model';
 import { saveBuildupSchema } from '../../../shared/schemas/buildups';
+import { mentionedIn } from '../../../client/components/discussion/mentions';
 
 const pin = (id: number, u: number, v: number) => ({ id, number: id, at: [u, v] as [number, number] });
 
@@ -166,5 +167,18 @@ describe('stable ids in the stored geometry', () => {
     const stamps = { ...g, terminations: [g.terminations[0], { ...g.terminations[1], id: 't1' }] };
     expect(saveBuildupSchema.safeParse({ version: 1, geometry: stamps }).error!.issues[0].path.join('.')).toBe('geometry.terminations.1.id');
     expect(saveBuildupSchema.safeParse({ version: 1, geometry: g }).success).toBe(true);
+  });
+});
+
+describe('mentionedIn', () => {
+  const people = [
+    { id: 1, name: 'Ana' },
+    { id: 2, name: 'Ana Reef' },
+    { id: 3, name: 'Bo Lagoon' },
+  ];
+  it('finds each @Name once, longer names first', () => {
+    expect(mentionedIn('@Ana Reef please look, and @Bo Lagoon too', people).sort()).toEqual([2, 3]);
+    expect(mentionedIn('@Ana and @Ana Reef', people).sort()).toEqual([1, 2]);
+    expect(mentionedIn('Ana without the at sign', people)).toEqual([]);
   });
 });
