@@ -96,6 +96,15 @@ describe('threads and permissions', () => {
     expect(list.body.map((x: { number: number }) => x.number)).toEqual(expect.arrayContaining(numbers));
   });
 
+  it('threads opened at the same moment get distinct consecutive numbers', async () => {
+    const rs = await Promise.all(
+      (['reviewer', 'curator', 'interpreter', 'admin', 'reviewer', 'curator'] as const).map((role, i) => newThread(role, { anchor: { kind: 'point', at: [i, i] }, body: `race ${i}` })),
+    );
+    for (const r of rs) expect(r.status, JSON.stringify(r.body)).toBe(201);
+    const nums = rs.map((r) => r.body.number as number).sort((a, b) => a - b);
+    expect(nums.map((n) => n - nums[0])).toEqual([0, 1, 2, 3, 4, 5]);
+  });
+
   it('a point outside the image is refused with 422 naming anchor.at, and nothing is written', async () => {
     const threads = await countRows('note_threads');
     const messages = await countRows('note_messages');
@@ -301,6 +310,17 @@ describe('mentions and notifications', () => {
     expect(r.status).toBe(201);
     const kinds = Object.fromEntries(calls.map((c) => [c.kind, [...c.recipientIds].sort()]));
     expect(kinds).toEqual({ mention: [ids.curator], reply: [ids.reviewer] });
+
+    // the notifications helper keeps a row per recipient, committed with the message
+    const rows = await sql<{ recipient_id: number; kind: string }>(
+      `SELECT recipient_id, kind FROM notifications WHERE link = '/sections/${section}/interpret?thread=${th.body.id}' ORDER BY id`,
+    );
+    expect(rows.map((x) => [x.kind, x.recipient_id])).toEqual([
+      ['mention', ids.interpreter],
+      ['reply', ids.reviewer],
+      ['mention', ids.curator],
+      ['reply', ids.reviewer],
+    ]);
 
     // an edit tells only the people it newly mentions
     calls.length = 0;
