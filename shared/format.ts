@@ -5,7 +5,12 @@
  * practice), the minus sign is U+2212, units follow after a normal space.
  * Very large areas and volumes switch to scientific notation with
  * superscript exponents ("3.42 × 10⁹ m³").
+ *
+ * Lengths, areas, volumes and rates take the person's display unit
+ * (`unit`, shared/units.ts; default metres): the value passed in is always
+ * SI and is converted here, at display.
  */
+import { areaLabel, lengthLabel, rateLabel, toDisplayArea, toDisplayLength, toDisplayRate, toDisplayVolume, volumeLabel, type LengthUnit } from './units';
 
 export const THIN_SPACE = '\u2009';
 export const MINUS = '\u2212';
@@ -47,25 +52,29 @@ export function formatScientific(v: Num, digits = 3): string {
   return `${m} × 10${e}`;
 }
 
-/** Length in metres: 1 decimal below 1 000 m, whole metres above ("4 520 m", "312.4 m"). */
-export function formatMetres(v: Num, opts: { signed?: boolean } = {}): string {
+/** Length given in metres, shown in `opts.unit` (default m): 1 decimal below 1 000, whole above ("4 520 m", "312.4 m", "1 025 ft"). */
+export function formatMetres(v: Num, opts: { signed?: boolean; unit?: LengthUnit } = {}): string {
   if (!isNum(v)) return DASH;
-  return `${formatNumber(v, Math.abs(v) < 1000 ? 1 : 0, opts)} m`;
+  const unit = opts.unit ?? 'm';
+  const d = toDisplayLength(v, unit);
+  return `${formatNumber(d, Math.abs(d) < 1000 ? 1 : 0, opts)} ${lengthLabel(unit)}`;
 }
 
 /** Above this, areas and volumes are written in scientific notation. */
 export const SCIENTIFIC_FROM = 1e7;
 
-/** Area in m²: whole square metres with thin-space thousands, scientific from 10⁷. */
-export function formatArea(v: Num): string {
+/** Area given in m², shown in m² or ft²: whole units with thin-space thousands, scientific from 10⁷. */
+export function formatArea(v: Num, unit: LengthUnit = 'm'): string {
   if (!isNum(v)) return DASH;
-  return Math.abs(v) >= SCIENTIFIC_FROM ? `${formatScientific(v)} m²` : `${formatNumber(v, 0)} m²`;
+  const d = toDisplayArea(v, unit);
+  return Math.abs(d) >= SCIENTIFIC_FROM ? `${formatScientific(d)} ${areaLabel(unit)}` : `${formatNumber(d, 0)} ${areaLabel(unit)}`;
 }
 
-/** Volume in m³: whole cubic metres with thin-space thousands, scientific from 10⁷. */
-export function formatVolume(v: Num): string {
+/** Volume given in m³, shown in m³ or ft³: whole units with thin-space thousands, scientific from 10⁷. */
+export function formatVolume(v: Num, unit: LengthUnit = 'm'): string {
   if (!isNum(v)) return DASH;
-  return Math.abs(v) >= SCIENTIFIC_FROM ? `${formatScientific(v)} m³` : `${formatNumber(v, 0)} m³`;
+  const d = toDisplayVolume(v, unit);
+  return Math.abs(d) >= SCIENTIFIC_FROM ? `${formatScientific(d)} ${volumeLabel(unit)}` : `${formatNumber(d, 0)} ${volumeLabel(unit)}`;
 }
 
 /** Angle in degrees with 1 decimal: "12.3°". */
@@ -83,10 +92,10 @@ export function formatRatio(v: Num): string {
   return s.startsWith('-') ? MINUS + s.slice(1) : s;
 }
 
-/** Rate in metres per million years with 1 decimal. */
-export function formatRate(v: Num): string {
+/** Rate given in metres per million years, shown in m/Myr or ft/Myr with 1 decimal. */
+export function formatRate(v: Num, unit: LengthUnit = 'm'): string {
   if (!isNum(v)) return DASH;
-  return `${formatNumber(v, 1)} m/Myr`;
+  return `${formatNumber(toDisplayRate(v, unit), 1)} ${rateLabel(unit)}`;
 }
 
 /** Age in Ma (up to 3 decimals, trailing zeros trimmed). */
@@ -98,14 +107,14 @@ export function formatAge(v: Num): string {
 export type Quantity = 'length' | 'area' | 'volume' | 'angle';
 
 /** Format a value of a quantity kind (used by the P90/P50/P10 table). */
-export function formatQuantity(kind: Quantity, v: Num): string {
+export function formatQuantity(kind: Quantity, v: Num, unit: LengthUnit = 'm'): string {
   switch (kind) {
     case 'length':
-      return formatMetres(v);
+      return formatMetres(v, { unit });
     case 'area':
-      return formatArea(v);
+      return formatArea(v, unit);
     case 'volume':
-      return formatVolume(v);
+      return formatVolume(v, unit);
     case 'angle':
       return formatDegrees(v);
   }
@@ -197,14 +206,14 @@ export function rangeRows(ranges: {
   areaM2: Percentiles;
   volumeM3: Percentiles;
   cycles: { index: number; left: { flankAngleDeg: Percentiles | null }; right: { flankAngleDeg: Percentiles | null } }[];
-}): RangeRow[] {
+}, unit: LengthUnit = 'm'): RangeRow[] {
   const row = (key: string, label: string, kind: Quantity, p: Percentiles): RangeRow => ({
     key,
     label,
     kind,
-    p90: formatQuantity(kind, p.p90),
-    p50: formatQuantity(kind, p.p50),
-    p10: formatQuantity(kind, p.p10),
+    p90: formatQuantity(kind, p.p90, unit),
+    p50: formatQuantity(kind, p.p50, unit),
+    p10: formatQuantity(kind, p.p10, unit),
   });
   const rows = [
     row('height', 'Height', 'length', ranges.heightM),

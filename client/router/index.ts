@@ -57,6 +57,13 @@ export const router = createRouter({
           meta: { title: 'Project' },
         },
         {
+          path: 'projects/:projectId(\\d+)/buildups',
+          name: 'register',
+          component: () => import('../pages/RegisterPage.vue'),
+          props: (route) => ({ projectId: Number(route.params.projectId) }),
+          meta: { title: 'Buildup register', wide: true },
+        },
+        {
           path: 'sections/:sectionId(\\d+)',
           name: 'section',
           component: () => import('../pages/SectionPage.vue'),

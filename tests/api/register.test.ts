@@ -53,7 +53,7 @@ const made: Record<string, Made> = {};
 /** The engine's own numbers for a geometry on these sections (default velocity model and options). */
 function engine(g: Geometry, ties: unknown[] = SMALL_TIES): BuildupMeasurement {
   const editor = fromGeometry({ id: 1, name: 'x', version: 1, geometry: g });
-  const input = toInterpretationInput(editor, { calibrationTies: ties as typeof SMALL_TIES, verticalDomain: 'twt_ms', velocity: DEFAULT_VELOCITY as VelocityModel });
+  const input = toInterpretationInput(editor, { calibrationTies: ties as never, verticalDomain: 'twt_ms', velocity: DEFAULT_VELOCITY as VelocityModel });
   return measure(input).buildups[0];
 }
 

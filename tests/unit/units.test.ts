@@ -126,3 +126,28 @@ describe('labels', () => {
     expect(isLengthUnit(undefined)).toBe(false);
   });
 });
+
+describe('display formatting in the chosen unit', () => {
+  it('Readings formatters convert SI values at display and name the unit', async () => {
+    const { formatMetres, formatArea, formatVolume, formatRate, rangeRows, THIN_SPACE } = await import('../../shared/format');
+    // 304.8 m = 1000 ft exactly (international foot)
+    expect(formatMetres(304.8, { unit: 'ft' })).toBe(`1${THIN_SPACE}000 ft`);
+    expect(formatMetres(304.8)).toBe('304.8 m');
+    expect(formatMetres(-3.048, { unit: 'ft', signed: true })).toBe('\u221210.0 ft');
+    // 92.90304 m² = 1000 ft²; 28.316846592 m³ = 1000 ft³
+    expect(formatArea(92.90304, 'ft')).toBe(`1${THIN_SPACE}000 ft²`);
+    expect(formatVolume(28.316846592, 'ft')).toBe(`1${THIN_SPACE}000 ft³`);
+    expect(formatRate(30.48, 'ft')).toBe('100.0 ft/Myr');
+    const p = { p90: 30.48, p50: 60.96, p10: 91.44 };
+    const rows = rangeRows({ heightM: p, areaM2: p, volumeM3: p, cycles: [] }, 'ft');
+    expect(rows[0].p50).toBe('200.0 ft');
+    expect(rows[1].p50).toMatch(/ ft²$/);
+  });
+
+  it('the Ruler label shows feet when asked, the angle unchanged', async () => {
+    const { formatRuler } = await import('../../client/canvas/tools/ruler');
+    const r = { distanceM: 1609.344, angleDeg: 12.34, dzM: -30.48 } as Parameters<typeof formatRuler>[0];
+    expect(formatRuler(r, 'en-US', 'ft')).toBe('5,280 ft · 12.3° true · Δz −100 ft');
+    expect(formatRuler(r, 'en-US')).toBe('1,609 m · 12.3° true · Δz −30 m');
+  });
+});

@@ -12,6 +12,7 @@
  * buildups (their envelope), which is costly to prepare per pointer move, so
  * the reading then appears when the second point is placed.
  */
+import { lengthLabel, toDisplayLength, type LengthUnit } from '../../../shared/units';
 import { rulerReading, type RulerReading } from '../../../shared/measure/index';
 import type { Pt } from '../geometry';
 import { isMeasurable, toInterpretationInput, type CalibrationTie, type EditorBuildup, type VelocityModel, type VerticalDomain } from '../model';
@@ -148,9 +149,12 @@ export class RulerTool extends BaseTool {
   }
 }
 
-/** "1,234 m · 12.3° true" style label of a reading. */
-export function formatRuler(r: RulerReading, locale?: string): string {
-  const m = new Intl.NumberFormat(locale, { maximumFractionDigits: r.distanceM < 100 ? 1 : 0 });
+/** "1,234 m · 12.3° true" style label of a reading; lengths in `unit` (metres or international feet), the angle unchanged. */
+export function formatRuler(r: RulerReading, locale?: string, unit: LengthUnit = 'm'): string {
+  const dist = toDisplayLength(r.distanceM, unit);
+  const dz = toDisplayLength(r.dzM, unit);
+  const m = new Intl.NumberFormat(locale, { maximumFractionDigits: dist < 100 ? 1 : 0 });
   const d = new Intl.NumberFormat(locale, { minimumFractionDigits: 1, maximumFractionDigits: 1 });
-  return `${m.format(r.distanceM)} m · ${d.format(r.angleDeg)}° true · Δz ${r.dzM >= 0 ? '+' : '−'}${m.format(Math.abs(r.dzM))} m`;
+  const u = lengthLabel(unit);
+  return `${m.format(dist)} ${u} · ${d.format(r.angleDeg)}° true · Δz ${dz >= 0 ? '+' : '−'}${m.format(Math.abs(dz))} ${u}`;
 }
