@@ -77,8 +77,8 @@ export function formatValue(q: Quantity, v: number | null | undefined, unit: Bui
 export interface CropFigure {
   title: string;
   caption: string;
-  /** The crop (PNG), drawn `width` × `height` px. */
-  png: Buffer;
+  /** The crop (JPEG or PNG), drawn `width` × `height` px. */
+  image: Buffer;
   /** The overlay drawn over it, same size, no background. */
   overlay: string;
   width: number;
@@ -226,7 +226,7 @@ export async function writeReportPdf(input: PdfInput, file: string): Promise<{ p
     const h = f.height * scale;
     ensure(h + 30);
     const y = doc.y;
-    doc.image(f.png, MARGIN, y, { width: w, height: h });
+    doc.image(f.image, MARGIN, y, { width: w, height: h });
     SVGtoPDF(doc, f.overlay, MARGIN, y, { width: w, height: h, fontCallback: () => 'plex', preserveAspectRatio: 'none' });
     doc.rect(MARGIN, y, w, h).lineWidth(0.5).strokeColor(MUTED).stroke();
     doc.x = MARGIN;

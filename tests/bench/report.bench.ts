@@ -1,0 +1,146 @@
+/**
+ * Report benchmark: the Kestrel Knoll report PDF (with its crop PNG/SVG) as
+ * the report job makes it (server/reports/render.ts: crop composited from
+ * the tile pyramid, overlay, ECharts SVG plots, pdfkit), as a ratio to one
+ * sharp decode of the section's preview (`preview.jpg`, fits 2048 px), the
+ * floor any crop of the section pays. Goal: ratio ≤ 3. The measurement is
+ * warm (cached, as after the report page was opened); the queue's pick-up
+ * latency is printed separately and not counted.
+ *
+ * Setup (all real): a throwaway PostgreSQL cluster, the server booted on it,
+ * the invented demo sections TB-11 and TB-14 seeded at full size and tiled,
+ * Kestrel Knoll traced on TB-11 from the generator's geometry.
+ *
+ *   npx tsx tests/bench/report.bench.ts
+ */
+import crypto from 'node:crypto';
+import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import pg from 'pg';
+import sharp from 'sharp';
+import { removeCluster, startCluster } from '../../server/db/cluster';
+import { seedDemoUsers } from '../../server/db/seeders/demo';
+import { seedDemoSections } from '../../server/db/seeders/sections';
+import { seedDemoInterpretation } from '../../server/db/seeders/interpretations';
+import { boot } from '../../server/index';
+import { ctx } from '../../server/context';
+import { Section } from '../../server/models/section';
+import { Buildup } from '../../server/models/buildup';
+import { User } from '../../server/models/index';
+import { BuildupReportRow } from '../../server/models/report';
+import { fileStoreFor } from '../../server/storage/fileStore';
+import { sectionKeys } from '../../server/jobs/pyramid.job';
+import { measureBuildup } from '../../server/services/buildup.service';
+import { requestReport } from '../../server/services/report.service';
+import { renderReportFiles } from '../../server/reports/render';
+import { DEMO_SECTIONS, sectionGeometry } from '../../server/scripts/synth/demo';
+import type { BuildupGeometry } from '../../shared/editor/model';
+
+const RUNS = 3;
+const log = (s: string) => console.log(s);
+const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
+
+async function main() {
+  const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-bench-report-'));
+  fs.chmodSync(tmp, 0o755);
+  const cleanups: (() => Promise<void> | void)[] = [];
+  try {
+    const dataDir = path.join(tmp, 'pg', 'data');
+    process.env.CAYLINE_PG_FSYNC = 'off';
+    const cluster = await startCluster({ dataDir, database: 'postgres', log: () => {} });
+    cleanups.push(async () => {
+      await cluster.stop();
+      removeCluster(dataDir);
+    });
+    const dbName = `bench_${crypto.randomBytes(4).toString('hex')}`;
+    const c = new pg.Client({ connectionString: cluster.url });
+    await c.connect();
+    await c.query(`CREATE DATABASE ${dbName}`);
+    await c.end();
+    const storageDir = path.join(tmp, 'storage');
+    fs.mkdirSync(storageDir, { recursive: true });
+    const running = await boot({
+      databaseUrl: cluster.url.replace(/\/postgres$/, `/${dbName}`),
+      listen: false,
+      config: { storageDir, port: 0, bcryptCost: 4, jwtSecret: crypto.randomBytes(24).toString('hex') },
+      afterMigrate: async ({ sequelize }) => {
+        await seedDemoUsers(sequelize);
+      },
+    });
+    cleanups.push(() => running.close());
+    const deps = { sequelize: ctx().sequelize, config: running.config, log: () => {} };
+    const t0 = performance.now();
+    await seedDemoSections(deps);
+    for (;;) {
+      const rows = await Section.findAll();
+      if (rows.every((s) => s.status === 'ready')) break;
+      if (rows.some((s) => s.status === 'failed')) throw new Error('a demo section failed to tile');
+      await new Promise((r) => setTimeout(r, 250));
+    }
+    await seedDemoInterpretation(deps);
+    log(`demo sections seeded and tiled in ${((performance.now() - t0) / 1000).toFixed(1)} s`);
+
+    const def = DEMO_SECTIONS.find((d) => d.lineName === 'TB-11')!;
+    const section = (await Section.findOne({ where: { lineName: 'TB-11' } }))!;
+    const interpreter = (await User.findOne({ where: { email: 'interpreter@tessel.example' } }))!;
+    const g = sectionGeometry(def, { width: section.width, height: section.height }).pixelGeometry.buildups[0] as unknown as BuildupGeometry & { name: string };
+    const buildup = await Buildup.create({
+      sectionId: section.id,
+      name: 'Kestrel Knoll',
+      geometry: { base: g.base, cycles: g.cycles.map((cy) => ({ ...cy, systemsTract: null })), terminations: g.terminations, topIsDrowningSurface: g.topIsDrowningSurface },
+      createdById: interpreter.id,
+      updatedById: interpreter.id,
+    });
+    const actor = { id: interpreter.id, role: 'interpreter' };
+    const tm = performance.now();
+    await measureBuildup(actor, buildup.id); // warm, as after the page was opened
+    log(`section ${section.width} × ${section.height} px; measurement (1000 draws, cached afterwards) ${(performance.now() - tm).toFixed(0)} ms`);
+
+    const store = fileStoreFor(storageDir);
+    const preview = path.join(storageDir, sectionKeys(section.storageKey).pyramid, 'preview.jpg');
+    const decode: number[] = [];
+    for (let i = 0; i < 5; i++) {
+      const s = performance.now();
+      await sharp(preview).raw().toBuffer();
+      decode.push(performance.now() - s);
+    }
+
+    const render: number[] = [];
+    let last = { pdfBytes: 0, pages: 0 };
+    for (let i = 0; i < RUNS; i++) {
+      const out = fs.mkdtempSync(path.join(tmp, 'render-'));
+      const row = BuildupReportRow.build({ buildupId: buildup.id, cacheKey: 'bench', paper: 'a4', unit: 'm', stretch: 1, status: 'running', requestedById: interpreter.id });
+      const s = performance.now();
+      last = await renderReportFiles({ buildup, section, row, store, outDir: out });
+      render.push(performance.now() - s);
+    }
+
+    // end to end through the queue (pick-up latency included), for information
+    const e0 = performance.now();
+    const asked = await requestReport(actor, buildup.id, { paper: 'letter' });
+    for (;;) {
+      const r = (await BuildupReportRow.findByPk(asked.id))!;
+      if (r.status === 'ready' || r.status === 'failed') break;
+      await new Promise((res) => setTimeout(res, 50));
+    }
+    const e2e = performance.now() - e0;
+
+    const ratio = median(render) / median(decode);
+    log(`preview decode (sharp, ${(await sharp(preview).metadata()).width} px wide): median ${median(decode).toFixed(1)} ms`);
+    log(`report render (crop ×2, overlay, 5 plots, ${last.pages}-page PDF of ${(last.pdfBytes / 1024).toFixed(0)} KiB): median ${median(render).toFixed(0)} ms of ${render.map((x) => x.toFixed(0)).join(', ')}`);
+    log(`ratio report ÷ preview decode: ${ratio.toFixed(1)} (goal ≤ 3)`);
+    log(`through the job queue, request to ready: ${e2e.toFixed(0)} ms`);
+  } finally {
+    for (const f of cleanups.reverse()) await f();
+    fs.rmSync(tmp, { recursive: true, force: true });
+  }
+}
+
+main().then(
+  () => process.exit(0),
+  (err) => {
+    console.error(err);
+    process.exit(1);
+  },
+);
