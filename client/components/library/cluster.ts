@@ -50,6 +50,40 @@ export function clusterPoints<T>(points: readonly ScreenPoint<T>[], cellPx: numb
   return out;
 }
 
+/**
+ * Merge clusters whose drawn circles would overlap (centre distance below the
+ * sum of their radii plus `gapPx`), repeatedly, so no marker hides another's
+ * count. Merged clusters sit at the mean of all their members. Deterministic:
+ * the earliest pair in input order merges first.
+ */
+export function mergeOverlapping<T>(clusters: readonly Cluster<T>[], radius: (count: number) => number = clusterRadius, gapPx = 2): Cluster<T>[] {
+  const out = clusters.map((c) => ({ ...c, members: [...c.members] }));
+  let merged = true;
+  while (merged) {
+    merged = false;
+    outer: for (let i = 0; i < out.length; i++) {
+      for (let j = i + 1; j < out.length; j++) {
+        const a = out[i];
+        const b = out[j];
+        if (Math.hypot(a.x - b.x, a.y - b.y) >= radius(a.count) + radius(b.count) + gapPx) continue;
+        const members = [...a.members, ...b.members];
+        const count = a.count + b.count;
+        out[i] = {
+          key: a.key.startsWith('c:') ? a.key : `c:${a.key}`,
+          x: (a.x * a.count + b.x * b.count) / count,
+          y: (a.y * a.count + b.y * b.count) / count,
+          count,
+          members,
+        };
+        out.splice(j, 1);
+        merged = true;
+        break outer;
+      }
+    }
+  }
+  return out;
+}
+
 /** Marker radius in pixels for a cluster of `count` points (area grows with the count, capped). */
 export function clusterRadius(count: number): number {
   if (count <= 1) return 5;
