@@ -10,6 +10,7 @@
 import type { BuildupGeometry, VelocityModel } from '../../shared/editor/model';
 import type { MeasurementOutput } from '../../shared/measure/index';
 import type { BuildupSummary } from '../../shared/schemas/buildups';
+import type { ReviewState } from '../../shared/schemas/review';
 import { ApiError, apiFetch, isApiError } from './http';
 
 /** A row of `GET /api/sections/:id/buildups`: the summary plus the stored geometry. */
@@ -25,6 +26,8 @@ export interface BuildupDetail {
   version: number;
   geometry: BuildupGeometry;
   updatedAt: string;
+  /** Review state (shared/schemas/review.ts). */
+  reviewState: ReviewState;
 }
 
 /** The record the server holds when a save was refused as stale (409 `version_conflict`). */
@@ -88,8 +91,9 @@ export async function saveBuildup(id: number, body: SaveBuildupBody): Promise<Sa
   try {
     return await apiFetch<SaveBuildupResult>(`/buildups/${id}`, { method: 'PUT', body });
   } catch (e) {
-    // Normalise a 409 whatever the body looked like, so callers can rely on the code.
-    if (isApiError(e) && e.status === 409 && e.code !== 'version_conflict') {
+    // Normalise a 409 whatever the body looked like, so callers can rely on the code
+    // (a signed-off buildup's 409 `signed_off` keeps its own code and message).
+    if (isApiError(e) && e.status === 409 && e.code !== 'version_conflict' && e.code !== 'signed_off') {
       throw new ApiError(409, 'version_conflict', e.message, e.details, e.retryAfter);
     }
     throw e;

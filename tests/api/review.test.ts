@@ -14,6 +14,7 @@ import { bearer, createTestApp, type DemoRole, type TestApp } from '../helpers/a
 import { SMALL_GEOMETRY, SMALL_TIES, signIn } from '../helpers/api-fixtures';
 import { Section, SectionCalibration } from '../../server/models/section';
 import { AuditEvent } from '../../server/models/index';
+import { Notification } from '../../server/models/notification';
 import { measure } from '../../shared/measure/index';
 import { fromGeometry, toInterpretationInput, type BuildupGeometry } from '../../shared/editor/model';
 import { DEFAULT_VELOCITY } from '../../shared/schemas/buildups';
@@ -241,6 +242,24 @@ describe('review state machine', () => {
     expect(one.body.reviewState).toBe('needs_rework');
     const audits = await AuditEvent.findAll({ where: { action: 'buildup.review', targetId: String(b.id) }, order: [['id', 'ASC']] });
     expect(audits.map((a) => (a.details as { to: string }).to)).toEqual(['out_for_review', 'needs_rework']);
+  });
+
+  it('every transition tells the authors and earlier reviewers (never the actor), with a link to the buildup', async () => {
+    const b = await buildupIn(sectionId, 'draft');
+    const told = async (who: DemoRole) =>
+      (await Notification.findAll({ where: { recipientId: ids[who], kind: 'review_state' }, order: [['id', 'ASC']] })).filter((n) => n.link === `/sections/${sectionId}/interpret?buildup=${b.id}`);
+    const before = { interpreter: (await told('interpreter')).length, reviewer: (await told('reviewer')).length, admin: (await told('admin')).length };
+    expect((await move(b.id, 'draft', 'out_for_review', 'interpreter')).status).toBe(200); // the only author acts: nobody to tell
+    expect((await told('interpreter')).length).toBe(before.interpreter);
+    expect((await move(b.id, 'out_for_review', 'needs_rework', 'reviewer', { comment: 'Base too shallow at the left margin' })).status).toBe(200);
+    const rework = (await told('interpreter')).at(-1)!;
+    expect((await told('interpreter')).length).toBe(before.interpreter + 1);
+    expect(rework.subject).toContain('Needs rework');
+    expect(rework.text).toBe('Base too shallow at the left margin');
+    expect(rework.actorId).toBe(ids.reviewer);
+    expect((await save(b.id, b.version, SMALL_GEOMETRY)).status).toBe(200); // back to Draft by the save: the reviewer hears of it
+    expect((await told('reviewer')).length).toBe(before.reviewer + 1);
+    expect((await told('admin')).length).toBe(before.admin); // neither author nor reviewer of this one
   });
 
   it('racing transitions: exactly one wins, the other gets 409 state_changed', async () => {
