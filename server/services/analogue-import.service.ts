@@ -9,7 +9,7 @@ import { QueryTypes } from 'sequelize';
 import { ctx } from '../context';
 import { AppError } from '../middlewares/errors';
 import { audit } from './audit.service';
-import { handColumns, insertRow, readLists, searchAll, toSummary, type Actor } from './analogue.service';
+import { handColumns, insertRow, readLists, searchAll, toSummary, write, type Actor } from './analogue.service';
 import { icsUnit } from '../../shared/ics-chart';
 import { isSafeText } from '../../shared/schemas/text';
 import {
@@ -293,7 +293,7 @@ export async function runImport(actor: Actor, buf: Buffer, mapping: ImportMappin
   if (report.fileProblems.length) throw new AppError(422, 'import_has_errors', `file: ${report.fileProblems.map((p) => p.message).join('; ')}`, report);
   if (mode === 'all' && report.problems.length)
     throw new AppError(422, 'import_has_errors', `${report.badRows} of ${report.rowCount} rows have problems; nothing was imported (fix them, or import the good rows only)`, report);
-  const ids = await db().transaction(async (transaction) => {
+  const ids = await write(async (transaction) => {
     const ids: number[] = [];
     for (const g of good) ids.push(await insertRow(handColumns(g.input, 'import', actor.id), transaction));
     await audit(actor.id, 'analogue.import', 'analogue', null, { imported: ids.length, skippedRows: report.badRows, mode }, transaction);

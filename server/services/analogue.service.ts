@@ -69,6 +69,15 @@ export interface Actor {
 const db = () => ctx().sequelize;
 const store = () => fileStoreFor(ctx().config.storageDir);
 
+/** A change to the library: one transaction; afterwards this process reads the library generation again. */
+export async function write<T>(fn: (transaction: Transaction) => Promise<T>): Promise<T> {
+  try {
+    return await db().transaction(fn);
+  } finally {
+    forgetGeneration();
+  }
+}
+
 export const isCurator = (a: Actor) => a.role === 'curator' || a.role === 'admin';
 
 /** Metric key → column. */
@@ -279,7 +288,7 @@ export function convertFromFeet(k: MetricKey, v: number): number {
 
 export async function createByHand(actor: Actor, v: HandEntryInput): Promise<AnalogueDetail> {
   checkIcs(v.icsUnit);
-  const id = await db().transaction(async (transaction) => {
+  const id = await write(async (transaction) => {
     await checkLists(v, transaction);
     const id = await insertRow(handColumns(v, 'hand', actor.id), transaction);
     await audit(actor.id, 'analogue.create', 'analogue', id, { name: v.name, source: 'hand' }, transaction);
@@ -378,7 +387,7 @@ export async function promote(actor: Actor, buildupId: number, v: PromoteInput):
   for (const k of METRIC_KEYS) cols[METRIC_COLUMN[k]] = metrics[k] ?? null;
   let id: number;
   try {
-    id = await db().transaction(async (transaction) => {
+    id = await write(async (transaction) => {
       const id = await insertRow(cols, transaction);
       await audit(actor.id, pending ? 'analogue.request' : 'analogue.promote', 'analogue', id, { buildupId, buildupVersion: record.version }, transaction);
       return id;
@@ -392,7 +401,7 @@ export async function promote(actor: Actor, buildupId: number, v: PromoteInput):
 
 /** Pending → accepted or declined (curators and admins). */
 export async function decide(actor: Actor, id: number, accept: boolean, reason?: string): Promise<AnalogueDetail> {
-  await db().transaction(async (transaction) => {
+  await write(async (transaction) => {
     const r = await rowById(id, transaction);
     if (r.status !== 'pending') throw new AppError(409, 'not_pending', `The analogue is ${r.status}, not waiting for a decision`);
     await db().query(`UPDATE analogues SET status = $2, decided_by_id = $3, decline_reason = $4, version = version + 1, updated_at = now() WHERE id = $1`, {
@@ -407,7 +416,7 @@ export async function decide(actor: Actor, id: number, accept: boolean, reason?:
 /** Change tags, numbers, citation, profile or the curator's class override, with optimistic locking. */
 export async function updateAnalogue(actor: Actor, id: number, v: AnalogueUpdateInput): Promise<AnalogueDetail> {
   checkIcs(v.icsUnit);
-  await db().transaction(async (transaction) => {
+  await write(async (transaction) => {
     const r = await rowById(id, transaction);
     if (r.version !== v.version) throw new AppError(409, 'version_conflict', `The analogue was changed by someone else (version ${r.version}, yours ${v.version}); reload it`, { current: await toDetail(r) });
     await checkLists(v, transaction);
@@ -452,7 +461,7 @@ export async function updateAnalogue(actor: Actor, id: number, v: AnalogueUpdate
 
 export async function deleteAnalogue(actor: Actor, id: number) {
   let cropKey: string | null = null;
-  await db().transaction(async (transaction) => {
+  await write(async (transaction) => {
     const r = await rowById(id, transaction);
     cropKey = r.crop_key;
     await db().query('DELETE FROM analogues WHERE id = $1', { bind: [id], transaction });
@@ -493,7 +502,7 @@ export async function readLists(transaction?: Transaction): Promise<ControlledLi
 }
 
 export async function addListItem(actor: Actor, list: ListName, v: ListItemInput): Promise<ListItem> {
-  await db().transaction(async (transaction) => {
+  await write(async (transaction) => {
     const [exists] = await db().query('SELECT 1 FROM analogue_lists WHERE list = $1 AND value = $2', { bind: [list, v.value], type: QueryTypes.SELECT, transaction });
     if (exists) throw invalid(409, 'list_value_exists', 'value', `"${v.value}" is already in the ${list} list`);
     await db().query('INSERT INTO analogue_lists (list, value, label, position) VALUES ($1::varchar, $2, $3, (SELECT coalesce(max(position), 0) + 1 FROM analogue_lists WHERE list = $1::varchar))', {
@@ -506,7 +515,7 @@ export async function addListItem(actor: Actor, list: ListName, v: ListItemInput
 }
 
 export async function removeListItem(actor: Actor, list: ListName, value: string) {
-  await db().transaction(async (transaction) => {
+  await write(async (transaction) => {
     const [row] = await db().query('SELECT 1 FROM analogue_lists WHERE list = $1 AND value = $2', { bind: [list, value], type: QueryTypes.SELECT, transaction });
     if (!row) throw notFound('List value');
     const [{ n }] = await db().query<{ n: number }>(`SELECT count(*)::int AS n FROM analogues WHERE ${list} = $1`, { bind: [value], type: QueryTypes.SELECT, transaction });
@@ -526,7 +535,7 @@ export async function listSavedSearches(actor: Actor): Promise<SavedSearch[]> {
 }
 
 export async function saveSearch(actor: Actor, v: SavedSearchInput): Promise<SavedSearch> {
-  const id = await db().transaction(async (transaction) => {
+  const id = await write(async (transaction) => {
     const [rows] = (await db().query('INSERT INTO analogue_saved_searches (user_id, name, query) VALUES ($1, $2, $3) RETURNING id', { bind: [actor.id, v.name, v.query], transaction })) as [{ id: number }[], unknown];
     await audit(actor.id, 'analogue.search.save', 'analogue_saved_search', rows[0].id, { name: v.name }, transaction);
     return rows[0].id;
@@ -535,7 +544,7 @@ export async function saveSearch(actor: Actor, v: SavedSearchInput): Promise<Sav
 }
 
 export async function deleteSavedSearch(actor: Actor, id: number) {
-  await db().transaction(async (transaction) => {
+  await write(async (transaction) => {
     const [rows] = (await db().query('DELETE FROM analogue_saved_searches WHERE id = $1 AND user_id = $2 RETURNING id', { bind: [id, actor.id], transaction })) as [unknown[], unknown];
     if (!rows.length) throw notFound('Saved search');
     await audit(actor.id, 'analogue.search.delete', 'analogue_saved_search', id, null, transaction);
@@ -656,9 +665,27 @@ async function facetCounts(q: AnalogueSearchQuery): Promise<{ facets: Partial<Re
 
 const searchCache = new LRUCache<string, AnalogueSearchResponse>({ max: 500 });
 
+/**
+ * How long this process trusts the library generation it last read. Changes
+ * made in this process forget it at once (`forgetGeneration`); a change made
+ * by another server process shows in this one's cached searches within this
+ * many milliseconds.
+ */
+export const GENERATION_TTL_MS = 1000;
+let known: { g: string; at: number } | null = null;
+
+/** After a change commits in this process: read the generation again on the next search. */
+export function forgetGeneration() {
+  known = null;
+  searchCache.clear();
+}
+
 async function generation(): Promise<string> {
+  if (known && Date.now() - known.at < GENERATION_TTL_MS) return known.g;
+  const at = Date.now();
   const [r] = await db().query<{ g: string }>('SELECT generation::text AS g FROM analogue_library_state WHERE id = 1', { type: QueryTypes.SELECT });
-  return r?.g ?? '0';
+  known = { g: r?.g ?? '0', at };
+  return known.g;
 }
 
 export async function search(_actor: Actor, q: AnalogueSearchQuery): Promise<AnalogueSearchResponse> {
@@ -704,6 +731,7 @@ export { toSummary };
 type LookAlikesInput = z.output<typeof lookAlikesSchema>;
 
 const sdCache = new LRUCache<string, number[]>({ max: 4 });
+const countCache = new LRUCache<string, { compared: number; skipped: number }>({ max: 200 });
 
 /** Population standard deviation of every metric (Look-alikes space) over the accepted library, cached per library generation. */
 async function librarySds(): Promise<number[]> {
@@ -729,7 +757,7 @@ async function librarySds(): Promise<number[]> {
  *
  * Metrics: one sequential scan in SQL over the precomputed `metric_vec`
  * array (no per-row JSON), top k by distance. Shape: a nearest-neighbour scan
- * of the GiST index on `shape_cube` (the `cube` extension's `<->`, Euclidean).
+ * of the GiST index on `cube(shape)` (the `cube` extension's `<->`, Euclidean).
  */
 export async function lookAlikes(actor: Actor, v: LookAlikesInput): Promise<LookAlikesResponse> {
   let qMetrics: Metrics;
@@ -777,10 +805,10 @@ export async function lookAlikes(actor: Actor, v: LookAlikesInput): Promise<Look
     method = `Weighted Euclidean distance of z-scores over the accepted library (standard deviations ${metricInfo.map((m) => `${m.key} ${m.sd.toPrecision(3)}${m.log ? ' in log10' : ''}`).join(', ')}).`;
   } else {
     if (!qShape) throw invalid(422, 'query_lacks_profile', 'from', `${qName} has no depth profile to compare`);
-    usable = 'shape_cube IS NOT NULL';
-    // nearest neighbours on the GiST index of the shape cube: Euclidean distance, divided by √N below
+    usable = 'shape IS NOT NULL';
+    // nearest neighbours on the GiST index on cube(shape): Euclidean distance, divided by √N below
     const qc = b.add(qShape);
-    const rows = await db().query<{ id: number; d: number }>(`SELECT id, shape_cube <-> cube(${qc}::float8[]) AS d FROM analogues WHERE ${where_} AND ${usable} ORDER BY shape_cube <-> cube(${qc}::float8[]), id LIMIT ${v.k}`, {
+    const rows = await db().query<{ id: number; d: number }>(`SELECT id, cube(shape) <-> cube(${qc}::float8[]) AS d FROM analogues WHERE ${where_} AND ${usable} ORDER BY cube(shape) <-> cube(${qc}::float8[]), id LIMIT ${v.k}`, {
       bind: b.values,
       type: QueryTypes.SELECT,
     });
@@ -790,10 +818,14 @@ export async function lookAlikes(actor: Actor, v: LookAlikesInput): Promise<Look
   const cb = new Binds();
   const cw = [whereOf(filter, cb)];
   if (selfId != null) cw.push(`id <> ${cb.add(selfId)}`);
-  const [cnt] = await db().query<{ compared: number; skipped: number }>(
-    `SELECT count(*) FILTER (WHERE ${usable})::int AS compared, count(*) FILTER (WHERE NOT (${usable}))::int AS skipped FROM analogues WHERE ${cw.join(' AND ')}`,
-    { bind: cb.values, type: QueryTypes.SELECT },
-  );
+  const countSql = `SELECT count(*) FILTER (WHERE ${usable})::int AS compared, count(*) FILTER (WHERE NOT (${usable}))::int AS skipped FROM analogues WHERE ${cw.join(' AND ')}`;
+  // the counts need a full scan: kept per library generation and statement
+  const countKey = `${await generation()}|${countSql}|${JSON.stringify(cb.values)}`;
+  let cnt = countCache.get(countKey);
+  if (!cnt) {
+    [cnt] = await db().query<{ compared: number; skipped: number }>(countSql, { bind: cb.values, type: QueryTypes.SELECT });
+    countCache.set(countKey, cnt);
+  }
   const ids = top.map((t) => t.id);
   const rows = ids.length ? await db().query<Row>(`SELECT ${SUMMARY_COLUMNS}, shape FROM analogues WHERE id = ANY($1::int[])`, { bind: [ids], type: QueryTypes.SELECT }) : [];
   const byId = new Map(rows.map((r) => [r.id, r]));

@@ -42,7 +42,7 @@ function entry(name: string, over: Partial<HandEntryInput> = {}): HandEntryInput
   } as HandEntryInput;
 }
 
-async function add(token: string, body: unknown) {
+async function add(token: string, body: object) {
   const r = await request(t.app).post('/api/analogues').set(bearer(token)).send(body);
   expect(r.status, JSON.stringify(r.body)).toBe(201);
   return r.body;

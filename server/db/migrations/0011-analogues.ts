@@ -13,11 +13,11 @@
  *   spans decades) is precomputed on write: Look-alikes by metrics is one
  *   sequential scan computing the weighted z-score distance per row in SQL
  *   (no per-row JSON), top k by a heap sort;
- * - `shape` (float8[SHAPE_SAMPLES], the normalised profile) is mirrored into a
- *   generated `shape_cube` column (the `cube` extension that Debian's
- *   postgresql-15 package ships, marked trusted so a database owner may create
- *   it) with a GiST index: Look-alikes by shape is a nearest-neighbour index
- *   scan on the Euclidean distance `<->`.
+ * - `shape` (float8[SHAPE_SAMPLES], the normalised profile) has a GiST index on
+ *   `cube(shape)` (the `cube` extension that Debian's postgresql-15 package
+ *   ships, marked trusted so a database owner may create it): Look-alikes by
+ *   shape is a nearest-neighbour index scan on the Euclidean distance `<->`,
+ *   reading the heap only for the k rows it returns.
  */
 import type { MigrationContext } from '../migrate';
 
@@ -96,8 +96,11 @@ export async function up({ sequelize }: MigrationContext) {
     ) STORED
   )`);
   await q('CREATE EXTENSION IF NOT EXISTS cube');
-  await q(`ALTER TABLE analogues ADD COLUMN shape_cube cube GENERATED ALWAYS AS (cube(shape)) STORED`);
-  await q(`CREATE INDEX analogues_shape_cube_idx ON analogues USING gist (shape_cube)`);
+  await q(`CREATE INDEX analogues_shape_cube_idx ON analogues USING gist (cube(shape))`);
+  // keep the heap narrow for the scans of search and Look-alikes: the shape arrays (≈ 0.5 kB each), profile,
+  // snapshot and ranges live out of line (TOAST) once a row passes 256 bytes; metric_vec stays inline
+  await q(`ALTER TABLE analogues SET (toast_tuple_target = 256)`);
+  for (const c of ['shape', 'profile', 'snapshot', 'ranges', 'citation']) await q(`ALTER TABLE analogues ALTER COLUMN ${c} SET STORAGE EXTERNAL`);
   for (const c of ['status', 'setting', 'factory', 'climate', 'class', 'period', 'age_ma', 'latitude', 'longitude', 'year', 'updated_at', 'buildup_id', ...METRIC_COLUMNS])
     await q(`CREATE INDEX analogues_${c}_idx ON analogues (${c})`);
   await q(`CREATE INDEX analogues_lower_name_idx ON analogues (lower(name))`);
