@@ -114,7 +114,13 @@ export function useDiscussion(o: Options) {
   function choose(id: number | null, centre = true): void {
     selectedId.value = id;
     pending.value = null;
-    if (id === null) return;
+    if (id === null) {
+      if (route.query.thread !== undefined) {
+        const { thread: _gone, ...rest } = route.query;
+        void router.replace({ query: rest });
+      }
+      return;
+    }
     const pin = pins.value.find((p) => p.id === id);
     if (pin && centre) o.centerOn(pin.at);
     const t = threads.value.find((x) => x.id === id);

@@ -10,6 +10,8 @@ import { anchorPositionInEditor, anchorPositionInGeometry, midAlong } from '../.
 import { fromGeometry, toGeometry, type BuildupGeometry, type EditorBuildup } from '../../../shared/editor/model';
 import { saveBuildupSchema } from '../../../shared/schemas/buildups';
 import { mentionedIn } from '../../../client/components/discussion/mentions';
+import { livePosition } from '../../../client/components/discussion/useDiscussion';
+import type { NoteThreadView } from '../../../shared/schemas/notes';
 
 const pin = (id: number, u: number, v: number) => ({ id, number: id, at: [u, v] as [number, number] });
 
@@ -180,5 +182,43 @@ describe('mentionedIn', () => {
     expect(mentionedIn('@Ana Reef please look, and @Bo Lagoon too', people).sort()).toEqual([2, 3]);
     expect(mentionedIn('@Ana and @Ana Reef', people).sort()).toEqual([1, 2]);
     expect(mentionedIn('Ana without the at sign', people)).toEqual([]);
+  });
+});
+
+describe('livePosition (where the browser draws a pin)', () => {
+  const geometry: BuildupGeometry = {
+    base: [[0, 100], [200, 100]],
+    cycles: [{ index: 1, top: [[20, 80], [180, 80]], marginLeft: [20, 80], marginRight: [180, 80] }],
+    terminations: [],
+    topIsDrowningSurface: false,
+  };
+  const thread = (over: Partial<NoteThreadView> = {}): NoteThreadView => ({
+    id: 1,
+    sectionId: 1,
+    number: 1,
+    anchor: { kind: 'object', buildupId: 7, object: 'marginRight', cycleId: 'c1', terminationId: null, buildupName: 'Kestrel Knoll' },
+    at: [180, 80],
+    objectRemoved: false,
+    resolved: false,
+    resolvedAt: null,
+    resolvedBy: null,
+    createdBy: null,
+    createdAt: '',
+    updatedAt: '',
+    messages: [],
+    ...over,
+  });
+
+  it('follows the object in the editor before it is saved', () => {
+    const b = fromGeometry({ id: 7, name: 'Kestrel Knoll', version: 1, geometry });
+    const moved = { ...b, cycles: [{ ...b.cycles[0], marginRight: [170, 82] as [number, number] }] };
+    expect(livePosition(thread(), [moved])).toEqual({ at: [170, 82], removed: false });
+  });
+
+  it('keeps the server position when the object is not in the editor, or was removed', () => {
+    const b = fromGeometry({ id: 7, name: 'Kestrel Knoll', version: 1, geometry });
+    expect(livePosition(thread(), [{ ...b, cycles: [] }])).toEqual({ at: [180, 80], removed: false });
+    expect(livePosition(thread({ objectRemoved: true, at: [150, 90] }), [b])).toEqual({ at: [150, 90], removed: true });
+    expect(livePosition(thread({ anchor: { kind: 'point' }, at: [5, 6] }), [b])).toEqual({ at: [5, 6], removed: false });
   });
 });
