@@ -23,6 +23,7 @@ import { seedDemoSections } from '../../server/db/seeders/sections';
 import { seedDemoInterpretation } from '../../server/db/seeders/interpretations';
 import { DEMO_SECTIONS, sectionGeometry } from '../../server/scripts/synth/demo';
 import { BuildupReportRow } from '../../server/models/report';
+import { Buildup } from '../../server/models/buildup';
 import { recoverReports } from '../../server/jobs/report.job';
 import { CAUTION, type MeasurementOutput } from '../../shared/measure/index';
 import { ROOT_DIR } from '../../server/config';
@@ -138,6 +139,34 @@ describe('report data', () => {
     expect(s2.ve).toBeCloseTo(2 * r.body.crop.intrinsicVE, 9);
     expect(s2.trueScaleStretch * s2.intrinsicVE).toBeCloseTo(1, 12);
   });
+
+  it('follows the person’s length unit unless the query names one', async () => {
+    const curator = await t.token('curator');
+    const pref = await request(t.app).put('/api/me/preferences').set(bearer(curator)).send({ lengthUnit: 'ft' });
+    expect(pref.status, JSON.stringify(pref.body)).toBe(200);
+    const r = await request(t.app).get(`/api/buildups/${knollId}/report`).set(bearer(curator));
+    expect(r.body.unit).toBe('ft');
+    const csv = await request(t.app).get(`/api/buildups/${knollId}/export/csv`).set(bearer(curator));
+    expect(csv.text.split('\r\n')[0]).toContain('Top width (ft)');
+    const asked = await request(t.app).get(`/api/buildups/${knollId}/report?unit=m`).set(bearer(curator));
+    expect(asked.body.unit).toBe('m');
+  });
+
+  it('shows who signed off, when and which version in the title block', async () => {
+    const reviewer = await request(t.app).get('/api/auth/me').set(bearer(await t.token('reviewer')));
+    const at = new Date('2026-11-30T10:00:00Z');
+    const row = (await Buildup.findByPk(bankId))!;
+    await Buildup.update({ reviewState: 'signed_off', signedOffById: reviewer.body.id ?? reviewer.body.user?.id, signedOffAt: at, signedOffVersion: row.version }, { where: { id: bankId } });
+    try {
+      const r = await get(`/api/buildups/${bankId}/report`);
+      expect(r.body.title).toMatchObject({ reviewState: 'signed_off', reviewStateLabel: 'Signed off', signedOffAt: at.toISOString(), signedOffVersion: row.version });
+      expect(r.body.title.signedOffBy).toBeTruthy();
+      const pdf = await pdfOf(bankId, 'a4');
+      expect(pdftotext(pdf.file).replace(/\s+/g, ' ')).toContain(`Signed off, by ${r.body.title.signedOffBy} on 2026-11-30 (version ${row.version})`);
+    } finally {
+      await Buildup.update({ reviewState: 'draft', signedOffById: null, signedOffAt: null, signedOffVersion: null }, { where: { id: bankId } });
+    }
+  }, 90_000);
 
   it('refuses a bad unit or stretch naming the field', async () => {
     const a = await get(`/api/buildups/${knollId}/report?unit=yd`);
