@@ -201,6 +201,25 @@ export async function recoverReports(): Promise<{ requeued: number[]; failed: nu
   return out;
 }
 
+/** Report folders no row refers to (a deleted buildup's, whose rows went with it) go after this long. */
+export const REPORT_LEFTOVER_AGE_MS = 60 * 60 * 1000;
+
+/** Remove `reports/<key>` folders without a row, when older than REPORT_LEFTOVER_AGE_MS (a folder being published has its row). */
+export async function sweepReportFolders(now = Date.now()): Promise<string[]> {
+  if (!deps) return [];
+  const { store } = deps;
+  const old = (await store.list('reports')).filter((e) => now - e.modifiedAt.getTime() > REPORT_LEFTOVER_AGE_MS);
+  if (!old.length) return [];
+  const known = new Set((await BuildupReportRow.findAll({ attributes: ['cacheKey'], where: { cacheKey: { [Op.in]: old.map((e) => e.name) } } })).map((r) => r.cacheKey));
+  const gone: string[] = [];
+  for (const e of old) {
+    if (known.has(e.name) || !/^[0-9a-f]{64}$/.test(e.name)) continue;
+    await store.removePrefix(`reports/${e.name}`);
+    gone.push(e.name);
+  }
+  return gone;
+}
+
 /** Create the queue, run a worker (unless disabled) and resume dead processes' reports. Called by startBackgroundJobs. */
 export async function startReportJobs(d: Omit<Deps, 'workerIds'>): Promise<{ stop(): void }> {
   await d.boss.createQueue(REPORT_QUEUE);
@@ -213,6 +232,7 @@ export async function startReportJobs(d: Omit<Deps, 'workerIds'>): Promise<{ sto
     mine.workerIds.push(id);
   }
   await recoverReports().catch((err) => logger.warn({ err }, 'resuming reports failed'));
+  await sweepReportFolders().catch((err) => logger.warn({ err }, 'sweeping report folders failed'));
   return {
     stop() {
       if (deps === mine) deps = null;

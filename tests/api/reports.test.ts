@@ -424,3 +424,23 @@ describe('PDF, PNG and SVG through the report job', () => {
     expect(fs.readdirSync(path.join(t.storageDir, 'tmp')).filter((n) => n.startsWith('report-'))).toEqual([]);
   }, 120_000);
 });
+
+describe('report folders', () => {
+  it('a folder no row refers to goes after an hour; a young one or one with a row stays', async () => {
+    const { sweepReportFolders, REPORT_LEFTOVER_AGE_MS } = await import('../../server/jobs/report.job');
+    const orphan = 'a'.repeat(64);
+    const young = 'b'.repeat(64);
+    for (const k of [orphan, young]) {
+      fs.mkdirSync(path.join(t.storageDir, 'reports', k), { recursive: true });
+      fs.writeFileSync(path.join(t.storageDir, 'reports', k, 'report.pdf'), '%PDF-leftover');
+    }
+    const past = new Date(Date.now() - REPORT_LEFTOVER_AGE_MS - 60_000);
+    fs.utimesSync(path.join(t.storageDir, 'reports', orphan), past, past);
+    const kept = (await BuildupReportRow.findByPk((await pdfOf(bankId, 'letter')).status.id))!;
+    fs.utimesSync(path.join(t.storageDir, 'reports', kept.cacheKey), past, past);
+    const gone = await sweepReportFolders();
+    expect(gone).toEqual([orphan]);
+    expect(fs.existsSync(path.join(t.storageDir, 'reports', young))).toBe(true);
+    expect(fs.existsSync(path.join(t.storageDir, 'reports', kept.cacheKey, 'report.pdf'))).toBe(true);
+  }, 60_000);
+});
