@@ -97,10 +97,12 @@ export async function up({ sequelize }: MigrationContext) {
   )`);
   await q('CREATE EXTENSION IF NOT EXISTS cube');
   await q(`CREATE INDEX analogues_shape_cube_idx ON analogues USING gist (cube(shape))`);
-  // keep the heap narrow for the scans of search and Look-alikes: the shape arrays (≈ 0.5 kB each), profile,
-  // snapshot and ranges live out of line (TOAST) once a row passes 256 bytes; metric_vec stays inline
+  // keep the heap narrow for the scans of search and Look-alikes: the shape array (≈ 0.5 kB), profile,
+  // snapshot, ranges and citation live out of line (TOAST) once a row passes 256 bytes…
   await q(`ALTER TABLE analogues SET (toast_tuple_target = 256)`);
   for (const c of ['shape', 'profile', 'snapshot', 'ranges', 'citation']) await q(`ALTER TABLE analogues ALTER COLUMN ${c} SET STORAGE EXTERNAL`);
+  // …while the small arrays every scan reads stay inline and uncompressed (no detoasting per row)
+  for (const c of ['metric_vec', 'tags']) await q(`ALTER TABLE analogues ALTER COLUMN ${c} SET STORAGE PLAIN`);
   for (const c of ['status', 'setting', 'factory', 'climate', 'class', 'period', 'age_ma', 'latitude', 'longitude', 'year', 'updated_at', 'buildup_id', ...METRIC_COLUMNS])
     await q(`CREATE INDEX analogues_${c}_idx ON analogues (${c})`);
   await q(`CREATE INDEX analogues_lower_name_idx ON analogues (lower(name))`);
