@@ -90,6 +90,12 @@ export const router = createRouter({
           meta: { roles: ['curator', 'admin'], title: 'Import analogues' },
         },
         {
+          path: 'library/new',
+          name: 'analogue-new',
+          component: () => import('../pages/AnalogueNewPage.vue'),
+          meta: { roles: ['curator', 'admin'], title: 'Add an analogue' },
+        },
+        {
           path: 'library/look-alikes',
           name: 'look-alikes',
           component: () => import('../pages/LookAlikesPage.vue'),

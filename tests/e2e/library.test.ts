@@ -175,6 +175,13 @@ describe('Analogue library in the browser', () => {
     expect(await page.locator(`[data-test="library-row-${analogueId}"]`).count()).toBe(1);
     await curatorBrowser.shot('64-library-search-tag');
 
+    // Saved as a named search, it comes back from the list of saved searches.
+    await page.click('[data-test="saved-searches"]');
+    await page.fill('[data-test="saved-search-name"]', 'Onlapped tops');
+    await page.click('[data-test="saved-search-save"]');
+    await page.locator('[data-test="saved-searches-panel"] li', { hasText: 'Onlapped tops' }).waitFor();
+    await page.keyboard.press('Escape');
+
     // Map of the same search.
     await page.click('[data-test="view-map"]');
     await page.waitForURL(/view=map/);
@@ -227,6 +234,74 @@ describe('Analogue library in the browser', () => {
     await curatorBrowser.shot('67-library-crossplot');
   });
 
+  it('the curator imports a CSV: the report names the bad rows and only the good ones go in', async () => {
+    const page = curatorBrowser.page;
+    await page.goto('/library');
+    await page.click('[data-test="saved-searches"]');
+    await page.locator('[data-test="saved-searches-panel"] a', { hasText: 'Onlapped tops' }).click();
+    await page.waitForURL(/tags=onlapped-top/);
+    await page.keyboard.press('Escape');
+
+    await page.click('[data-test="library-import"]');
+    await page.waitForURL(/\/library\/import$/);
+    // Invented rows: one good, then a word for a number, an unknown setting and feet in a metre column.
+    const csv = [
+      'Name,Setting,Height (m),Base width (m),Latitude,Longitude,Tags',
+      'Harl Tor TB-X1,pinnacle,210,3400,-31.2,70.1,csv-batch',
+      'Vessick Mound TB-X2,bank,tall,5200,-31.5,70.4,csv-batch',
+      'Orrin Rise TB-X3,lagoon-shelf,150,2100,-31.8,70.9,csv-batch',
+      'Tamsel Bank TB-X4,bank,95 ft,2600,-32.0,71.2,csv-batch',
+    ].join('\n');
+    await page.setInputFiles('[data-test="import-file-input"]', { name: 'tessel-analogues.csv', mimeType: 'text/csv', buffer: Buffer.from(csv) });
+    await page.waitForSelector('[data-test="import-mapping"]');
+    await page.click('[data-test="import-check"]');
+    await page.waitForSelector('[data-test="import-report"]');
+    expect(await page.textContent('[data-test="import-good"]')).toContain('1 good');
+    expect(await page.textContent('[data-test="import-bad"]')).toContain('3 bad');
+    const problems = await page.locator('[data-test="import-problems"] tbody tr').allTextContents();
+    expect(problems.join('\n')).toMatch(/not a number/);
+    expect(problems.join('\n')).toMatch(/unknown tag/);
+    expect(problems.join('\n')).toMatch(/wrong unit/);
+    expect(await page.locator('[data-test="import-all"]').isDisabled()).toBe(true);
+    await curatorBrowser.shot('67b-library-import-report');
+    await page.click('[data-test="import-good-only"]');
+    await page.waitForSelector('[data-test="import-result"]');
+    expect(await page.textContent('[data-test="import-result"]')).toContain('1 analogue added');
+    const found = await request(t.app).get('/api/analogues?tags=csv-batch').set(bearer(await t.token('curator')));
+    expect(found.body.items.map((a: { name: string }) => a.name)).toEqual(['Harl Tor TB-X1']);
+  });
+
+  it('the curator enters an analogue from a publication; a missing field is named', async () => {
+    const page = curatorBrowser.page;
+    await page.goto('/library');
+    await page.waitForSelector('[data-test="signin-email"], [data-test="library-total"]');
+    if (page.url().includes('/sign-in')) await signIn(page, 'curator@tessel.example'); // when run alone (-t)
+    await page.goto('/library');
+    await page.click('[data-test="library-new"]');
+    await page.waitForURL(/\/library\/new$/);
+    await page.fill('[data-test="hand-name"]', 'Quillon Bank TB-P1');
+    await page.fill('[data-test="hand-authors"]', 'Arvane, T.; Selk, M.');
+    await page.fill('[data-test="hand-title"]', 'Seismic expression of drowned banks in the Tessel Basin');
+    await page.fill('[data-test="hand-metric-heightM"] input', '820');
+    await page.fill('[data-test="hand-metric-baseWidthM"] input', '9800');
+    await page.click('[data-test="hand-save"]');
+    await page.waitForSelector('[data-test="hand-entry-error"]');
+    expect(await page.textContent('[data-test="hand-entry-error"]')).toContain('citation.year');
+    await page.fill('[data-test="hand-year"] input', '2019');
+    await page.locator('[data-test="hand-basis"] label', { hasText: 'in time' }).click();
+    await page.click('[data-test="hand-save"]');
+    await page.waitForSelector('[data-test="hand-entry-error"]');
+    expect(await page.textContent('[data-test="hand-entry-error"]')).toContain('basisVelocityMs');
+    await page.fill('[data-test="hand-velocity"] input', '4200');
+    await page.locator('[data-test="hand-velocity"] input').press('Tab');
+    await curatorBrowser.shot('68-library-hand-entry');
+    await page.click('[data-test="hand-save"]');
+    await page.waitForURL(/\/library\/\d+$/);
+    expect(await page.textContent('[data-test="analogue-name"]')).toBe('Quillon Bank TB-P1');
+    expect(await page.textContent('[data-test="analogue-citation"]')).toContain('Arvane, T.; Selk, M. (2019)');
+    expect(await page.textContent('[data-test="metric-heightM"]')).toContain('820');
+  });
+
   it('the interpreter opens the Look-alikes of Marrow Bank from its Readings', async () => {
     interpreterBrowser = await openBrowser(t.running.url);
     const page = interpreterBrowser.page;
@@ -250,7 +325,7 @@ describe('Analogue library in the browser', () => {
     expect([...values].sort((a, b) => a - b)).toEqual(values); // nearest first
     await page.waitForSelector('[data-test="look-alikes-crossplot"]');
     await page.waitForTimeout(400);
-    await interpreterBrowser.shot('68-look-alikes-metrics');
+    await interpreterBrowser.shot('69-look-alikes-metrics');
 
     // By shape, five of them.
     await page.click('[data-test="mode-shape"]');
@@ -260,6 +335,6 @@ describe('Analogue library in the browser', () => {
     await expect.poll(() => matches.count(), { timeout: 60_000 }).toBe(5);
     expect(await page.textContent('[data-test="look-alikes-method"]')).toMatch(/L2|shape/i);
     expect(await matches.first().locator('svg polyline').count()).toBe(2);
-    await interpreterBrowser.shot('69-look-alikes-shape');
+    await interpreterBrowser.shot('70-look-alikes-shape');
   });
 });
