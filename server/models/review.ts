@@ -19,6 +19,8 @@ export class BuildupVersion extends Model<InferAttributes<BuildupVersion>, Infer
   /** `section_calibrations.version` at save time; null: the section had no Ties yet. */
   declare calibrationVersion: number | null;
   declare verticalDomain: 'twt_ms' | 'depth_m';
+  /** Why the version was kept when not by a save (null for a save). */
+  declare note: CreationOptional<string | null>;
   declare savedById: number | null;
   declare savedAt: Date;
   declare savedBy?: NonAttribute<User | null>;
@@ -46,6 +48,7 @@ export function initReviewModels(sequelize: Sequelize) {
       velocity: { type: DataTypes.JSONB, allowNull: true },
       calibrationVersion: { type: DataTypes.INTEGER, allowNull: true },
       verticalDomain: { type: DataTypes.STRING(10), allowNull: false },
+      note: { type: DataTypes.STRING(300), allowNull: true },
       savedById: { type: DataTypes.INTEGER, allowNull: true },
       savedAt: { type: DataTypes.DATE, allowNull: false },
     },

@@ -55,25 +55,39 @@ const linkTo = (b: Buildup) => `/sections/${b.sectionId}/interpret?buildup=${b.i
 
 // ---- versions ------------------------------------------------------------------
 
+/** What a buildup's numbers depend on besides its geometry: the section's velocity model, calibration version and vertical domain now. */
+async function sectionContext(sectionId: number, transaction?: Transaction) {
+  const section = await Section.findByPk(sectionId, { transaction });
+  const velocity = await SectionVelocity.findByPk(sectionId, { transaction });
+  const calibrationVersion = (await SectionCalibration.max('version', { where: { sectionId }, transaction })) as number | null;
+  return { velocity: (velocity?.model as VelocityModel | undefined) ?? null, calibrationVersion: calibrationVersion ?? null, verticalDomain: section!.verticalDomain };
+}
+
 /** Keep the buildup as just saved (or created) as a version row, with the context its numbers depend on. */
-export async function recordVersion(b: Buildup, actorId: number | null, transaction?: Transaction): Promise<void> {
-  const section = await Section.findByPk(b.sectionId, { transaction });
-  const velocity = await SectionVelocity.findByPk(b.sectionId, { transaction });
-  const calibrationVersion = (await SectionCalibration.max('version', { where: { sectionId: b.sectionId }, transaction })) as number | null;
-  await BuildupVersion.create(
-    {
-      buildupId: b.id,
-      version: b.version,
-      name: b.name,
-      geometry: b.geometry,
-      velocity: (velocity?.model as VelocityModel | undefined) ?? null,
-      calibrationVersion: calibrationVersion ?? null,
-      verticalDomain: section!.verticalDomain,
-      savedById: actorId,
-      savedAt: new Date(),
-    },
-    { transaction },
-  );
+export async function recordVersion(b: Buildup, actorId: number | null, transaction?: Transaction, note: string | null = null): Promise<void> {
+  const context = await sectionContext(b.sectionId, transaction);
+  await BuildupVersion.create({ buildupId: b.id, version: b.version, name: b.name, geometry: b.geometry, ...context, note, savedById: actorId, savedAt: new Date() }, { transaction });
+}
+
+/**
+ * Before a sign-off (row locked): when the section's velocity model, Ties or
+ * vertical domain changed after the current version was saved, the numbers
+ * under review are not that version's. Keep the same geometry as a new
+ * version under the section's current context (attributed to nobody, so no
+ * new author) and sign that one off.
+ */
+async function pinContextForSignOff(b: Buildup, transaction: Transaction): Promise<void> {
+  const kept = await BuildupVersion.findOne({ where: { buildupId: b.id, version: b.version }, transaction });
+  const now = await sectionContext(b.sectionId, transaction);
+  const changed: string[] = [];
+  if (!kept || stableJson(kept.velocity) !== stableJson(now.velocity)) changed.push('velocity model');
+  if (!kept || kept.calibrationVersion !== now.calibrationVersion) changed.push('Ties');
+  if (!kept || kept.verticalDomain !== now.verticalDomain) changed.push('vertical domain');
+  if (!changed.length) return;
+  const from = b.version;
+  b.set({ version: b.version + 1 });
+  await b.save({ transaction, silent: true });
+  await recordVersion(b, null, transaction, `Kept at sign-off: the section's ${changed.join(', ')} changed after version ${from} was saved`);
 }
 
 /** The creator and everyone who saved a version. */
@@ -207,7 +221,10 @@ export async function transition(actor: Actor, id: number, input: ReviewTransiti
     if (rule.notByAuthor && (await authorIds(b, transaction)).includes(actor.id)) {
       throw new AppError(403, 'own_work', `You created or saved "${b.name}": someone else signs off your own work`);
     }
-    if (input.to === 'signed_off') b.set({ signedOffVersion: b.version, signedOffById: actor.id, signedOffAt: new Date() });
+    if (input.to === 'signed_off') {
+      await pinContextForSignOff(b, transaction);
+      b.set({ signedOffVersion: b.version, signedOffById: actor.id, signedOffAt: new Date() });
+    }
     if (input.from === 'signed_off') b.set({ signedOffVersion: null, signedOffById: null, signedOffAt: null });
     b.set({ reviewState: input.to });
     await b.save({ transaction, silent: true });
@@ -267,6 +284,7 @@ function versionSummary(v: BuildupVersion, signed: Set<number>): BuildupVersionS
     cycleCount: v.geometry.cycles.length,
     calibrationVersion: v.calibrationVersion,
     signedOff: signed.has(v.version),
+    note: v.note,
   };
 }
 

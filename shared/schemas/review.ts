@@ -121,6 +121,8 @@ export interface BuildupVersionSummary {
   cycleCount: number;
   calibrationVersion: number | null;
   signedOff: boolean;
+  /** Why it was kept when not by a save (e.g. at sign-off, for a changed velocity model or Ties); null for a save. */
+  note: string | null;
 }
 
 /** `GET /api/buildups/:id/versions/:version`: everything the version was measured from. */

@@ -332,6 +332,31 @@ describe('signed off: frozen until reopened', () => {
     expect(versions[0]).toMatchObject({ version: saved.body.version, signedOff: false, savedBy: { name: 'Ivo Marlstone' } });
   });
 
+  it('a sign-off after the velocity model changed keeps the same geometry as a new version under the new model, and signs that one off', async () => {
+    const sectionId = await makeSection();
+    const b = await buildupIn(sectionId, 'out_for_review');
+    const interp = bearer(await t.token('interpreter'));
+    const velocity = { kind: 'constant', v: 2900 };
+    expect((await request(t.app).put(`/api/sections/${sectionId}/velocity`).set(interp).send({ velocity })).status).toBe(200);
+    const live = await request(t.app).get(`/api/buildups/${b.id}/measurements`).set(interp); // what the reviewer looks at
+    const signed = await move(b.id, 'out_for_review', 'signed_off', 'reviewer');
+    expect(signed.status, JSON.stringify(signed.body)).toBe(200);
+    expect(signed.body.version).toBe(b.version + 1);
+    expect(signed.body.signedOff.version).toBe(b.version + 1);
+    expect(signed.body.history.at(-1)).toMatchObject({ to: 'signed_off', version: b.version + 1 });
+    expect(signed.body.authors).toEqual([{ id: ids.interpreter, name: 'Ivo Marlstone' }]); // the kept version adds no author
+    const kept = (await request(t.app).get(`/api/buildups/${b.id}/versions/${b.version + 1}`).set(interp)).body;
+    const saved = (await request(t.app).get(`/api/buildups/${b.id}/versions/${b.version}`).set(interp)).body;
+    expect(kept).toMatchObject({ velocity, savedBy: null, signedOff: true, geometry: saved.geometry });
+    expect(kept.note).toMatch(/^Kept at sign-off: the section's velocity model changed after version \d+ was saved$/);
+    expect(saved).toMatchObject({ velocity: null, signedOff: false, note: null });
+    const measured = await request(t.app).get(`/api/buildups/${b.id}/versions/${b.version + 1}/measurements`).set(interp);
+    expect(measured.body).toEqual(live.body);
+    // no change of context: the version sent is the version signed
+    const c = await buildupIn(sectionId, 'signed_off');
+    expect((await review(c.id)).signedOff.version).toBe(c.version);
+  });
+
   it('a buildup that is not signed off leaves the section velocity editable', async () => {
     const sectionId = await makeSection();
     await buildupIn(sectionId, 'out_for_review');

@@ -23,6 +23,8 @@ export async function up({ queryInterface: q }: MigrationContext) {
     calibration_version: { type: DataTypes.INTEGER, allowNull: true },
     /** The section's vertical domain when this version was saved ('twt_ms' | 'depth_m'). */
     vertical_domain: { type: DataTypes.STRING(10), allowNull: false },
+    /** Why the version was kept when not by a save (e.g. at sign-off, for a changed velocity model or Ties). */
+    note: { type: DataTypes.STRING(300), allowNull: true },
     saved_by_id: { type: DataTypes.INTEGER, allowNull: true, references: { model: 'users', key: 'id' }, onDelete: 'SET NULL' },
     saved_at: { type: DataTypes.DATE, allowNull: false },
   });
