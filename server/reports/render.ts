@@ -58,18 +58,19 @@ export async function renderReportFiles(input: RenderInput): Promise<{ pdfBytes:
       const png = await compositeCrop(store, section, crop, size);
       const ve = crop.intrinsicVE === null ? null : crop.intrinsicVE * v.stretch;
       const cap = caption(crop, v.stretch, ve, unit);
-      const overlay = overlaySvg(report.geometry, { crop, size, measurement: report.measurement });
+      const overlay = overlaySvg(report.geometry, { crop, size, measurement: report.measurement, notePins: report.notePins });
       // JPEG into the PDF: pdfkit copies its bytes as they are, where a PNG would be decoded and recompressed in JavaScript
       const jpeg = await sharp(png).jpeg({ quality: 88 }).toBuffer();
       figures.push({ title: v.title, caption: cap, image: jpeg, overlay, width: size.width, height: size.height });
       if (i === 0) {
         // the exports: the marked-up crop alone, with its VE stated on it
-        const labelled = overlaySvg(report.geometry, { crop, size, measurement: report.measurement, caption: `${report.title.buildup} · ${formatVE(ve)} · stretch ${Number(v.stretch.toPrecision(3))}×` });
+        const labelled = overlaySvg(report.geometry, { crop, size, measurement: report.measurement, notePins: report.notePins, caption: `${report.title.buildup} · ${formatVE(ve)} · stretch ${Number(v.stretch.toPrecision(3))}×` });
         await fsp.writeFile(path.join(outDir, 'crop.png'), await markedUpPng(png, labelled));
         const svg = overlaySvg(report.geometry, {
           crop,
           size,
           measurement: report.measurement,
+          notePins: report.notePins,
           caption: `${report.title.buildup} · ${formatVE(ve)} · stretch ${Number(v.stretch.toPrecision(3))}×`,
           backgroundHref: `data:image/jpeg;base64,${jpeg.toString('base64')}`,
         });

@@ -28,6 +28,7 @@ import { Buildup, SectionVelocity } from '../models/buildup';
 import { Section, SectionCalibration } from '../models/section';
 import { Project, User } from '../models/index';
 import { BuildupReportRow } from '../models/report';
+import { NoteThread } from '../models/note';
 import { sectionForViewer } from './section.service';
 import { measureBuildup } from './buildup.service';
 import { audit } from './audit.service';
@@ -136,6 +137,20 @@ function crestPixel(g: BuildupGeometry): [number, number] | null {
   return [best[0], best[1]];
 }
 
+/** Note pins of the section that fall inside the crop (their threads' last known position). */
+async function notePinsIn(sectionId: number, crop: { u0: number; v0: number; width: number; height: number }) {
+  const threads = await NoteThread.findAll({ where: { sectionId }, attributes: ['number', 'at', 'resolvedAt'], order: [['number', 'ASC']] });
+  return threads
+    .filter((n) => Array.isArray(n.at) && n.at[0] >= crop.u0 && n.at[0] <= crop.u0 + crop.width && n.at[1] >= crop.v0 && n.at[1] <= crop.v0 + crop.height)
+    .map((n) => ({ number: n.number, at: [n.at[0], n.at[1]] as [number, number], resolved: !!n.resolvedAt }));
+}
+
+/** The latest change to the section's Note pins (part of the report cache key). */
+async function notesStamp(sectionId: number) {
+  const row = await NoteThread.findOne({ where: { sectionId }, attributes: ['updatedAt'], order: [['updatedAt', 'DESC']] });
+  return [await NoteThread.count({ where: { sectionId } }), row?.updatedAt?.toISOString() ?? null];
+}
+
 /** Calibrated x (m) of the image's left and right edges at mid-height, as calibrationChecks measures the line (section.service.ts). */
 function edgeX(section: Section, cal: SectionCalibration | null): { xLeftM: number | null; xRightM: number | null } {
   const fit = cal?.fit as CalibrationFit | undefined;
@@ -178,6 +193,7 @@ export async function assembleReport(buildup: Buildup, section: Section, measure
     }
     crop = { ...w, stretch: opts.stretch, intrinsicVE: ve, ve: ve === null ? null : ve * opts.stretch, trueScaleStretch: ve === null ? null : 1 / ve, imageWidth: section.width, imageHeight: section.height };
   }
+  const notePins = crop ? await notePinsIn(section.id, crop) : [];
   const reviewState: ReviewState = buildup.reviewState ?? 'draft';
   const hasEnds = [section.startLon, section.startLat, section.endLon, section.endLat].every((v) => typeof v === 'number' && Number.isFinite(v));
   return {
@@ -215,6 +231,7 @@ export async function assembleReport(buildup: Buildup, section: Section, measure
     },
     geometry: buildup.geometry,
     crop,
+    notePins,
     lineEnds: hasEnds ? { start: [section.startLon!, section.startLat!], end: [section.endLon!, section.endLat!], ...edgeX(section, src.calibration) } : null,
   };
 }
@@ -418,6 +435,7 @@ export async function reportCacheKey(buildup: Buildup, section: Section, o: { un
     project: [project?.id, project?.version, project?.name],
     calibration: src.calibration ? [src.calibration.id, src.calibration.version] : null,
     velocity: [src.velocity.updatedAt, src.velocity.model],
+    notes: await notesStamp(section.id),
     unit: o.unit,
     stretch: o.stretch,
     paper: o.paper,

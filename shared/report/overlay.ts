@@ -93,6 +93,8 @@ export interface OverlayOptions {
   caption?: string | null;
   /** Font family name of the labels. */
   fontFamily?: string;
+  /** Note pins to draw (image pixels): a numbered tag, greyed when resolved. */
+  notePins?: { number: number; at: [number, number]; resolved: boolean }[];
 }
 
 /** Indices (0-based, in the geometry) of the cycles the engine measured: complete cycles, oldest first (shared/editor/model.ts). */
@@ -171,6 +173,17 @@ export function overlaySvg(g: BuildupGeometry, o: OverlayOptions): string {
       `<path class="stamp" d="M${r1(x)},${r1(y)} L${r1(x - s)},${r1(y - s * 0.45)} L${r1(x - s * 0.7)},${r1(y)} Z" fill="${TERMINATION_STAMP.fill}" stroke="${TERMINATION_STAMP.stroke}" stroke-width="${TERMINATION_STAMP.strokeWidth}" stroke-linejoin="round"/>`,
     );
     label(x - s - 2, y - s * 0.45, TERMINATION_INITIAL[t.type], TERMINATION_STAMP.labelFill, 'end', 8);
+  }
+  for (const p of o.notePins ?? []) {
+    const x = X(p.at[0]);
+    const y = Y(p.at[1]);
+    const text = String(p.number);
+    const w = 10 + text.length * 6.5;
+    const fill = p.resolved ? '#8a949c' : '#e9c46a';
+    // a tag on a short stem, its point at the pinned pixel
+    out.push(`<path class="note-pin" d="M${r1(x)},${r1(y)} l0,-7" stroke="#14191E" stroke-width="1.5"/>`);
+    out.push(`<rect class="note-pin" x="${r1(x - w / 2)}" y="${r1(y - 23)}" width="${r1(w)}" height="16" rx="3" fill="${fill}" stroke="#14191E" stroke-width="1"/>`);
+    out.push(`<text x="${r1(x)}" y="${r1(y - 11)}" font-size="10" text-anchor="middle" fill="#14191E">${xmlEscape(text)}</text>`);
   }
   if (o.caption) {
     const w = Math.min(size.width, 14 + o.caption.length * 6.2);

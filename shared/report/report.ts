@@ -86,6 +86,8 @@ export interface BuildupReport {
   geometry: BuildupGeometry;
   /** Null while the section's tiles are not ready. */
   crop: ReportCrop | null;
+  /** Note pins (discussion threads) inside the crop, by their number on the section; image pixels. */
+  notePins: { number: number; at: [number, number]; resolved: boolean }[];
   /**
    * Line geography (longitude, latitude in degrees, WGS 84) when both ends are
    * known, with the calibrated x (m) of the image's left and right edges at

@@ -372,7 +372,28 @@ describe('PDF, PNG and SVG through the report job', () => {
     expect(pdftotext(ft.file).replace(/\s+/g, ' ')).toContain(`Height ${h} ft`);
   }, 90_000);
 
-  it('PNG and SVG of the marked-up crop alone', async () => {
+  it('Note pins inside the crop are drawn on it, numbered; a new pin gives a new report', async () => {
+    const before = await pdfOf(knollId, 'a4', JSON.stringify({ stretch: 2 }));
+    const report = (await get(`/api/buildups/${knollId}/report`)).body;
+    const at = [Math.round(report.crop.u0 + report.crop.width / 2), Math.round(report.crop.v0 + report.crop.height / 3)];
+    const n = await request(t.app).post(`/api/sections/${tb11.id}/threads`).set(bearer(token)).send({ anchor: { kind: 'point', at }, body: 'Check the onlaps here' });
+    expect(n.status, JSON.stringify(n.body)).toBe(201);
+    const again = (await get(`/api/buildups/${knollId}/report`)).body;
+    expect(again.notePins).toEqual([{ number: expect.any(Number), at, resolved: false }]);
+    const after = await pdfOf(knollId, 'a4', JSON.stringify({ stretch: 2 }));
+    expect(after.status.id).not.toBe(before.status.id);
+    const svg = (await file(`/api/buildups/${knollId}/export/svg?stretch=2`)).body.toString('utf8');
+    expect(svg).toContain('class="note-pin"');
+    expect(svg).toContain(`>${again.notePins[0].number}</text>`);
+  }, 90_000);
+
+  it('PNG and SVG of the marked-up crop alone (202 with the job while it is being made)', async () => {
+    // the Note pin above changed what the stretch-1 report shows: asking for the PNG queues it
+    const first = await get(`/api/buildups/${knollId}/export/png`);
+    expect(first.status).toBe(202);
+    expect(first.headers['retry-after']).toBe('2');
+    expect(first.body).toMatchObject({ code: 'report_preparing', report: { status: expect.stringMatching(/queued|running/) } });
+    expect((await waitReady(first.body.report.id)).status).toBe('ready');
     const png = await file(`/api/buildups/${knollId}/export/png`);
     expect(png.status).toBe(200);
     expect(png.headers['content-type']).toBe('image/png');
