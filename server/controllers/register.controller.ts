@@ -1,6 +1,8 @@
 import type { Request, Response } from 'express';
 import * as register from '../services/register.service';
 import * as prefs from '../services/preferences.service';
+import * as batch from '../services/report-batch.service';
+import { pipeline } from 'node:stream/promises';
 import { idParam } from './user.controller';
 
 export async function list(req: Request, res: Response) {
@@ -28,4 +30,21 @@ export async function getPreferences(req: Request, res: Response) {
 
 export async function putPreferences(req: Request, res: Response) {
   res.json(await prefs.putPreferences(req.user!, res.locals.body));
+}
+
+export async function startBatch(req: Request, res: Response) {
+  res.status(202).json(await batch.startBatch(req.user!, idParam(req), res.locals.body));
+}
+
+export async function batchStatus(req: Request, res: Response) {
+  res.json(await batch.batchStatus(req.user!, String(req.params.batchId)));
+}
+
+export async function batchFile(req: Request, res: Response) {
+  const f = await batch.batchFile(req.user!, String(req.params.batchId));
+  res.set('Content-Type', 'application/zip');
+  res.set('Content-Length', String(f.body.size));
+  res.set('Content-Disposition', `attachment; filename="${f.fileName}"; filename*=UTF-8''${encodeURIComponent(f.fileName)}`);
+  res.set('Cache-Control', 'no-store');
+  await pipeline(f.body.stream, res);
 }

@@ -19,6 +19,7 @@ import { Section, SectionCalibration } from '../models/section';
 import { AppError } from '../middlewares/errors';
 import { jobQueue } from './queue';
 import { writeSummary } from '../services/summary-store';
+import { startBatchJobs } from './report-batch.job';
 
 export const SUMMARY_QUEUE = 'buildup-summary';
 
@@ -86,9 +87,10 @@ export async function refreshSummary(buildupId: number): Promise<void> {
   }
 }
 
-/** Create the queue and, where this process runs workers and has the app context, work it. */
+/** Create the queues (summaries, report batches) and, where this process runs workers and has the app context, work them. */
 export async function startSummaryJobs(boss: PgBoss, config: Config): Promise<void> {
   await boss.createQueue(SUMMARY_QUEUE, { name: SUMMARY_QUEUE, policy: 'short' });
+  await startBatchJobs(boss, config, () => false); // the register's batch of signed-off reports (report-batch.job.ts)
   if (!config.jobs.runWorkers) return;
   try {
     ctx();

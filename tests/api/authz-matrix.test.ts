@@ -193,6 +193,35 @@ async function noteThread(f: Fx): Promise<{ id: number; messageId: number }> {
   return { id: r.body.id, messageId: r.body.messages[0].id };
 }
 
+/** A signed-off buildup in the demo project (set in the database: the review workflow has its own rows), made once. */
+let signedOffOnce: Promise<void> | null = null;
+function signedOffBuildup(f: Fx): Promise<void> {
+  signedOffOnce ??= (async () => {
+    const b = await savedBuildup(t, await interp(), f.section, 'Batch target');
+    const { ctx } = await import('../../server/context');
+    await ctx().sequelize.query(`UPDATE buildups SET review_state = 'signed_off', signed_off_at = now() WHERE id = ${Number(b.id)}`);
+  })();
+  return signedOffOnce;
+}
+/** A batch of the demo project's signed-off reports, started once; `done` waits until its archive is made. */
+let batchOnce: Promise<string> | null = null;
+async function reportBatch(f: Fx, done = false): Promise<string> {
+  batchOnce ??= (async () => {
+    await signedOffBuildup(f);
+    const r = await request(t.app).post(`/api/projects/${f.demoId}/buildups/report-batch`).set(bearer(await interp())).send({});
+    expect(r.status, JSON.stringify(r.body)).toBe(202);
+    return r.body.id as string;
+  })();
+  const id = await batchOnce;
+  for (let i = 0; done && i < 600; i++) {
+    const s = await request(t.app).get(`/api/report-batches/${id}`).set(bearer(await admin()));
+    if (s.body.state === 'done') break;
+    expect(s.body.state, JSON.stringify(s.body)).not.toBe('failed');
+    await new Promise((res) => setTimeout(res, 250));
+  }
+  return id;
+}
+
 const MATRIX: Record<string, Row> = {
   // public
   'GET /api/health': { req: () => ({ path: '/api/health' }), anonymous: 200, refused: 'none: public health check', allowed: { as: 'reviewer', status: 200 } },
@@ -364,6 +393,16 @@ const MATRIX: Record<string, Row> = {
   'GET /api/projects/:id/buildups': { req: (f) => ({ path: `/api/projects/${f.demoId}/buildups?sort=heightM` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
   'GET /api/projects/:id/buildups/export.csv': { req: (f) => ({ path: `/api/projects/${f.demoId}/buildups/export.csv?unit=ft` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'curator', status: 200 } },
   'GET /api/projects/:id/buildups/export.geojson': { req: (f) => ({ path: `/api/projects/${f.demoId}/buildups/export.geojson` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  'POST /api/projects/:id/buildups/report-batch': {
+    req: async (f) => {
+      await signedOffBuildup(f);
+      return { path: `/api/projects/${f.demoId}/buildups/report-batch`, body: {} };
+    },
+    refused: { as: 'outsider', status: 404 },
+    allowed: { as: 'curator', status: 202 },
+  },
+  'GET /api/report-batches/:batchId': { req: async (f) => ({ path: `/api/report-batches/${await reportBatch(f)}` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  'GET /api/report-batches/:batchId/file': { req: async (f) => ({ path: `/api/report-batches/${await reportBatch(f, true)}/file` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
   'GET /api/me/preferences': { req: () => ({ path: '/api/me/preferences' }), refused: 'none: every signed-in user (their own preferences)', allowed: { as: 'curator', status: 200 } },
   'PUT /api/me/preferences': { req: () => ({ path: '/api/me/preferences', body: { lengthUnit: 'm' } }), refused: 'none: every signed-in user (their own preferences)', allowed: { as: 'reviewer', status: 200 } },
 

@@ -414,3 +414,72 @@ describe('GeoJSON export', () => {
     expect(out).toEqual(fc.features.map(() => true));
   });
 });
+
+describe('batch of signed-off reports (one ZIP archive of PDFs)', () => {
+  const zipRef = pythonReference('zipfile'); // python's standard library: an independent ZIP reader
+
+  it('refuses a project with nothing signed off, clearly', async () => {
+    const empty = (await request(t.app).post('/api/projects').set(bearer(interp)).send({ name: 'Nothing signed yet' })).body.id;
+    const r = await request(t.app).post(`/api/projects/${empty}/buildups/report-batch`).set(bearer(interp)).send({});
+    expect(r.status).toBe(409);
+    expect(r.body.code).toBe('nothing_signed_off');
+  });
+
+  it('one job with progress packs every signed-off buildup’s report PDF and an index; members only', async (testCtx) => {
+    const { ctx } = await import('../../server/context');
+    const signed = ['Marrow Bank', 'Tessel Spur'];
+    await ctx().sequelize.query(`UPDATE buildups SET review_state = 'draft' WHERE id IN (${Object.values(made).map((m) => m.id).join(',')})`);
+    await ctx().sequelize.query(`UPDATE buildups SET review_state = 'signed_off', signed_off_at = now() WHERE id IN (${signed.map((n) => made[n].id).join(',')})`);
+    const start = await request(t.app).post(`/api/projects/${projectId}/buildups/report-batch`).set(bearer(reviewer)).send({ paper: 'a4', unit: 'ft' });
+    expect(start.status, JSON.stringify(start.body)).toBe(202);
+    expect(start.body.total).toBe(2);
+    const id = start.body.id as string;
+    // members only
+    expect((await request(t.app).get(`/api/report-batches/${id}`).set(bearer(outsider))).status).toBe(404);
+    expect((await request(t.app).get(`/api/report-batches/${id}`)).status).toBe(401);
+    expect((await request(t.app).get('/api/report-batches/not-a-batch').set(bearer(curator))).status).toBe(404);
+    // progress rises to 1 and the state ends done
+    const seen: number[] = [];
+    const until = Date.now() + 150_000;
+    let last;
+    for (;;) {
+      last = await request(t.app).get(`/api/report-batches/${id}`).set(bearer(curator));
+      expect(last.status).toBe(200);
+      seen.push(last.body.progress);
+      if (last.body.state === 'done' || last.body.state === 'failed') break;
+      if (Date.now() > until) throw new Error(`batch not finished: ${JSON.stringify(last.body)}`);
+      await new Promise((res) => setTimeout(res, 400));
+    }
+    expect(last.body.state, JSON.stringify(last.body)).toBe('done');
+    expect(last.body.done).toBe(2);
+    expect(seen.at(-1)).toBe(1);
+    for (let i = 1; i < seen.length; i++) expect(seen[i]).toBeGreaterThanOrEqual(seen[i - 1]);
+    // the archive
+    const f = await request(t.app).get(`/api/report-batches/${id}/file`).set(bearer(curator)).buffer(true).parse((res, cb) => {
+      const chunks: Buffer[] = [];
+      res.on('data', (c: Buffer) => chunks.push(c));
+      res.on('end', () => cb(null, Buffer.concat(chunks)));
+    });
+    expect(f.status).toBe(200);
+    expect(f.headers['content-type']).toBe('application/zip');
+    expect(f.headers['content-disposition']).toContain('tessel-register-signed-off-reports-a4-ft.zip');
+    const py = needReference(testCtx, zipRef);
+    const listing = runPython(
+      py,
+      [
+        'import base64, io, json, sys, zipfile',
+        'z = zipfile.ZipFile(io.BytesIO(base64.b64decode(json.load(sys.stdin))))',
+        'bad = z.testzip()',
+        'print(json.dumps({"bad": bad, "files": {n: z.read(n)[:5].decode("latin-1") for n in z.namelist()}, "index": z.read("index.csv").decode("utf-8-sig")}))',
+      ].join('\n'),
+      (f.body as Buffer).toString('base64'),
+    ) as { bad: string | null; files: Record<string, string>; index: string };
+    expect(listing.bad).toBeNull();
+    const pdfs = Object.keys(listing.files).filter((n) => n.endsWith('.pdf'));
+    expect(pdfs).toHaveLength(2);
+    for (const n of pdfs) expect(listing.files[n]).toBe('%PDF-');
+    const index = Papa.parse<Record<string, string>>(listing.index.trim(), { header: true }).data;
+    expect(index.map((r) => r.Buildup).sort()).toEqual([...signed].sort());
+    expect(index.every((r) => pdfs.includes(r.File))).toBe(true);
+  }, 200_000);
+});
