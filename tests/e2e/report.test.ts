@@ -90,6 +90,12 @@ describe('buildup report', () => {
     await page.waitForTimeout(300);
     await b.shot('report-01b-plots');
     await page.evaluate(() => window.scrollTo(0, 0));
+    // printed: the toolbar goes, the sheet stays
+    await page.emulateMedia({ media: 'print' });
+    expect(await page.isVisible('[data-test="report-toolbar"]')).toBe(false);
+    expect(await page.isVisible('[data-test="report-title"]')).toBe(true);
+    await b.shot('report-01c-print');
+    await page.emulateMedia({ media: 'screen' });
 
     // tables and layers straight away
     const csv = await download('download-csv');
