@@ -4,7 +4,7 @@
  * the display unit with shared/units.ts). Exports are fetched with the Bearer
  * token and handed to the browser as a download.
  */
-import type { Preferences, RegisterPage, RegisterQuery } from '../../shared/schemas/register';
+import type { BatchReportJob, Preferences, RegisterPage, RegisterQuery } from '../../shared/schemas/register';
 import type { LengthUnit } from '../../shared/units';
 import { useSessionStore } from '../stores/session';
 import { ApiError, apiFetch } from './http';
@@ -65,4 +65,27 @@ export async function fetchRegisterExport(
   }
   const m = /filename="([^"]+)"/.exec(res.headers.get('content-disposition') ?? '');
   return { blob: await res.blob(), fileName: m ? m[1] : `buildups.${format}` };
+}
+
+/** Start the batch of every signed-off buildup's report (one ZIP archive of PDFs). */
+export function startReportBatch(projectId: number, choices: { paper?: 'a4' | 'letter'; unit?: LengthUnit }): Promise<BatchReportJob> {
+  return apiFetch(`/projects/${projectId}/buildups/report-batch`, { method: 'POST', body: choices });
+}
+
+export function getReportBatch(id: string, signal?: AbortSignal): Promise<BatchReportJob> {
+  return apiFetch(`/report-batches/${encodeURIComponent(id)}`, { signal });
+}
+
+/** The finished batch's archive. */
+export async function fetchReportBatchFile(id: string): Promise<{ blob: Blob; fileName: string }> {
+  const token = useSessionStore().token;
+  const res = await fetch(`/api/report-batches/${encodeURIComponent(id)}/file`, { headers: token ? { Authorization: `Bearer ${token}` } : {} }).catch(() => {
+    throw new ApiError(0, 'network_error', 'Cannot reach the Cayline server.');
+  });
+  if (!res.ok) {
+    const body = (await res.json().catch(() => ({}))) as { code?: string; message?: string };
+    throw new ApiError(res.status, body.code ?? `http_${res.status}`, body.message ?? `The download failed (${res.status})`);
+  }
+  const m = /filename="([^"]+)"/.exec(res.headers.get('content-disposition') ?? '');
+  return { blob: await res.blob(), fileName: m ? m[1] : 'signed-off-reports.zip' };
 }

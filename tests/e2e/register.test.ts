@@ -2,7 +2,7 @@
  * The project buildup register in Chromium: open it from the project page,
  * sort by height, switch lengths to feet in the user menu and see every
  * header change, download the register CSV (read back with papaparse), open a
- * buildup's report from its row. Screenshots 90-… in tests/e2e/screenshots/.
+ * buildup's report from its row, download the ZIP of signed-off reports. Screenshots 90-… in tests/e2e/screenshots/.
  *
  * Scenario (invented): project "Tessel register" with one TB-11 section and
  * three buildups (Kestrel Knoll, Marrow Bank, Tessel Spur) traced through the API.
@@ -70,7 +70,7 @@ function expectShown(shown: number, exact: number) {
 const rowNames = () => b.page.$$eval('[data-test="register-table"] tbody tr td:nth-child(2) a', (as) => as.map((a) => a.textContent?.trim() ?? ''));
 
 describe('project buildup register', () => {
-  it('opens, sorts by height, switches to feet, downloads the CSV and opens a report', async () => {
+  it('opens, sorts by height, switches to feet, downloads the CSV, opens a report and gets the signed-off batch', async () => {
     const { page } = b;
     await page.goto('/sign-in');
     await page.fill('[data-test="signin-email"]', 'interpreter@tessel.example');
@@ -143,7 +143,20 @@ describe('project buildup register', () => {
     await page.waitForTimeout(800);
     await b.shot('93-register-report-link');
 
+    // the batch of signed-off reports: one job with progress, one ZIP archive downloaded at the end
+    const { ctx } = await import('../../server/context');
+    await ctx().sequelize.query(`UPDATE buildups SET review_state = 'signed_off', signed_off_at = now() WHERE name = 'Marrow Bank'`);
+    await page.goto(`/projects/${projectId}/buildups`);
+    await page.waitForSelector('[data-test="register-table"] tbody tr td:nth-child(2) a');
+    const [zip] = await Promise.all([page.waitForEvent('download', { timeout: 150_000 }), page.click('[data-test="register-batch"]')]);
+    expect(zip.suggestedFilename()).toBe('tessel-register-signed-off-reports-a4-ft.zip');
+    const bytes = fs.readFileSync((await zip.path())!);
+    expect(bytes.subarray(0, 4).toString('latin1')).toBe('PK\u0003\u0004'); // ZIP local file header signature
+    await expect.poll(() => page.textContent('[data-test="register-batch-progress"]')).toContain('1 of 1');
+    await page.waitForSelector('[data-test="register-batch"]:not(.n-button--loading)', { timeout: 5000 });
+    await b.shot('94-register-batch-done');
+
     // back to metres for whoever uses this account next
     await request(t.app).put('/api/me/preferences').set(bearer(await t.token('interpreter'))).send({ lengthUnit: 'm' });
-  });
+  }, 300_000);
 });
