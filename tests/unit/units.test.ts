@@ -151,3 +151,13 @@ describe('display formatting in the chosen unit', () => {
     expect(formatRuler(r, 'en-US')).toBe('1,609 m · 12.3° true · Δz −30 m');
   });
 });
+
+describe('velocities in the chosen unit', () => {
+  it('the velocity model summary shows ft/s (3048 m/s = 10 000 ft/s), TWT still in ms', async () => {
+    const { velocitySummary } = await import('../../client/components/velocity/velocityForm');
+    expect(velocitySummary({ kind: 'constant', v: 3048 }, 'ft')).toBe('Constant 10000 ft/s');
+    expect(velocitySummary({ kind: 'constant', v: 3048 })).toBe('Constant 3048 m/s');
+    const b = velocitySummary({ kind: 'buildup', water: { v: 1524, seafloorMs: 120 }, overburden: { v: { min: 2133.6, mode: 2286, max: 2438.4 } }, carbonate: { v: 4572 } }, 'ft');
+    expect(b).toBe('Buildup-aware: water 5000 to 120 ms · overburden 7000–8000 · carbonate 15000 ft/s');
+  });
+});

@@ -9,6 +9,7 @@
  * `velocityModelSchema`; errors come back keyed by field path (`v`,
  * `layers[1].topMs`, `water.v.mode`, …).
  */
+import { toDisplayVelocity, velocityLabel, type LengthUnit } from '../../../shared/units';
 import type { VelocityModel, VelocityValue } from '../../../shared/editor/model';
 import { describeIssues, velocityModelSchema } from '../../../shared/schemas/interpretation';
 import { DEFAULT_VELOCITY } from '../../../shared/schemas/buildups';
@@ -160,19 +161,23 @@ export function removeLayer(rows: readonly LayerRow[], i: number): LayerRow[] {
   return next;
 }
 
-const fmt = (v: VelocityValue) => (typeof v === 'number' ? `${v}` : `${v.min}–${v.max}`);
-
-/** The model in one line: "Buildup-aware: water 1500 to 0 ms · overburden 2000–2500 · carbonate 4000–5500 m/s". */
-export function velocitySummary(m: VelocityModel): string {
+/**
+ * The model in one line: "Buildup-aware: water 1500 to 0 ms · overburden 2000–2500 · carbonate 4000–5500 m/s".
+ * Velocities (stored in m/s) are shown in `unit`'s velocity (m/s or ft/s, whole numbers); TWT stays in ms.
+ */
+export function velocitySummary(m: VelocityModel, unit: LengthUnit = 'm'): string {
+  const one = (v: number) => (unit === 'm' ? `${v}` : `${Math.round(toDisplayVelocity(v, unit))}`);
+  const fmt = (v: VelocityValue) => (typeof v === 'number' ? one(v) : `${one(v.min)}–${one(v.max)}`);
+  const vu = velocityLabel(unit);
   switch (m.kind) {
     case 'constant':
-      return `Constant ${fmt(m.v)} m/s`;
+      return `Constant ${fmt(m.v)} ${vu}`;
     case 'layers':
-      return `${m.layers.length} layer${m.layers.length === 1 ? '' : 's'}: ${m.layers.map((l) => `${fmt(l.v)} from ${l.topMs} ms`).join(' · ')} (m/s)`;
+      return `${m.layers.length} layer${m.layers.length === 1 ? '' : 's'}: ${m.layers.map((l) => `${fmt(l.v)} from ${l.topMs} ms`).join(' · ')} (${vu})`;
     case 'linear':
-      return `Linear: v0 ${fmt(m.v0)} m/s, k ${m.k} 1/s`;
+      return `Linear: v0 ${fmt(m.v0)} ${vu}, k ${m.k} 1/s`;
     case 'buildup':
-      return `Buildup-aware: water ${fmt(m.water.v)} to ${m.water.seafloorMs} ms · overburden ${fmt(m.overburden.v)} · carbonate ${fmt(m.carbonate.v)} m/s`;
+      return `Buildup-aware: water ${fmt(m.water.v)} to ${m.water.seafloorMs} ms · overburden ${fmt(m.overburden.v)} · carbonate ${fmt(m.carbonate.v)} ${vu}`;
   }
 }
 
