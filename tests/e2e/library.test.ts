@@ -3,7 +3,9 @@
  * on the interpretation page and promotes it from its Readings, tags it on
  * its library page, finds it on the map (also by drawing a box around it)
  * and in a crossplot; the interpreter opens the Look-alikes of Marrow Bank
- * (TB-14) from its Readings, by numbers and by shape. The library holds the
+ * (TB-14) from its Readings, by numbers and by shape, and asks a curator to
+ * add it, who accepts. The curator also imports a CSV with bad rows and enters
+ * an analogue from a publication. The library holds the
  * ~200 invented demo analogues besides. Screenshots 60-… in tests/e2e/screenshots/.
  */
 import type { Page } from 'playwright-core';
@@ -180,7 +182,8 @@ describe('Analogue library in the browser', () => {
     await page.fill('[data-test="saved-search-name"]', 'Onlapped tops');
     await page.click('[data-test="saved-search-save"]');
     await page.locator('[data-test="saved-searches-panel"] li', { hasText: 'Onlapped tops' }).waitFor();
-    await page.keyboard.press('Escape');
+    await page.click('[data-test="saved-searches"]'); // closes the panel
+    await page.waitForSelector('[data-test="saved-searches-panel"]', { state: 'hidden' });
 
     // Map of the same search.
     await page.click('[data-test="view-map"]');
@@ -240,7 +243,7 @@ describe('Analogue library in the browser', () => {
     await page.click('[data-test="saved-searches"]');
     await page.locator('[data-test="saved-searches-panel"] a', { hasText: 'Onlapped tops' }).click();
     await page.waitForURL(/tags=onlapped-top/);
-    await page.keyboard.press('Escape');
+    await page.waitForSelector('[data-test="saved-searches-panel"]', { state: 'hidden' });
 
     await page.click('[data-test="library-import"]');
     await page.waitForURL(/\/library\/import$/);
@@ -336,5 +339,32 @@ describe('Analogue library in the browser', () => {
     expect(await page.textContent('[data-test="look-alikes-method"]')).toMatch(/L2|shape/i);
     expect(await matches.first().locator('svg polyline').count()).toBe(2);
     await interpreterBrowser.shot('70-look-alikes-shape');
+  });
+
+  it('the interpreter asks a curator to add Marrow Bank; the curator accepts it', async () => {
+    const page = interpreterBrowser!.page;
+    await page.goto(`/sections/${tb14}/interpret`);
+    const ask = page.locator('[data-test="readings-promote"]');
+    await ask.waitFor();
+    await expect.poll(() => ask.isEnabled()).toBe(true);
+    await ask.click();
+    await page.click('[data-test="promote-submit"]');
+    await page.waitForSelector('[data-test="promote-done"]', { timeout: 60_000 });
+    expect(await page.textContent('[data-test="promote-done"]')).toContain('A curator will accept or decline');
+    await page.click('[data-test="promote-open"]');
+    await page.waitForURL(/\/library\/\d+$/);
+    const id = Number(new URL(page.url()).pathname.split('/').pop());
+    expect(await page.textContent('[data-test="analogue-pending"]')).toContain('A curator will accept or decline it');
+    expect(await page.locator('[data-test="analogue-accept"]').count()).toBe(0);
+
+    const curator = curatorBrowser.page;
+    await curator.goto('/library?status=pending');
+    await curator.locator(`[data-test="library-row-${id}"]`).waitFor();
+    await curator.click(`[data-test="library-row-${id}"] a`);
+    await curator.click('[data-test="analogue-accept"]');
+    await curator.waitForSelector('[data-test="analogue-pending"]', { state: 'detached' });
+    await curatorBrowser.shot('71-library-request-accepted');
+    const api = await request(t.app).get(`/api/analogues/${id}`).set(bearer(await t.token('curator')));
+    expect(api.body).toMatchObject({ name: 'Marrow Bank', status: 'accepted', requestedBy: { name: 'Ivo Marlstone' } });
   });
 });

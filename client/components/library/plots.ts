@@ -98,8 +98,8 @@ export function crossplotOption(input: CrossplotInput): { option: EChartsOption;
   });
   const option: EChartsOption = {
     animation: false,
-    grid: { left: 70, right: 24, top: 40, bottom: 56 },
-    legend: { top: 4, type: 'scroll' },
+    grid: { left: 70, right: 24, top: 28, bottom: 84 },
+    legend: { bottom: 0, type: 'scroll' },
     tooltip: {
       trigger: 'item',
       formatter: (p: unknown) => {
