@@ -95,6 +95,28 @@ export function shapeDistance(a: readonly number[], b: readonly number[]): numbe
   return Math.sqrt(s / a.length);
 }
 
+/** Blocks of the piecewise aggregate approximation used to index shapes. */
+export const SHAPE_PAA_BLOCKS = 8;
+
+/**
+ * Piecewise aggregate approximation of a shape (Keogh et al. 2001): the mean
+ * of each of SHAPE_PAA_BLOCKS equal blocks, times √(block length). The
+ * Euclidean distance of two such vectors is a lower bound of the Euclidean
+ * distance of the shapes (Cauchy–Schwarz within each block), so a
+ * nearest-neighbour search on this 8-dimensional index can be checked exact.
+ */
+export function shapePaa(shape: readonly number[]): number[] {
+  const L = shape.length / SHAPE_PAA_BLOCKS;
+  if (!Number.isInteger(L)) throw new Error(`shapePaa: ${shape.length} samples do not split into ${SHAPE_PAA_BLOCKS} blocks`);
+  const out: number[] = [];
+  for (let j = 0; j < SHAPE_PAA_BLOCKS; j++) {
+    let s = 0;
+    for (let i = j * L; i < (j + 1) * L; i++) s += shape[i];
+    out.push((s / L) * Math.sqrt(L));
+  }
+  return out;
+}
+
 const mean = (xs: number[]) => (xs.length ? xs.reduce((s, v) => s + v, 0) / xs.length : null);
 
 /** The analogue metrics of one engine buildup entry. */

@@ -21,7 +21,7 @@ import { fileStoreFor, randomName } from '../storage/fileStore';
 import { measureWithProfilesOffLoop } from '../measure/pool';
 import { fromGeometry, toInterpretationInput, ModelError } from '../../shared/editor/model';
 import { MeasureInputError, OUTPUT_FORMAT } from '../../shared/measure/index';
-import { metricsFromMeasurement, metricVector, metricSpaceValue, shapeOf } from '../../shared/analogue-shape';
+import { metricsFromMeasurement, metricVector, metricSpaceValue, shapeOf, shapePaa, shapeDistance } from '../../shared/analogue-shape';
 import { icsPlacement, icsUnit, ICS_EDITION, ICS_UNITS } from '../../shared/ics-chart';
 import { cropBuildup } from './analogue-crop';
 import {
@@ -214,6 +214,7 @@ function derived(v: { icsUnit?: string | null; ageMa?: number | null; citation?:
   const unit = v.icsUnit ? icsUnit(v.icsUnit) : undefined;
   const ageMa = v.ageMa ?? (unit ? (unit.baseMa + unit.topMa) / 2 : null);
   const c = v.citation ?? null;
+  const shape = v.profile ? shapeOf(v.profile) : null;
   return {
     ics_unit: unit?.name ?? null,
     period: place.period,
@@ -224,7 +225,8 @@ function derived(v: { icsUnit?: string | null; ageMa?: number | null; citation?:
     citation_text: c ? [c.authors, c.year, c.title, c.container, c.doi].filter((s) => s != null && s !== '').join(' ') : null,
     year: c?.year ?? null,
     metric_vec: metricVector(v.metrics),
-    shape: v.profile ? shapeOf(v.profile) : null,
+    shape,
+    shape_paa: shape ? shapePaa(shape) : null,
     profile: v.profile ?? null,
   };
 }
@@ -756,8 +758,10 @@ async function librarySds(): Promise<number[]> {
  *   SHAPE_SAMPLES equally spaced x, divided by √N (shared/analogue-shape.ts).
  *
  * Metrics: one sequential scan in SQL over the precomputed `metric_vec`
- * array (no per-row JSON), top k by distance. Shape: a nearest-neighbour scan
- * of the GiST index on `cube(shape)` (the `cube` extension's `<->`, Euclidean).
+ * array (no per-row JSON), top k by distance. Shape: nearest candidates on
+ * the GiST index of the shapes' piecewise aggregate approximation (a lower
+ * bound, the `cube` extension's `<->`), exact distances on those, and more
+ * candidates until the bound proves the k found are the nearest.
  */
 export async function lookAlikes(actor: Actor, v: LookAlikesInput): Promise<LookAlikesResponse> {
   let qMetrics: Metrics;
@@ -806,13 +810,21 @@ export async function lookAlikes(actor: Actor, v: LookAlikesInput): Promise<Look
   } else {
     if (!qShape) throw invalid(422, 'query_lacks_profile', 'from', `${qName} has no depth profile to compare`);
     usable = 'shape IS NOT NULL';
-    // nearest neighbours on the GiST index on cube(shape): Euclidean distance, divided by √N below
-    const qc = b.add(qShape);
-    const rows = await db().query<{ id: number; d: number }>(`SELECT id, cube(shape) <-> cube(${qc}::float8[]) AS d FROM analogues WHERE ${where_} AND ${usable} ORDER BY cube(shape) <-> cube(${qc}::float8[]), id LIMIT ${v.k}`, {
-      bind: b.values,
-      type: QueryTypes.SELECT,
-    });
-    top = rows.map((r) => ({ id: r.id, d: r.d / Math.sqrt(SHAPE_SAMPLES) }));
+    // candidates nearest on the lower-bound index, exact distances on them; when the k-th exact distance
+    // exceeds the largest bound among the candidates, ask for more candidates (at last: all of them)
+    const qp = b.add(shapePaa(qShape));
+    let m = Math.max(50, 5 * v.k);
+    for (;;) {
+      const cand = await db().query<{ id: number; shape: number[]; lb: number }>(
+        `SELECT id, shape, cube(shape_paa) <-> cube(${qp}::float8[]) AS lb FROM analogues WHERE ${where_} AND ${usable} ORDER BY cube(shape_paa) <-> cube(${qp}::float8[]) LIMIT ${m}`,
+        { bind: b.values, type: QueryTypes.SELECT },
+      );
+      const exact = cand.map((r) => ({ id: r.id, d: shapeDistance(qShape, r.shape) })).sort((x, y) => x.d - y.d || x.id - y.id);
+      top = exact.slice(0, v.k);
+      const bound = cand.length ? cand[cand.length - 1].lb / Math.sqrt(SHAPE_SAMPLES) : Infinity;
+      if (cand.length < m || top.length < v.k || top[top.length - 1].d <= bound) break;
+      m *= 4;
+    }
     method = `L2 distance of depth profiles normalised to unit height and width and resampled at ${SHAPE_SAMPLES} equally spaced points, divided by √${SHAPE_SAMPLES} (root-mean-square height difference; 0 = same shape).`;
   }
   const cb = new Binds();

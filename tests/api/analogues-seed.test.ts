@@ -7,6 +7,7 @@ import request from 'supertest';
 import { bearer, createTestApp, type TestApp } from '../helpers/app';
 import { ctx } from '../../server/context';
 import { DEMO_ANALOGUE_COUNT, generateAnalogues, seedDemoAnalogues } from '../../server/db/seeders/analogues';
+import { shapeDistance, shapePaa } from '../../shared/analogue-shape';
 
 let t: TestApp;
 let token: string;
@@ -51,6 +52,27 @@ describe('demo analogues', () => {
       const d = r.body.matches.map((m: { distance: number }) => m.distance);
       expect([...d].sort((a, b) => a - b)).toEqual(d);
       expect(r.body.compared + r.body.skipped).toBe(DEMO_ANALOGUE_COUNT - 1);
+    }
+  });
+
+  it('shape Look-alikes through the lower-bound index equal a brute-force scan', async () => {
+    const [rows] = (await ctx().sequelize.query("SELECT id, shape FROM analogues WHERE status = 'accepted' AND shape IS NOT NULL ORDER BY id")) as [{ id: number; shape: number[] }[], unknown];
+    for (const q of [rows[0], rows[77], rows[150]]) {
+      // the bound really is a lower bound
+      for (const r of rows.slice(0, 40)) {
+        const lb = Math.hypot(...shapePaa(q.shape).map((v, i) => v - shapePaa(r.shape)[i])) / 8;
+        expect(lb).toBeLessThanOrEqual(shapeDistance(q.shape, r.shape) + 1e-12);
+      }
+      const brute = rows
+        .filter((r) => r.id !== q.id)
+        .map((r) => ({ id: r.id, d: shapeDistance(q.shape, r.shape) }))
+        .sort((a, b) => a.d - b.d || a.id - b.id);
+      for (const k of [3, 12, 60]) {
+        const res = await request(t.app).post('/api/analogues/look-alikes').set(bearer(token)).send({ from: { analogueId: q.id }, mode: 'shape', k });
+        expect(res.status).toBe(200);
+        expect(res.body.matches.map((m: { analogue: { id: number } }) => m.analogue.id)).toEqual(brute.slice(0, k).map((b) => b.id));
+        res.body.matches.forEach((m: { distance: number }, i: number) => expect(m.distance).toBeCloseTo(brute[i].d, 12));
+      }
     }
   });
 });

@@ -13,11 +13,13 @@
  *   spans decades) is precomputed on write: Look-alikes by metrics is one
  *   sequential scan computing the weighted z-score distance per row in SQL
  *   (no per-row JSON), top k by a heap sort;
- * - `shape` (float8[SHAPE_SAMPLES], the normalised profile) has a GiST index on
- *   `cube(shape)` (the `cube` extension that Debian's postgresql-15 package
- *   ships, marked trusted so a database owner may create it): Look-alikes by
- *   shape is a nearest-neighbour index scan on the Euclidean distance `<->`,
- *   reading the heap only for the k rows it returns.
+ * - `shape` (float8[SHAPE_SAMPLES], the normalised profile) comes with
+ *   `shape_paa` (its 8-block piecewise aggregate approximation, a lower bound
+ *   of the Euclidean distance) and a GiST index on `cube(shape_paa)` (the
+ *   `cube` extension that Debian's postgresql-15 package ships, marked trusted
+ *   so a database owner may create it): Look-alikes by shape takes the nearest
+ *   candidates on that index (`<->`), computes the exact distance on them and
+ *   checks the bound (a 64-dimensional index would visit most of itself).
  */
 import type { MigrationContext } from '../migrate';
 
@@ -96,7 +98,11 @@ export async function up({ sequelize }: MigrationContext) {
     ) STORED
   )`);
   await q('CREATE EXTENSION IF NOT EXISTS cube');
-  await q(`CREATE INDEX analogues_shape_cube_idx ON analogues USING gist (cube(shape))`);
+  // shapes are indexed by their 8-block piecewise aggregate approximation (a lower bound of the distance, see
+  // shared/analogue-shape.ts): nearest neighbours on the small index, then the exact distance on a few candidates
+  await q(`ALTER TABLE analogues ADD COLUMN shape_paa double precision[]`);
+  await q(`ALTER TABLE analogues ALTER COLUMN shape_paa SET STORAGE PLAIN`);
+  await q(`CREATE INDEX analogues_shape_paa_idx ON analogues USING gist (cube(shape_paa))`);
   // keep the heap narrow for the scans of search and Look-alikes: the shape array (≈ 0.5 kB), profile,
   // snapshot, ranges and citation live out of line (TOAST) once a row passes 256 bytes…
   await q(`ALTER TABLE analogues SET (toast_tuple_target = 256)`);
