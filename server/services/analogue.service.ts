@@ -790,7 +790,8 @@ export async function lookAlikes(actor: Actor, v: LookAlikesInput): Promise<Look
   const where_ = where.join(' AND ');
   let usable: string;
   if (v.mode === 'metrics') {
-    const chosen = (v.metrics ?? DEFAULT_LOOKALIKE_METRICS).filter((m) => m.weight > 0);
+    // the default metrics drop those the query lacks (a one-cycle buildup has no trajectory); chosen ones must exist
+    const chosen = (v.metrics ?? DEFAULT_LOOKALIKE_METRICS.filter((m) => metricSpaceValue(m.key, qMetrics[m.key]) != null)).filter((m) => m.weight > 0);
     if (!chosen.length) throw invalid(400, 'validation_failed', 'metrics', 'give at least one metric a weight above 0');
     const idx = (k: MetricKey) => METRIC_KEYS.indexOf(k) + 1;
     const sds = await librarySds();

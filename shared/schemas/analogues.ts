@@ -438,7 +438,7 @@ export const lookAlikesSchema = z
     from: z.union([z.object({ analogueId: z.number().int().positive() }), z.object({ buildupId: z.number().int().positive() })]),
     /** 'metrics': weighted Euclidean distance of z-scores; 'shape': L2 distance of normalised profiles. */
     mode: z.enum(['metrics', 'shape']),
-    /** Metrics and weights (mode 'metrics'); default: height, base width, aspect ratio, trajectory, mean flank angle, weight 1. */
+    /** Metrics and weights (mode 'metrics'); default: height, base width, aspect ratio, trajectory, mean flank angle, weight 1 (those the query has). */
     metrics: z
       .array(z.object({ key: metricKeySchema, weight: z.number().min(0).max(100).default(1) }))
       .min(1)

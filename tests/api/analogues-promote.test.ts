@@ -81,6 +81,23 @@ describe('promotion', () => {
     expect(meta.width).toBeGreaterThan(50);
   });
 
+  it('Look-alikes from a buildup: its own promoted snapshot is the nearest, at distance 0', async () => {
+    for (const mode of ['shape', 'metrics']) {
+      const r = await request(t.app).post('/api/analogues/look-alikes').set(bearer(interpreter)).send({ from: { buildupId: buildup.id }, mode, k: 3 });
+      expect(r.status, JSON.stringify(r.body)).toBe(200);
+      expect(r.body.query.name).toBe('Kestrel Knoll');
+      expect(r.body.matches[0].analogue.name).toBe('Kestrel Knoll');
+      expect(r.body.matches[0].distance).toBeCloseTo(0, 9);
+    }
+    // one cycle has no trajectory: the defaults leave it out, an explicit choice is refused naming it
+    const chosen = await request(t.app).post('/api/analogues/look-alikes').set(bearer(interpreter)).send({ from: { buildupId: buildup.id }, mode: 'metrics', metrics: [{ key: 'trajectoryDeg' }] });
+    expect(chosen.status).toBe(422);
+    expect(chosen.body.code).toBe('query_lacks_metric');
+    expect(chosen.body.message).toContain('trajectoryDeg');
+    const outsider = await request(t.app).post('/api/analogues/look-alikes').set(bearer(interpreter)).send({ from: { buildupId: 999999 }, mode: 'shape' });
+    expect(outsider.status).toBe(404);
+  });
+
   it('interpreters ask, curators accept or decline; pending ones stay out of the default search', async () => {
     const ask = await request(t.app).post(`/api/buildups/${buildup.id}/promote`).set(bearer(interpreter)).send({ name: 'Kestrel Knoll (asked)' });
     expect(ask.status, JSON.stringify(ask.body)).toBe(201);
