@@ -39,7 +39,7 @@ export const REGISTER_NUMERIC_KEYS = Object.keys(REGISTER_NUMERIC) as RegisterNu
 /** A comma-separated list (or a repeated parameter) of allowed values. */
 function listOf<T extends readonly [string, ...string[]]>(values: T) {
   return z
-    .union([z.string(), z.array(z.string())])
+    .union([safeText(), z.array(safeText())])
     .transform((v) => (Array.isArray(v) ? v : v.split(',')).map((s) => s.trim()).filter(Boolean))
     .pipe(z.array(z.enum(values, { error: `must be one of ${values.join(', ')}` })));
 }

@@ -14,6 +14,7 @@ import * as buildups from '../../../shared/schemas/buildups';
 import * as interpretation from '../../../shared/schemas/interpretation';
 import * as account from '../../../shared/schemas/account';
 import * as notifications from '../../../shared/schemas/notifications';
+import * as register from '../../../shared/schemas/register';
 import * as review from '../../../shared/schemas/review';
 import { buildupGeometrySchema } from '../../../shared/editor/model';
 
@@ -148,7 +149,7 @@ function bareStrings(schema: unknown, path: string, seen = new Set<unknown>()): 
 }
 
 describe('no bare z.string() in the shared schemas', () => {
-  const modules = { auth, users, projects, sections, buildups, interpretation, account, notifications, review, editor: { buildupGeometrySchema } };
+  const modules = { auth, users, projects, sections, buildups, interpretation, account, notifications, review, register, editor: { buildupGeometrySchema } };
 
   it('the walker finds a bare string (so the sweep below can fail)', async () => {
     const { z } = await import('zod');
