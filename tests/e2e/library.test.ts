@@ -8,6 +8,7 @@
  * an analogue from a publication. The library holds the
  * ~200 invented demo analogues besides. Screenshots 60-… in tests/e2e/screenshots/.
  */
+import fs from 'node:fs';
 import type { Page } from 'playwright-core';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -177,6 +178,13 @@ describe('Analogue library in the browser', () => {
     expect(await page.locator(`[data-test="library-row-${analogueId}"]`).count()).toBe(1);
     await curatorBrowser.shot('64-library-search-tag');
 
+    // The search exports as CSV with the same filters.
+    const [download] = await Promise.all([page.waitForEvent('download'), page.click('[data-test="export-csv"]')]);
+    const csvText = fs.readFileSync((await download.path())!, 'utf8');
+    const csvLines = csvText.trim().split(/\r?\n/);
+    expect(csvLines).toHaveLength(2); // header and Kestrel Knoll only
+    expect(csvLines[1]).toContain('Kestrel Knoll');
+
     // Saved as a named search, it comes back from the list of saved searches.
     await page.click('[data-test="saved-searches"]');
     await page.fill('[data-test="saved-search-name"]', 'Onlapped tops');
@@ -223,6 +231,20 @@ describe('Analogue library in the browser', () => {
     await page.click('[data-test="view-map"]');
     await point.click();
     await page.waitForURL(new RegExp(`/library/${analogueId}$`));
+  });
+
+  it('says so on its page when the live interpretation changes after the promotion', async () => {
+    const page = curatorBrowser.page;
+    const token = await t.token('interpreter');
+    const live = await request(t.app).get(`/api/buildups/${kestrelBuildupId}`).set(bearer(token));
+    expect(live.status, JSON.stringify(live.body)).toBe(200);
+    const geometry = live.body.geometry as BuildupGeometry;
+    const moved = { ...geometry, base: geometry.base.map(([x, y]) => [x, y + 2] as [number, number]) };
+    const saved = await request(t.app).put(`/api/buildups/${kestrelBuildupId}`).set(bearer(token)).send({ version: live.body.version, geometry: moved });
+    expect(saved.status, JSON.stringify(saved.body)).toBe(200);
+    await page.goto(`/library/${analogueId}`);
+    await page.waitForSelector('[data-test="analogue-live-changed"]');
+    expect(await page.textContent('[data-test="analogue-live-changed"]')).toContain('has changed since');
   });
 
   it('finds it in a crossplot, highlighted among the library', async () => {
