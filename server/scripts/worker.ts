@@ -18,6 +18,8 @@ import { migrate } from '../db/migrate';
 import { initModels } from '../models/index';
 import { startBackgroundJobs } from '../jobs/pyramid.job';
 import { logger } from '../logger';
+import { setContext } from '../context';
+import { createMailer } from '../mail/mailer';
 
 async function main() {
   const databaseUrl = process.env.DATABASE_URL;
@@ -28,6 +30,8 @@ async function main() {
   await sequelize.authenticate();
   await migrate(sequelize);
   initModels(sequelize);
+  // the services jobs call (register summaries, reports) read the database and config from the app context
+  setContext({ config, sequelize, mailer: createMailer({ host: process.env.SMTP_HOST ?? config.mail.host, port: config.mail.port, from: config.mail.from }) });
   const jobs = await startBackgroundJobs({ databaseUrl, config, sequelize });
   logger.info({ storage: config.storageDir }, 'Cayline worker up');
   const stop = async () => {
