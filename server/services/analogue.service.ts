@@ -630,37 +630,44 @@ const SORT_SQL = (q: AnalogueSearchQuery, b: Binds): string => {
 };
 
 /**
- * Facet counts in one statement: the rows matching every non-facet filter are
- * read once (materialised with one boolean per active facet), then each facet
- * is grouped over the rows that match every *other* facet (so a value's count
- * is what the result would hold if it were added to that facet's selection).
- * Free tags combine with AND, so their counts include the tag selection
- * (drill-down: how many of the current results also carry the tag).
+ * Facet counts in two statements. (1) One hash aggregate over the rows
+ * matching every non-facet filter, grouped by the five list facets' values and
+ * one boolean per active facet (a few thousand groups at most); each facet's
+ * counts are then summed here over the groups that match every *other* facet,
+ * so a value's count is what the result would hold if it were added to that
+ * facet's selection. (2) Free tags combine with AND, so their counts take all
+ * filters (drill-down: how many of the current results also carry the tag).
  */
 async function facetCounts(q: AnalogueSearchQuery): Promise<{ facets: Partial<Record<Facet, FacetCount[]>>; total: number }> {
+  const LIST = ['setting', 'factory', 'climate', 'class', 'period'] as const;
   const b = new Binds();
   const base = baseConditions(q, b);
   const active = activeFacets(q);
-  const flags = active.map((f) => `${facetCondition(f, q[f] as string[], b)} AS ok_${f}`);
-  const others = (f: Facet | null) => {
-    const c = active.filter((a) => a !== f).map((a) => `ok_${a}`);
-    return c.length ? c.join(' AND ') : 'true';
-  };
-  const parts = (['setting', 'factory', 'climate', 'class', 'period'] as const).map(
-    (f) => `SELECT '${f}'::text AS facet, ${FACET_COLUMN[f]}::text AS value, count(*)::int AS n FROM base WHERE ${others(f)} AND ${FACET_COLUMN[f]} IS NOT NULL GROUP BY 2`,
+  const flags = active.map((f) => `(${facetCondition(f, q[f] as string[], b)}) AS ok_${f}`);
+  const groups = db().query<Row>(
+    `SELECT ${LIST.map((f) => FACET_COLUMN[f]).join(', ')}${flags.length ? ', ' + flags.join(', ') : ''}, count(*)::int AS n
+       FROM analogues WHERE ${base.length ? base.join(' AND ') : 'true'} GROUP BY ${LIST.map((_, i) => i + 1).concat(active.map((_, i) => LIST.length + i + 1)).join(', ')}`,
+    { bind: b.values, type: QueryTypes.SELECT },
   );
-  parts.push(`(SELECT 'tags', t, count(*)::int FROM base, unnest(tags) AS t WHERE ${others(null)} GROUP BY 2 ORDER BY 3 DESC, 2 LIMIT 50)`);
-  parts.push(`SELECT '_total', NULL, count(*)::int FROM base WHERE ${others(null)}`);
-  const sql = `WITH base AS MATERIALIZED (SELECT setting, factory, climate, class, period, tags${flags.length ? ', ' + flags.join(', ') : ''} FROM analogues WHERE ${base.length ? base.join(' AND ') : 'true'})
-    ${parts.join('\n    UNION ALL ')}`;
-  const rows = await db().query<{ facet: string; value: string; n: number }>(sql, { bind: b.values, type: QueryTypes.SELECT });
+  const tb = new Binds();
+  const tags = db().query<{ value: string; n: number }>(
+    `SELECT t AS value, count(*)::int AS n FROM analogues, unnest(tags) AS t WHERE ${whereOf(q, tb)} GROUP BY t ORDER BY 2 DESC, 1 LIMIT 50`,
+    { bind: tb.values, type: QueryTypes.SELECT },
+  );
+  const [rows, tagRows] = await Promise.all([groups, tags]);
   const facets: Partial<Record<Facet, FacetCount[]>> = {};
-  for (const f of FACETS) facets[f] = [];
+  const okBut = (r: Row, f: Facet | null) => active.every((a) => a === f || r[`ok_${a}`]);
   let total = 0;
-  for (const r of rows) {
-    if (r.facet === '_total') total = r.n;
-    else facets[r.facet as Facet]!.push({ value: r.value, count: r.n });
+  for (const f of LIST) {
+    const m = new Map<string, number>();
+    for (const r of rows) {
+      const v = r[FACET_COLUMN[f]];
+      if (v != null && okBut(r, f)) m.set(v, (m.get(v) ?? 0) + r.n);
+    }
+    facets[f] = [...m].map(([value, count]) => ({ value, count }));
   }
+  for (const r of rows) if (okBut(r, null)) total += r.n;
+  facets.tags = tagRows.map((r) => ({ value: r.value, count: r.n }));
   for (const f of FACETS) facets[f]!.sort((a, b) => b.count - a.count || a.value.localeCompare(b.value));
   return { facets, total };
 }
