@@ -156,6 +156,7 @@ describe('toInterpretationInput', () => {
               marginRight: [780, 682],
               flankLeft: [[150, 700], [120, 790]],
               ageTopMa: 14.2,
+              systemsTract: 'TST', // the Ledger's label travels with the cycle (exports name it)
             },
             {
               index: 2,
