@@ -15,6 +15,9 @@ import type {
   ImportMapping,
   ImportPreview,
   ImportResult,
+  ListItem,
+  ListItemInput,
+  ListName,
   LookAlikesRequest,
   LookAlikesResponse,
   PromoteInput,
@@ -81,6 +84,16 @@ export function findLookAlikes(req: LookAlikesRequest): Promise<LookAlikesRespon
 /** GET /api/analogues/lists — setting, factory and climate values with labels. */
 export function getControlledLists(): Promise<ControlledLists> {
   return apiFetch<ControlledLists>('/analogues/lists');
+}
+
+/** POST /api/analogues/lists/:list (curator, admin); 409 list_value_exists when the value is there already. */
+export function addListItem(list: ListName, item: ListItemInput): Promise<ListItem> {
+  return apiFetch<ListItem>(`/analogues/lists/${list}`, { method: 'POST', body: item });
+}
+
+/** DELETE /api/analogues/lists/:list/:value (curator, admin); 409 list_value_in_use while any analogue carries it. */
+export function removeListItem(list: ListName, value: string): Promise<void> {
+  return apiFetch<void>(`/analogues/lists/${list}/${encodeURIComponent(value)}`, { method: 'DELETE' });
 }
 
 /** GET /api/analogues/ics-chart */

@@ -4,12 +4,15 @@ import type {
   AnalogueDetail,
   AnalogueSearchInput,
   AnalogueUpdateInput,
+  ListItemInput,
+  ListName,
   LookAlikesRequest,
   PromoteInput,
   SavedSearchInput,
 } from '../../shared/schemas/analogues';
 import {
   acceptAnalogue,
+  addListItem,
   createSavedSearch,
   declineAnalogue,
   deleteSavedSearch,
@@ -19,6 +22,7 @@ import {
   getIcsChart,
   listSavedSearches,
   promoteBuildup,
+  removeListItem,
   searchAnalogues,
   updateAnalogue,
 } from '../api/analogues';
@@ -56,6 +60,30 @@ export function useAnalogue(id: MaybeRefOrGetter<number>) {
 /** Controlled lists (setting, factory, climate) with labels; they change rarely. */
 export function useControlledLists() {
   return useQuery({ queryKey: analogueKeys.lists(), queryFn: getControlledLists, staleTime: 5 * 60_000 });
+}
+
+/** Add a value to a controlled list (curator, admin); the lists and every search's labels and facets refresh. */
+export function useAddListItem() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (v: { list: ListName; item: ListItemInput }) => addListItem(v.list, v.item),
+    onSuccess: () => {
+      void qc.invalidateQueries({ queryKey: analogueKeys.lists() });
+      void qc.invalidateQueries({ queryKey: analogueKeys.searches() });
+    },
+  });
+}
+
+/** Remove a value no analogue uses (curator, admin); the server answers 409 list_value_in_use otherwise. */
+export function useRemoveListItem() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (v: { list: ListName; value: string }) => removeListItem(v.list, v.value),
+    onSettled: () => {
+      void qc.invalidateQueries({ queryKey: analogueKeys.lists() });
+      void qc.invalidateQueries({ queryKey: analogueKeys.searches() });
+    },
+  });
 }
 
 export function useIcsChart() {

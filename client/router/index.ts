@@ -96,6 +96,12 @@ export const router = createRouter({
           meta: { roles: ['curator', 'admin'], title: 'Add an analogue' },
         },
         {
+          path: 'library/lists',
+          name: 'library-lists',
+          component: () => import('../pages/LibraryListsPage.vue'),
+          meta: { title: 'Tag lists' },
+        },
+        {
           path: 'library/look-alikes',
           name: 'look-alikes',
           component: () => import('../pages/LookAlikesPage.vue'),
