@@ -1,6 +1,7 @@
 /**
  * A background worker process without HTTP: `DATABASE_URL=… tsx server/scripts/worker.ts`.
- * Builds section tile pyramids from the shared pg-boss queue; run several
+ * Builds section tile pyramids, reports, register summaries and the daily
+ * notification digest from the shared pg-boss queue; run several
  * next to web processes started with CAYLINE_JOB_WORKERS=0. Needs the same
  * storage folder (CAYLINE_STORAGE) as the web processes while the file store
  * is local disk.
@@ -17,6 +18,7 @@ import { createSequelize } from '../db/sequelize';
 import { migrate } from '../db/migrate';
 import { initModels } from '../models/index';
 import { startBackgroundJobs } from '../jobs/pyramid.job';
+import { startDigestJob } from '../jobs/digest.job';
 import { logger } from '../logger';
 import { setContext } from '../context';
 import { createMailer } from '../mail/mailer';
@@ -33,6 +35,7 @@ async function main() {
   // the services jobs call (register summaries, reports) read the database and config from the app context
   setContext({ config, sequelize, mailer: createMailer({ host: process.env.SMTP_HOST ?? config.mail.host, port: config.mail.port, from: config.mail.from }) });
   const jobs = await startBackgroundJobs({ databaseUrl, config, sequelize });
+  await startDigestJob(jobs.boss, config); // the daily digest also runs where every web process has CAYLINE_JOB_WORKERS=0
   logger.info({ storage: config.storageDir }, 'Cayline worker up');
   const stop = async () => {
     await jobs.stop();

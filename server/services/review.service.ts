@@ -12,7 +12,7 @@
 import { Op, type Transaction } from 'sequelize';
 import { Buildup, SectionVelocity } from '../models/buildup';
 import { Section, SectionCalibration } from '../models/section';
-import { User } from '../models/index';
+import { ProjectMember, User } from '../models/index';
 import { BuildupVersion, ReviewTransition } from '../models/review';
 import { AppError, forbidden, notFound } from '../middlewares/errors';
 import { assertCanEdit, type Actor } from './project.service';
@@ -98,6 +98,12 @@ async function authorIds(b: Buildup, transaction?: Transaction): Promise<number[
   return [...ids];
 }
 
+/** The project's reviewers (members with the reviewer role): told when a buildup is sent for review. */
+async function projectReviewerIds(projectId: number, transaction?: Transaction): Promise<number[]> {
+  const rows = await ProjectMember.findAll({ where: { projectId }, attributes: ['userId'], include: [{ model: User, as: 'user', attributes: ['id'], where: { role: 'reviewer', active: true } }], transaction });
+  return rows.map((r) => r.userId);
+}
+
 /** Everyone who took a reviewer's transition (rework, sign-off, reopen) on this buildup. */
 async function reviewerIds(b: Buildup, transaction?: Transaction): Promise<number[]> {
   const rows = await ReviewTransition.findAll({ where: { buildupId: b.id }, attributes: ['fromState', 'toState', 'actorId'], transaction });
@@ -167,7 +173,12 @@ async function writeTransition(actor: Actor, b: Buildup, from: ReviewState, to: 
   await notify(
     {
       kind: 'review_state',
-      recipientIds: [...(await authorIds(b, transaction)), ...(await reviewerIds(b, transaction))],
+      recipientIds: [
+        ...(await authorIds(b, transaction)),
+        ...(await reviewerIds(b, transaction)),
+        // sent for review: every reviewer of the project hears of it, not only those who acted on it before
+        ...(to === 'out_for_review' ? await projectReviewerIds(section!.projectId, transaction) : []),
+      ],
       actorId: actor.id,
       projectId: section!.projectId,
       subject: `${actorName} ${what} ${b.name} (${REVIEW_STATE_LABELS[from]} → ${REVIEW_STATE_LABELS[to]}, version ${b.version})`,

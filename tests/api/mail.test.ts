@@ -232,8 +232,10 @@ describe('notification mails', () => {
     const before = { interp: (await mailsTo(ROLE_EMAIL.interpreter)).length, rev: (await mailsTo(ROLE_EMAIL.reviewer)).length };
 
     expect((await review(interp, { from: 'draft', to: 'out_for_review' })).status).toBe(200);
-    // nobody else took part yet: the owner acted, no reviewer so far
+    // the owner acted (no mail to them); the project's reviewer is asked to look
     expect((await mailsTo(ROLE_EMAIL.interpreter)).length).toBe(before.interp);
+    expect((await mailsTo(ROLE_EMAIL.reviewer)).length).toBe(before.rev + 1);
+    expect((await mailsTo(ROLE_EMAIL.reviewer))[0].subject).toMatch(/^Ivo Marlstone .*Marrow Bank \(Draft → Out for review/);
     const rework = await review(rev, { from: 'out_for_review', to: 'needs_rework', comment: 'The right Margin pin sits on a multiple.' });
     expect(rework.status, JSON.stringify(rework.body)).toBe(200);
     const toOwner = (await mailsTo(ROLE_EMAIL.interpreter))[0];
@@ -249,7 +251,7 @@ describe('notification mails', () => {
     expect(save.status, JSON.stringify(save.body)).toBe(200);
     expect((await review(interp, { from: 'draft', to: 'out_for_review' })).status).toBe(200);
     const toReviewer = (await mailsTo(ROLE_EMAIL.reviewer)).slice(0, 2).map((m) => m.subject);
-    expect((await mailsTo(ROLE_EMAIL.reviewer)).length).toBe(before.rev + 2);
+    expect((await mailsTo(ROLE_EMAIL.reviewer)).length).toBe(before.rev + 3);
     expect(toReviewer[1]).toMatch(/^Ivo Marlstone .*Marrow Bank \(Needs rework → Draft/);
     expect(toReviewer[0]).toMatch(/^Ivo Marlstone .*Marrow Bank \(Draft → Out for review/);
     const sign = await review(rev, { from: 'out_for_review', to: 'signed_off', comment: 'Good to go.' });
@@ -257,7 +259,7 @@ describe('notification mails', () => {
     const signed = (await mailsTo(ROLE_EMAIL.interpreter))[0];
     expect(signed.subject).toMatch(/Marrow Bank \(Out for review → Signed off/);
     expect(signed.text).toContain('> Good to go.');
-    expect((await mailsTo(ROLE_EMAIL.reviewer)).length).toBe(before.rev + 2); // not told of their own sign-off
+    expect((await mailsTo(ROLE_EMAIL.reviewer)).length).toBe(before.rev + 3); // not told of their own sign-off
   });
 
   it('notify drops the actor, duplicates, non-members and inactive people; each kind mails its subject and link', async () => {

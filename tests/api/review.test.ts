@@ -244,13 +244,16 @@ describe('review state machine', () => {
     expect(audits.map((a) => (a.details as { to: string }).to)).toEqual(['out_for_review', 'needs_rework']);
   });
 
-  it('every transition tells the authors and earlier reviewers (never the actor), with a link to the buildup', async () => {
+  it('every transition tells the authors and earlier reviewers (never the actor), a request for review every reviewer of the project, with a link to the buildup', async () => {
     const b = await buildupIn(sectionId, 'draft');
     const told = async (who: DemoRole) =>
       (await Notification.findAll({ where: { recipientId: ids[who], kind: 'review_state' }, order: [['id', 'ASC']] })).filter((n) => n.link === `/sections/${sectionId}/interpret?buildup=${b.id}`);
     const before = { interpreter: (await told('interpreter')).length, reviewer: (await told('reviewer')).length, admin: (await told('admin')).length };
-    expect((await move(b.id, 'draft', 'out_for_review', 'interpreter')).status).toBe(200); // the only author acts: nobody to tell
+    expect((await move(b.id, 'draft', 'out_for_review', 'interpreter')).status).toBe(200); // the only author acts: the project's reviewers hear of it
     expect((await told('interpreter')).length).toBe(before.interpreter);
+    expect((await told('reviewer')).length).toBe(before.reviewer + 1);
+    expect((await told('reviewer')).at(-1)!.subject).toContain('Draft → Out for review');
+    expect((await told('admin')).length).toBe(before.admin); // admins are not the project's reviewers
     expect((await move(b.id, 'out_for_review', 'needs_rework', 'reviewer', { comment: 'Base too shallow at the left margin' })).status).toBe(200);
     const rework = (await told('interpreter')).at(-1)!;
     expect((await told('interpreter')).length).toBe(before.interpreter + 1);
@@ -258,7 +261,7 @@ describe('review state machine', () => {
     expect(rework.text).toBe('Base too shallow at the left margin');
     expect(rework.actorId).toBe(ids.reviewer);
     expect((await save(b.id, b.version, SMALL_GEOMETRY)).status).toBe(200); // back to Draft by the save: the reviewer hears of it
-    expect((await told('reviewer')).length).toBe(before.reviewer + 1);
+    expect((await told('reviewer')).length).toBe(before.reviewer + 2);
     expect((await told('admin')).length).toBe(before.admin); // neither author nor reviewer of this one
   });
 

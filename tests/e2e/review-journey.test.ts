@@ -164,12 +164,13 @@ describe('review journey', () => {
     });
     await ip.route(/\/api\/buildups\/\d+\/review$/, (route) => (route.request().method() === 'GET' && !refused ? route.abort() : route.continue()));
 
-    // 6. The reviewer hears of the answer (not yet of the request: they have not reviewed this buildup before), and signs it off.
+    // 6. The reviewer (a reviewer of the project) hears of the request and of the answer, and signs it off.
     await signOut(rp);
     await signIn(rp, 'reviewer@tessel.example');
-    await expect.poll(() => rp.locator('[data-test="bell-count"]').textContent(), { timeout: 30_000 }).toBe('1');
+    await expect.poll(() => rp.locator('[data-test="bell-count"]').textContent(), { timeout: 30_000 }).toBe('2');
     await rp.click('[data-test="bell"]');
-    await expect.poll(() => rp.locator('[data-test="bell-item"]').first().textContent()).toMatch(/Ivo Marlstone replied in Note 1/);
+    await expect.poll(() => rp.locator('[data-test="bell-item"]').first().textContent()).toMatch(/Marrow Bank \(Draft → Out for review/);
+    await expect.poll(() => rp.locator('[data-test="bell-item"]').nth(1).textContent()).toMatch(/Ivo Marlstone replied in Note 1/);
     await rp.keyboard.press('Escape');
     await openBank(rp);
     expect(await stateOf(rp)).toBe('out_for_review');
