@@ -630,35 +630,48 @@ const SORT_SQL = (q: AnalogueSearchQuery, b: Binds): string => {
 };
 
 /**
- * Facet counts in two statements. (1) One hash aggregate over the rows
- * matching every non-facet filter, grouped by the five list facets' values and
- * one boolean per active facet (a few thousand groups at most); each facet's
- * counts are then summed here over the groups that match every *other* facet,
- * so a value's count is what the result would hold if it were added to that
- * facet's selection. (2) Free tags combine with AND, so their counts take all
- * filters (drill-down: how many of the current results also carry the tag).
+ * Facet counts, tag counts and the total in ONE statement (one scan of the
+ * rows matching every non-facet filter). Each row carries one boolean per
+ * active facet; rows matching every facet also fan out into their tags
+ * (`unnest … WITH ORDINALITY`, so `o = 1` marks the first of a row's tags and
+ * a row without fan-out has `o` NULL). One hash aggregate builds two grouping
+ * sets:
+ * - the five list facets' values with the active-facet flags (a few thousand
+ *   groups at most), counting each row once; each facet's counts are then
+ *   summed here over the groups that match every *other* facet, so a value's
+ *   count is what the result would hold if it were added to that facet's
+ *   selection, and the total is the sum over groups matching every facet;
+ * - the free tags of the rows matching every filter (tags combine with AND:
+ *   how many of the current results also carry the tag).
+ * The list page is a separate LIMIT query (index order where one fits).
  */
-async function facetCounts(q: AnalogueSearchQuery): Promise<{ facets: Partial<Record<Facet, FacetCount[]>>; total: number }> {
-  const LIST = ['setting', 'factory', 'climate', 'class', 'period'] as const;
+const LIST_FACETS = ['setting', 'factory', 'climate', 'class', 'period'] as const;
+
+export function facetCountsSql(q: Filter): { sql: string; bind: unknown[] } {
   const b = new Binds();
   const base = baseConditions(q, b);
   const active = activeFacets(q);
   const flags = active.map((f) => `(${facetCondition(f, q[f] as string[], b)}) AS ok_${f}`);
-  const groups = db().query<Row>(
-    `SELECT ${LIST.map((f) => FACET_COLUMN[f]).join(', ')}${flags.length ? ', ' + flags.join(', ') : ''}, count(*)::int AS n
-       FROM analogues WHERE ${base.length ? base.join(' AND ') : 'true'} GROUP BY ${LIST.map((_, i) => i + 1).concat(active.map((_, i) => LIST.length + i + 1)).join(', ')}`,
-    { bind: b.values, type: QueryTypes.SELECT },
-  );
-  const tb = new Binds();
-  const tags = db().query<{ value: string; n: number }>(
-    `SELECT t AS value, count(*)::int AS n FROM analogues, unnest(tags) AS t WHERE ${whereOf(q, tb)} GROUP BY t ORDER BY 2 DESC, 1 LIMIT 50`,
-    { bind: tb.values, type: QueryTypes.SELECT },
-  );
-  const [rows, tagRows] = await Promise.all([groups, tags]);
+  const all = active.length ? active.map((f) => `a.ok_${f}`).join(' AND ') : 'true';
+  const keys = [...LIST_FACETS.map((f) => `a.${FACET_COLUMN[f]}`), ...active.map((f) => `a.ok_${f}`)];
+  const sql = `SELECT ${keys.join(', ')}, u.t AS tag, GROUPING(u.t) = 1 AS by_facets,
+         count(*) FILTER (WHERE u.o IS NULL OR u.o = 1)::int AS n, count(u.t)::int AS n_tag
+    FROM (SELECT ${LIST_FACETS.map((f) => FACET_COLUMN[f]).join(', ')}${flags.length ? ', ' + flags.join(', ') : ''}, tags
+            FROM analogues WHERE ${base.length ? base.join(' AND ') : 'true'}) a
+    LEFT JOIN LATERAL unnest(CASE WHEN ${all} THEN a.tags END) WITH ORDINALITY AS u(t, o) ON true
+   GROUP BY GROUPING SETS ((${keys.join(', ')}), (u.t))`;
+  return { sql, bind: b.values };
+}
+
+async function facetCounts(q: AnalogueSearchQuery): Promise<{ facets: Partial<Record<Facet, FacetCount[]>>; total: number }> {
+  const active = activeFacets(q);
+  const { sql, bind } = facetCountsSql(q);
+  const all = await db().query<Row>(sql, { bind, type: QueryTypes.SELECT });
+  const rows = all.filter((r) => r.by_facets);
   const facets: Partial<Record<Facet, FacetCount[]>> = {};
   const okBut = (r: Row, f: Facet | null) => active.every((a) => a === f || r[`ok_${a}`]);
   let total = 0;
-  for (const f of LIST) {
+  for (const f of LIST_FACETS) {
     const m = new Map<string, number>();
     for (const r of rows) {
       const v = r[FACET_COLUMN[f]];
@@ -667,7 +680,11 @@ async function facetCounts(q: AnalogueSearchQuery): Promise<{ facets: Partial<Re
     facets[f] = [...m].map(([value, count]) => ({ value, count }));
   }
   for (const r of rows) if (okBut(r, null)) total += r.n;
-  facets.tags = tagRows.map((r) => ({ value: r.value, count: r.n }));
+  facets.tags = all
+    .filter((r) => !r.by_facets && r.tag != null && r.n_tag > 0)
+    .map((r) => ({ value: r.tag as string, count: r.n_tag as number }))
+    .sort((x, y) => y.count - x.count || x.value.localeCompare(y.value))
+    .slice(0, 50);
   for (const f of FACETS) facets[f]!.sort((a, b) => b.count - a.count || a.value.localeCompare(b.value));
   return { facets, total };
 }

@@ -105,6 +105,8 @@ describe('facet counts', () => {
     expect(counts(r.body.facets.class)).toEqual({ prograding: 1, aggrading: 1 });
     // climate facet: all filters → B arid, Brelpav arid
     expect(counts(r.body.facets.climate)).toEqual({ arid: 2 });
+    // tags (all filters, counted in the same pass as the facets): Bank B karst, Brelpav gas-bearing
+    expect(counts(r.body.facets.tags)).toEqual({ karst: 1, 'gas-bearing': 1 });
   });
 
   it('tags combine with AND and their counts drill down', async () => {
