@@ -6,6 +6,8 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import request from 'supertest';
 import { bearer, createTestApp, type TestApp } from '../helpers/app';
+import { QueryTypes } from 'sequelize';
+import { createSequelize } from '../../server/db/sequelize';
 import type { HandEntryInput } from '../../shared/schemas/analogues';
 
 let t: TestApp;
@@ -107,6 +109,16 @@ describe('facet counts', () => {
     expect(counts(r.body.facets.climate)).toEqual({ arid: 2 });
     // tags (all filters, counted in the same pass as the facets): Bank B karst, Brelpav gas-bearing
     expect(counts(r.body.facets.tags)).toEqual({ karst: 1, 'gas-bearing': 1 });
+  });
+
+  it("the app's database sessions run without JIT (compile time would dwarf a facet scan once its cost estimate passes jit_above_cost)", async () => {
+    const sequelize = createSequelize(t.databaseUrl);
+    try {
+      const [row] = await sequelize.query<{ jit: string }>('SHOW jit', { type: QueryTypes.SELECT });
+      expect(row.jit).toBe('off');
+    } finally {
+      await sequelize.close();
+    }
   });
 
   it('tags combine with AND and their counts drill down', async () => {
