@@ -158,7 +158,7 @@ export function summariseGeometry(header: SegyFileHeader, g: GeometryCollector, 
     first = [0, 0];
     last = [x[n - 1], 0];
   }
-  const lengthUnit = header.binary.measurementSystem === 2 ? 'ft' : 'm';
+  const lengthUnit: 'm' | 'ft' = header.binary.measurementSystem === 2 ? 'ft' : 'm';
   const texts = [header.textual, ...header.extendedTextual].join('\n');
   const domain = opts.domain && opts.domain !== 'auto' ? opts.domain : DEPTH_TEXT.test(texts) ? 'depth' : 'time';
   const dt = header.sampleInterval;

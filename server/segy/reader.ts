@@ -68,6 +68,16 @@ export interface SegyTrace {
 
 const END_TEXT = '((SEG: ENDTEXT))';
 
+const GETTER: Record<string, string> = { int8: 'getInt8', uint8: 'getUint8', int16: 'getInt16', uint16: 'getUint16', int32: 'getInt32', uint32: 'getUint32', float64: 'getFloat64' };
+/**
+ * All trace header fields as one object literal built by a function compiled
+ * once from TRACE_HEADER_FIELDS (same result as readField per field, but the
+ * object gets one fixed shape: several times faster on large files).
+ */
+if (TRACE_HEADER_FIELDS.some((f) => !GETTER[f.type])) throw new Error('trace header field type without a DataView getter');
+const parseTraceFields = new Function('v', 'le', `return { ${TRACE_HEADER_FIELDS.map((f) => `${f.key}: v.${GETTER[f.type]}(${f.byte - 1}, le)`).join(', ')} };`) as (v: DataView, le: boolean) => Record<string, number>;
+
+
 /** Fraction of bytes that are printable text in ASCII and in EBCDIC (cp037). */
 function textScores(bytes: Uint8Array): { ascii: number; ebcdic: number } {
   let ascii = 0;
@@ -280,8 +290,7 @@ export class SegyReader {
 
   private parseTraceHeader(hb: Buffer, little: boolean, ov: Record<OverridableField, number>): Record<string, number> {
     const view = new DataView(hb.buffer, hb.byteOffset, TRACE_HEADER_BYTES);
-    const th: Record<string, number> = {};
-    for (const f of TRACE_HEADER_FIELDS) th[f.key] = readField(view, f, 1, little);
+    const th = parseTraceFields(view, little);
     for (const k of Object.keys(OVERRIDABLE_DEFAULTS) as OverridableField[]) th[k] = view.getInt32(ov[k] - 1, little);
     return th;
   }

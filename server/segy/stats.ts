@@ -7,8 +7,8 @@
  * bin holding the rank-⌈p·n⌉ value, so with q the true value (in float32):
  * q ≤ answer ≤ q · (1 + 2^-10), i.e. a relative error below 0.1 %, plus the
  * float32 rounding of the input (≤ 2^-24 relative). Memory is fixed at
- * 2^18 counters (2 MiB), whatever the number of samples; NaN and ±∞ are
- * counted apart and left out. Values below 2^-136 (zero and the smallest float32
+ * 2^18 counters (2 MiB), whatever the number of samples; NaN and ±∞ (and
+ * float64 values beyond float32's range) are counted apart and left out. Values below 2^-136 (zero and the smallest float32
  * denormals) share the lowest bin, which answers 0.
  */
 const MANTISSA_BITS = 10;
@@ -19,20 +19,35 @@ export class AbsAmplitudeHistogram {
   readonly counts = new Float64Array(BINS);
   total = 0;
   nonFinite = 0;
-  max = 0;
+  /** Bit pattern of the largest finite |amplitude| as float32 (bit order = value order for non-negative floats). */
+  private maxBits = 0;
+  private scratch = new Float32Array(0);
   private readonly f = new Float32Array(1);
   private readonly u = new Uint32Array(this.f.buffer);
 
+  get max(): number {
+    this.u[0] = this.maxBits;
+    return this.f[0];
+  }
+
   add(samples: ArrayLike<number>): void {
-    const f = this.f; const u = this.u; const counts = this.counts;
-    for (let i = 0; i < samples.length; i++) {
-      const v = Math.abs(samples[i]);
-      if (!Number.isFinite(v)) { this.nonFinite++; continue; }
-      f[0] = v;
-      counts[(u[0] & 0x7fffffff) >>> SHIFT]++;
-      if (v > this.max) this.max = v;
+    const n = samples.length;
+    if (this.scratch.length < n) this.scratch = new Float32Array(n);
+    const f = this.scratch.subarray(0, n);
+    f.set(samples); // native conversion to float32
+    const bits = new Uint32Array(f.buffer, f.byteOffset, n);
+    const counts = this.counts;
+    let maxBits = this.maxBits;
+    let nonFinite = 0;
+    for (let i = 0; i < n; i++) {
+      const a = bits[i] & 0x7fffffff; // |v|
+      if (a >= 0x7f800000) { nonFinite++; continue; } // ±∞ and NaN
+      counts[a >>> SHIFT]++;
+      if (a > maxBits) maxBits = a;
     }
-    this.total += samples.length;
+    this.maxBits = maxBits;
+    this.nonFinite += nonFinite;
+    this.total += n;
   }
 
   /** The p-th percentile (0 < p ≤ 100) of |amplitude| over finite samples, within the stated error bound. */
@@ -47,7 +62,8 @@ export class AbsAmplitudeHistogram {
       if (seen >= rank) {
         if (b === 0) return 0;
         this.u[0] = ((b + 1) << SHIFT) >>> 0;
-        return Math.min(this.f[0], this.max);
+        const upperEdge = this.f[0];
+        return Math.min(upperEdge, this.max);
       }
     }
     return this.max;

@@ -120,7 +120,7 @@ describe('line ends to WGS84', () => {
     [26915, [[500000, 3300000]]],
     [4326, [[3.25, 56.5]]],
   ];
-  it.each(cases)('EPSG:%s agrees with pyproj within 1e-9 degrees', (epsg, pts, ctx) => {
+  it.for(cases)('EPSG:%s agrees with pyproj within 1e-9 degrees', ([epsg, pts], ctx) => {
     const py = needReference(ctx, pyproj);
     const ref = runPython(py, `
 import json, sys

@@ -1,0 +1,83 @@
+/**
+ * SEG-Y reading benchmark: a generated file (1 GiB by default: IEEE float
+ * big-endian, 1,500 samples a trace, invented TB-2024 line) read by
+ * server/segy/reader.ts with the geometry collector and the |amplitude|
+ * histogram fed, as a ratio to a plain sequential read of the same file
+ * (fs.createReadStream, same 1 MiB chunks) in the same run. Rendering to the
+ * tile pyramid is not built yet, so this measures the reader alone. Prints
+ * the reader's peak buffered bytes against its stated bound and peak RSS.
+ *
+ *   npx tsx tests/bench/segy.bench.ts [MiB] [format]     (format 5 or 1; default 1024 5)
+ */
+import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import { GeometryCollector } from '../../server/segy/geometry';
+import { SegyReader } from '../../server/segy/reader';
+import { AbsAmplitudeHistogram } from '../../server/segy/stats';
+import { segyHead, segyTrace } from '../helpers/segy-writer';
+
+const MIB = Number(process.argv[2] ?? 1024);
+const FORMAT = Number(process.argv[3] ?? 5) as 1 | 5;
+const NS = 1500;
+const CHUNK = 1 << 20;
+
+let peak = 0;
+const sampler = setInterval(() => { peak = Math.max(peak, process.memoryUsage().rss); }, 20);
+
+function generate(file: string): number {
+  const fd = fs.openSync(file, 'w');
+  const spec = { format: FORMAT, sampleInterval: 2000 };
+  fs.writeSync(fd, segyHead({ ...spec, samplesPerTrace: NS, text: 'C 1 TESSEL BASIN TB-2024 BENCHMARK LINE' }));
+  const perTrace = 240 + 4 * NS;
+  const traces = Math.floor((MIB * 2 ** 20) / perTrace);
+  const batch: Buffer[] = [];
+  for (let i = 0; i < traces; i++) {
+    const samples = Float32Array.from({ length: NS }, (_, k) => Math.sin(k / 7 + i / 50) * 1000 * Math.exp(-k / 900));
+    batch.push(segyTrace(spec, { fields: [[21, 4, 1 + i], [71, 2, 0xffff - 99], [181, 4, 50_000_000 + 1250 * i], [185, 4, 600_000_000 + 300 * i]], samples }));
+    if (batch.length === 256 || i === traces - 1) { fs.writeSync(fd, Buffer.concat(batch)); batch.length = 0; }
+  }
+  fs.closeSync(fd);
+  return traces;
+}
+
+async function plainRead(file: string): Promise<number> {
+  let n = 0;
+  for await (const c of fs.createReadStream(file, { highWaterMark: CHUNK })) n += (c as Buffer).length;
+  return n;
+}
+
+async function segyRead(file: string) {
+  const reader = new SegyReader({ fileSize: fs.statSync(file).size });
+  const g = new GeometryCollector();
+  const h = new AbsAmplitudeHistogram();
+  let traces = 0;
+  for await (const t of reader.read(fs.createReadStream(file, { highWaterMark: CHUNK }))) { g.add(t.header); h.add(t.samples); traces++; }
+  return { traces, reader, clip: h.percentile(99) };
+}
+
+async function main() {
+  const file = path.join(os.tmpdir(), `cayline-segy-bench-${process.pid}.sgy`);
+  try {
+    const t0 = performance.now();
+    const traces = generate(file);
+    const size = fs.statSync(file).size;
+    console.log(`generated ${(size / 2 ** 20).toFixed(0)} MiB, ${traces} traces × ${NS} samples, format ${FORMAT} (${((performance.now() - t0) / 1000).toFixed(1)} s)`);
+    await plainRead(file); // warm the page cache so both sides read from memory
+    const ratios: number[] = [];
+    for (let run = 0; run < 3; run++) {
+      const a = performance.now(); await plainRead(file); const plain = performance.now() - a;
+      const b = performance.now(); const r = await segyRead(file); const ours = performance.now() - b;
+      if (r.traces !== traces) throw new Error(`read ${r.traces} traces of ${traces}`);
+      ratios.push(ours / plain);
+      console.log(`run ${run + 1}: plain read ${(plain / 1000).toFixed(2)} s, SEG-Y reader ${(ours / 1000).toFixed(2)} s → ratio ${(ours / plain).toFixed(2)}; buffered peak ${(r.reader.maxBufferedBytes / 1024).toFixed(0)} KiB ≤ bound ${(r.reader.memoryBound() / 1024).toFixed(0)} KiB; 99th percentile |a| ${r.clip.toFixed(1)}`);
+    }
+    ratios.sort((x, y) => x - y);
+    console.log(`SEG-Y read ÷ plain sequential read: median ${ratios[1].toFixed(2)} (goal for read + render ≤ 3); peak RSS ${(peak / 2 ** 20).toFixed(0)} MiB (goal ≤ 512)`);
+  } finally {
+    clearInterval(sampler);
+    fs.rmSync(file, { force: true });
+  }
+}
+
+void main();
