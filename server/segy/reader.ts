@@ -217,6 +217,7 @@ export class SegyReader {
     const ov = { ...OVERRIDABLE_DEFAULTS, ...this.opts.overrides };
     const limit = header.revision.major >= 2 && header.binary.tracesInFile > 0 ? header.binary.tracesInFile : Infinity;
     const hb = Buffer.allocUnsafe(TRACE_HEADER_BYTES);
+    let scratch = Buffer.alloc(0);
     for (let index = 0; index < limit; index++) {
       const offset = q.position;
       if (!(await q.need(TRACE_HEADER_BYTES))) {
@@ -238,7 +239,8 @@ export class SegyReader {
         throw fieldError('segy_truncated', header.fixedLength ? 'samplesPerTrace' : 'samples', header.fixedLength ? 'binary' : 'trace',
           `file ends inside trace ${index + 1}: ${q.availableBytes} of its ${n} sample bytes present (${ns} samples × ${bps} bytes, format ${header.format.code})`, { trace: index + 1 });
       }
-      const samples = decodeSamples(q.take(n), header.format.code, ns, header.littleEndian);
+      if (scratch.length < n) scratch = Buffer.alloc(n); // reused: decodeSamples copies out of it
+      const samples = decodeSamples(q.take(n, scratch.subarray(0, n)), header.format.code, ns, header.littleEndian);
       yield { index, offset, header: th, samples };
     }
   }

@@ -31,11 +31,17 @@ function generate(file: string): number {
   fs.writeSync(fd, segyHead({ ...spec, samplesPerTrace: NS, text: 'C 1 TESSEL BASIN TB-2024 BENCHMARK LINE' }));
   const perTrace = 240 + 4 * NS;
   const traces = Math.floor((MIB * 2 ** 20) / perTrace);
-  const batch: Buffer[] = [];
+  // 64 distinct traces (samples written once), each copy with its own CDP number and coordinates.
+  const templates = Array.from({ length: 64 }, (_, j) => segyTrace(spec, { fields: [[71, 2, 0xffff - 99]], samples: Float32Array.from({ length: NS }, (_, k) => Math.sin(k / 7 + j / 5) * 1000 * Math.exp(-k / 900)) }));
+  const batch = Buffer.allocUnsafe(256 * perTrace);
+  let filled = 0;
   for (let i = 0; i < traces; i++) {
-    const samples = Float32Array.from({ length: NS }, (_, k) => Math.sin(k / 7 + i / 50) * 1000 * Math.exp(-k / 900));
-    batch.push(segyTrace(spec, { fields: [[21, 4, 1 + i], [71, 2, 0xffff - 99], [181, 4, 50_000_000 + 1250 * i], [185, 4, 600_000_000 + 300 * i]], samples }));
-    if (batch.length === 256 || i === traces - 1) { fs.writeSync(fd, Buffer.concat(batch)); batch.length = 0; }
+    const at = filled * perTrace;
+    templates[i % 64].copy(batch, at);
+    batch.writeInt32BE(1 + i, at + 20);
+    batch.writeInt32BE(50_000_000 + 1250 * i, at + 180);
+    batch.writeInt32BE(600_000_000 + 300 * i, at + 184);
+    if (++filled === 256 || i === traces - 1) { fs.writeSync(fd, batch, 0, filled * perTrace); filled = 0; }
   }
   fs.closeSync(fd);
   return traces;
