@@ -172,7 +172,7 @@ describe('angle-of-repose rule', () => {
     const maxDz = Math.tan((10 * Math.PI) / 180) * dx;
     for (let i = 0; i + 1 < s.length; i++) {
       const hi = s[i] < s[i + 1] ? i : i + 1;
-      if (run.base[hi] - s[hi] > 1e-6) expect(Math.abs(s[i + 1] - s[i])).toBeLessThanOrEqual(maxDz + 1e-3); // within 1 mm: at most 50 relaxation passes per step
+      if (run.base[hi] - s[hi] > 1e-6) expect(Math.abs(s[i + 1] - s[i])).toBeLessThanOrEqual(maxDz + 0.01); // within 1 cm: at most 32 relaxation passes per step, the rest carries over
     }
   });
 });
@@ -235,5 +235,36 @@ describe('presets', () => {
       const run = runForwardModel(params({ growth: p.growth, slopeLimitDeg: p.slopeLimitDeg, subsidence: { kind: 'constant', rateMPerMyr: 500 } }));
       expect(run.surfaces.length).toBe(3);
     }
+  });
+});
+
+describe('output for the engine', () => {
+  it('a drowned run flags its youngest top, and the engine classes the buildup drowned; ages follow startAgeMa', () => {
+    const run = runForwardModel(params({ subsidence: { kind: 'constant', rateMPerMyr: 15000 }, startAgeMa: 12.4 }));
+    expect(run.drowned).toBe(true);
+    const it = runToInterpretation(run);
+    expect(it.buildups[0].topIsDrowningSurface).toBe(true);
+    expect(it.buildups[0].cycles.map((c) => c.ageTopMa)).toEqual([12.39, 12.38, 12.37].map((a) => expect.closeTo(a, 9)));
+    expect(measureRun(run).buildups[0].classification).toBe('drowned');
+  });
+
+  it('margins sit where the top first steepens beyond marginSlopeDeg, walking out from the crest', () => {
+    const run = runForwardModel(params({ subsidence: { kind: 'constant', rateMPerMyr: 0 }, durationYr: 10000, cycles: { productionFactors: [1] } }));
+    const c = runToInterpretation(run).buildups[0].cycles[0];
+    const tan5 = Math.tan((5 * Math.PI) / 180);
+    const s = run.surfaces[0];
+    const l = run.xs.indexOf(c.marginLeft[0]);
+    const r = run.xs.indexOf(c.marginRight[0]);
+    for (let i = l; i < r; i++) expect(Math.abs(s[i + 1] - s[i])).toBeLessThanOrEqual(tan5 * 10 + 1e-9);
+    expect(Math.abs(s[l] - s[l - 1])).toBeGreaterThan(tan5 * 10);
+    expect(Math.abs(s[r + 1] - s[r])).toBeGreaterThan(tan5 * 10);
+  });
+
+  it('reports progress and stops when the callback says so', () => {
+    const seen: number[] = [];
+    expect(() => runForwardModel(params(), { onProgress: (f) => { seen.push(f); return f < 0.3; } })).toThrow(/cancelled/);
+    expect(seen.length).toBeGreaterThan(0);
+    expect(seen[seen.length - 1]).toBeGreaterThanOrEqual(0.3);
+    expect(seen[seen.length - 1]).toBeLessThan(1);
   });
 });
