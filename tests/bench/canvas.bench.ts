@@ -26,13 +26,12 @@ import os from 'node:os';
 import path from 'node:path';
 import { spawnSync } from 'node:child_process';
 import crypto from 'node:crypto';
-import pg from 'pg';
 import sharp from 'sharp';
 import { chromium, type Page } from 'playwright-core';
 import { ROOT_DIR } from '../../server/config';
-import { removeCluster, startCluster } from '../../server/db/cluster';
 import { DEMO_PASSWORD, seedDemoUsers } from '../../server/db/seeders/demo';
 import { boot } from '../../server/index';
+import { benchDatabase } from './bench-db';
 
 const W = 20000;
 const H = 6000;
@@ -291,23 +290,10 @@ async function main(): Promise<void> {
     }
 
     // 2. database and server
-    const dataDir = path.join(tmp, 'pg', 'data');
-    process.env.CAYLINE_PG_FSYNC = 'off';
-    const cluster = await startCluster({ dataDir, database: 'postgres', log: () => {} });
-    cleanups.push(async () => {
-      await cluster.stop();
-      removeCluster(dataDir);
-    });
-    const dbName = `bench_${crypto.randomBytes(4).toString('hex')}`;
-    const c = new pg.Client({ connectionString: cluster.url });
-    await c.connect();
-    await c.query(`CREATE DATABASE ${dbName}`);
-    await c.end();
-    const storageDir = path.join(tmp, 'storage');
-    fs.mkdirSync(storageDir, { recursive: true });
+    const { databaseUrl, storageDir } = await benchDatabase(tmp, cleanups);
     let projectId: number | null = null;
     const running = await boot({
-      databaseUrl: cluster.url.replace(/\/postgres$/, `/${dbName}`),
+      databaseUrl,
       listen: true,
       config: { storageDir, port: 0, bcryptCost: 4, jwtSecret: crypto.randomBytes(24).toString('hex') },
       afterMigrate: async ({ sequelize }) => {

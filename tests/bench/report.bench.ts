@@ -17,9 +17,7 @@ import crypto from 'node:crypto';
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import pg from 'pg';
 import sharp from 'sharp';
-import { removeCluster, startCluster } from '../../server/db/cluster';
 import { seedDemoUsers } from '../../server/db/seeders/demo';
 import { seedDemoSections } from '../../server/db/seeders/sections';
 import { seedDemoInterpretation } from '../../server/db/seeders/interpretations';
@@ -36,6 +34,7 @@ import { requestReport } from '../../server/services/report.service';
 import { renderReportFiles } from '../../server/reports/render';
 import { DEMO_SECTIONS, sectionGeometry } from '../../server/scripts/synth/demo';
 import type { BuildupGeometry } from '../../shared/editor/model';
+import { benchDatabase } from './bench-db';
 
 const RUNS = 3;
 const log = (s: string) => console.log(s);
@@ -46,22 +45,9 @@ async function main() {
   fs.chmodSync(tmp, 0o755);
   const cleanups: (() => Promise<void> | void)[] = [];
   try {
-    const dataDir = path.join(tmp, 'pg', 'data');
-    process.env.CAYLINE_PG_FSYNC = 'off';
-    const cluster = await startCluster({ dataDir, database: 'postgres', log: () => {} });
-    cleanups.push(async () => {
-      await cluster.stop();
-      removeCluster(dataDir);
-    });
-    const dbName = `bench_${crypto.randomBytes(4).toString('hex')}`;
-    const c = new pg.Client({ connectionString: cluster.url });
-    await c.connect();
-    await c.query(`CREATE DATABASE ${dbName}`);
-    await c.end();
-    const storageDir = path.join(tmp, 'storage');
-    fs.mkdirSync(storageDir, { recursive: true });
+    const { databaseUrl, storageDir } = await benchDatabase(tmp, cleanups);
     const running = await boot({
-      databaseUrl: cluster.url.replace(/\/postgres$/, `/${dbName}`),
+      databaseUrl,
       listen: false,
       config: { storageDir, port: 0, bcryptCost: 4, jwtSecret: crypto.randomBytes(24).toString('hex') },
       afterMigrate: async ({ sequelize }) => {

@@ -21,14 +21,13 @@ import crypto from 'node:crypto';
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import pg from 'pg';
 import sharp from 'sharp';
 import { ROOT_DIR } from '../../server/config';
-import { removeCluster, startCluster } from '../../server/db/cluster';
 import { DEMO_PASSWORD, seedDemoUsers } from '../../server/db/seeders/demo';
 import { boot } from '../../server/index';
 import { closeMeasurePool, measureThreads } from '../../server/measure/pool';
 import { MEASURE_WORK_BUDGET, measureWorkOf } from '../../shared/schemas/measure-limits';
+import { benchDatabase } from './bench-db';
 
 const args = new Map(
   process.argv.slice(2).map((a) => {
@@ -131,23 +130,10 @@ async function main() {
   fs.chmodSync(tmp, 0o755);
   const cleanups: (() => Promise<void> | void)[] = [];
   try {
-    const dataDir = path.join(tmp, 'pg', 'data');
-    process.env.CAYLINE_PG_FSYNC = 'off';
-    const cluster = await startCluster({ dataDir, database: 'postgres', log: () => {} });
-    cleanups.push(async () => {
-      await cluster.stop();
-      removeCluster(dataDir);
-    });
-    const dbName = `bench_${crypto.randomBytes(4).toString('hex')}`;
-    const c = new pg.Client({ connectionString: cluster.url });
-    await c.connect();
-    await c.query(`CREATE DATABASE ${dbName}`);
-    await c.end();
-    const storageDir = path.join(tmp, 'storage');
-    fs.mkdirSync(storageDir, { recursive: true });
+    const { databaseUrl, storageDir } = await benchDatabase(tmp, cleanups);
     let projectId: number | null = null;
     const running = await boot({
-      databaseUrl: cluster.url.replace(/\/postgres$/, `/${dbName}`),
+      databaseUrl,
       listen: true,
       config: { storageDir, port: 0, bcryptCost: 4, jwtSecret: crypto.randomBytes(24).toString('hex')},
       afterMigrate: async ({ sequelize }) => {

@@ -1,0 +1,28 @@
+/**
+ * The throwaway database every server benchmark boots against: a PostgreSQL
+ * cluster under `tmp` (fsync off), a fresh database in it and a storage
+ * folder. Stopping and removing the cluster is pushed onto `cleanups`.
+ */
+import crypto from 'node:crypto';
+import fs from 'node:fs';
+import path from 'node:path';
+import pg from 'pg';
+import { removeCluster, startCluster } from '../../server/db/cluster';
+
+export async function benchDatabase(tmp: string, cleanups: (() => Promise<void> | void)[]): Promise<{ databaseUrl: string; storageDir: string }> {
+  const dataDir = path.join(tmp, 'pg', 'data');
+  process.env.CAYLINE_PG_FSYNC = 'off';
+  const cluster = await startCluster({ dataDir, database: 'postgres', log: () => {} });
+  cleanups.push(async () => {
+    await cluster.stop();
+    removeCluster(dataDir);
+  });
+  const dbName = `bench_${crypto.randomBytes(4).toString('hex')}`;
+  const c = new pg.Client({ connectionString: cluster.url });
+  await c.connect();
+  await c.query(`CREATE DATABASE ${dbName}`);
+  await c.end();
+  const storageDir = path.join(tmp, 'storage');
+  fs.mkdirSync(storageDir, { recursive: true });
+  return { databaseUrl: cluster.url.replace(/\/postgres$/, `/${dbName}`), storageDir };
+}
