@@ -4,7 +4,8 @@
  * engine (`shared/measure/index.ts` `measure()`), and converted to TWT for an
  * overlay with the inverse of the engine's time→depth conversion.
  */
-import { measure, type MeasurementOutput } from '../measure';
+import { createDepthConverter, measure, parseInterpretation, type MeasurementOutput } from '../measure';
+import { MeasureInputError } from '../measure/errors';
 import { upperEnvelope, envelopeAt, type Envelope } from '../measure/envelope';
 import { makeDepthToTwt, modeOf, type VelocityModel } from '../measure/velocity';
 import type { Point } from '../measure/geometry';
@@ -139,4 +140,20 @@ export function interpretationToTwt(it: ModelInterpretation, velocity: VelocityM
       })),
     })),
   };
+}
+
+/**
+ * The antecedent profile and the traced tops of one buildup of an engine
+ * input (any vertical domain, world or pixel coordinates), in depth, for
+ * `runForwardModel({ profile, … })` and `fitProductionFactors(…, tops)`.
+ * Points go through the engine's own converter (`createDepthConverter`, mode
+ * velocities, this buildup's envelope for the `buildup` model).
+ */
+export function profileAndTopsOf(input: unknown, buildup = 0): { profile: [number, number][]; tops: [number, number][][] } {
+  const it = parseInterpretation(input);
+  const b = it.buildups[buildup];
+  if (!b) throw new MeasureInputError('buildups', `no buildup number ${buildup}`);
+  const conv = createDepthConverter(it, { buildup });
+  const line = (pl: readonly (readonly number[])[]) => pl.map((p) => conv.toDepth(p));
+  return { profile: line(b.base), tops: b.cycles.map((c) => line(c.top)) };
 }

@@ -5,7 +5,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { createDepthConverter, measure } from '../../../shared/measure';
-import { interpretationToTwt, runForwardModel, runToInterpretation } from '../../../shared/forward-model';
+import { interpretationToTwt, profileAndTopsOf, runForwardModel, runToInterpretation } from '../../../shared/forward-model';
 import type { VelocityModel } from '../../../shared/measure/velocity';
 
 const run = runForwardModel({
@@ -64,5 +64,16 @@ describe('depth → TWT round trip through the engine', () => {
     };
     const t = interpretationToTwt(one, { kind: 'layers', layers: [{ topMs: 0, v: 1500 }, { topMs: 400, v: 2000 }, { topMs: 900, v: 4500 }] });
     expect(t.buildups[0].base[0][1]).toBeCloseTo(1100, 9);
+  });
+});
+
+describe('profile and tops from an interpretation', () => {
+  it('takes a TWT interpretation back to the run’s depth profile and tops', () => {
+    const twt = interpretationToTwt(depthIt, models[3][1]);
+    const { profile, tops } = profileAndTopsOf(twt);
+    profile.forEach((p, i) => expect(p[1]).toBeCloseTo(depthIt.buildups[0].base[i][1], 6));
+    expect(tops.length).toBe(3);
+    tops.forEach((t, c) => t.forEach((p, i) => expect(p[1]).toBeCloseTo(depthIt.buildups[0].cycles[c].top[i][1], 6)));
+    expect(() => profileAndTopsOf(twt, 3)).toThrow(/^buildups: no buildup number 3/);
   });
 });
