@@ -12,6 +12,7 @@
  * dead owner at once; elsewhere the heartbeat decides.
  */
 import os from 'node:os';
+import type PgBoss from 'pg-boss';
 import { QueryTypes, type Sequelize } from 'sequelize';
 import type { Config } from '../config';
 import { logger } from '../logger';
@@ -147,4 +148,34 @@ export class Liveness {
   async prune() {
     await this.sequelize.query(`DELETE FROM job_workers WHERE heartbeat_at < now() - interval '1 hour'`);
   }
+}
+
+/** pg-boss states of a job still waiting in its queue. */
+const QUEUED_STATES = new Set(['created', 'retry']);
+
+/**
+ * Why a row worked on by a queued job (a section's build, a report) has no
+ * live work, or null when it has some (or is waiting in the queue):
+ * - `owner_dead`: its owner's heartbeat is stale, its row is gone, or its pid is gone on this host;
+ * - `job_ended`: no owner and the job is gone, completed, failed or cancelled;
+ * - `unclaimed`: the job was taken (active) longer than `staleAfterSeconds` ago and never claimed
+ *   (its process died between fetching and claiming).
+ */
+export async function deadJobReason(
+  boss: PgBoss,
+  queue: string,
+  row: { workerId: string | null; jobId: string | null },
+  owners: Map<string, WorkerRow>,
+  liveness: Liveness,
+  timings: Pick<JobTimings, 'staleAfterSeconds'>,
+): Promise<'owner_dead' | 'job_ended' | 'unclaimed' | null> {
+  if (row.workerId) return liveness.isAlive(row.workerId, owners.get(row.workerId)) ? null : 'owner_dead';
+  const job = row.jobId ? await boss.getJobById(queue, row.jobId, { includeArchive: true }).catch(() => null) : null;
+  if (!job) return 'job_ended';
+  if (QUEUED_STATES.has(job.state)) return null;
+  if (job.state === 'active') {
+    const startedOn = job.startedOn ? new Date(job.startedOn).getTime() : Date.now();
+    return Date.now() - startedOn > timings.staleAfterSeconds * 1000 ? 'unclaimed' : null;
+  }
+  return 'job_ended';
 }

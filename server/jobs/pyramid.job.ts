@@ -36,7 +36,7 @@ import {
   type PyramidJobData,
 } from './queue';
 import { startSummaryJobs } from './summary.job';
-import { Liveness, jobTimings, type JobTimings, type WorkerRow } from './liveness';
+import { Liveness, deadJobReason, jobTimings, type JobTimings, type WorkerRow } from './liveness';
 import { recoverReports, startReportJobs } from './report.job';
 
 /** Keys of a section's files in the file store. */
@@ -191,31 +191,13 @@ export async function runPyramidJob(job: PgBoss.Job<PyramidJobData>) {
 
 // ---- liveness of builds ------------------------------------------------------------
 
-const QUEUED_STATES = new Set(['created', 'retry']);
-
-/**
- * Why a `processing` section has no live build, or null when it has one (or
- * is waiting in the queue):
- * - `owner_dead`: its owner's heartbeat is stale, its row is gone, or its pid is gone on this host;
- * - `job_ended`: no owner and the job is gone, completed, failed or cancelled;
- * - `unclaimed`: the job was taken (active) longer than `staleAfterSeconds` ago and never claimed
- *   (its process died between fetching and claiming).
- */
+/** Why a `processing` section has no live build, or null when it has one (or is waiting in the queue); see `deadJobReason`. */
 export async function deadBuildReason(
   boss: PgBoss,
   s: Pick<Section, 'workerId' | 'jobId'>,
   owners: Map<string, WorkerRow>,
 ): Promise<'owner_dead' | 'job_ended' | 'unclaimed' | null> {
-  const { liveness, timings } = deps!;
-  if (s.workerId) return liveness.isAlive(s.workerId, owners.get(s.workerId)) ? null : 'owner_dead';
-  const job = s.jobId ? await boss.getJobById<PyramidJobData>(PYRAMID_QUEUE, s.jobId, { includeArchive: true }).catch(() => null) : null;
-  if (!job) return 'job_ended';
-  if (QUEUED_STATES.has(job.state)) return null;
-  if (job.state === 'active') {
-    const startedOn = job.startedOn ? new Date(job.startedOn).getTime() : Date.now();
-    return Date.now() - startedOn > timings.staleAfterSeconds * 1000 ? 'unclaimed' : null;
-  }
-  return 'job_ended';
+  return deadJobReason(boss, PYRAMID_QUEUE, s, owners, deps!.liveness, deps!.timings);
 }
 
 /**

@@ -23,7 +23,7 @@ import { Buildup } from '../models/buildup';
 import { Section } from '../models/section';
 import { BuildupReportRow } from '../models/report';
 import { removeTree, type FileStore } from '../storage/fileStore';
-import type { Liveness, JobTimings } from './liveness';
+import { deadJobReason, type Liveness, type JobTimings, type WorkerRow } from './liveness';
 
 export const REPORT_QUEUE = 'buildup-report';
 export interface ReportJobData {
@@ -153,20 +153,9 @@ export async function runReportJob(job: PgBoss.Job<ReportJobData>) {
   }
 }
 
-const QUEUED_STATES = new Set(['created', 'retry']);
-
 /** Why a queued/running report has no live job, or null when it has one. */
-async function deadReason(boss: PgBoss, r: BuildupReportRow, owners: Map<string, import('./liveness').WorkerRow>): Promise<string | null> {
-  const { liveness, timings } = deps!;
-  if (r.workerId) return liveness.isAlive(r.workerId, owners.get(r.workerId)) ? null : 'owner_dead';
-  const job = r.jobId ? await boss.getJobById<ReportJobData>(REPORT_QUEUE, r.jobId, { includeArchive: true }).catch(() => null) : null;
-  if (!job) return 'job_ended';
-  if (QUEUED_STATES.has(job.state)) return null;
-  if (job.state === 'active') {
-    const startedOn = job.startedOn ? new Date(job.startedOn).getTime() : Date.now();
-    return Date.now() - startedOn > timings.staleAfterSeconds * 1000 ? 'unclaimed' : null;
-  }
-  return 'job_ended';
+function deadReason(boss: PgBoss, r: BuildupReportRow, owners: Map<string, WorkerRow>) {
+  return deadJobReason(boss, REPORT_QUEUE, r, owners, deps!.liveness, deps!.timings);
 }
 
 /** Queue again the reports of dead processes (or fail them after `jobs.maxAttempts`). */
