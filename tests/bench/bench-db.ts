@@ -5,11 +5,23 @@
  */
 import crypto from 'node:crypto';
 import fs from 'node:fs';
+import os from 'node:os';
 import path from 'node:path';
 import pg from 'pg';
 import { removeCluster, startCluster } from '../../server/db/cluster';
 
-export async function benchDatabase(tmp: string, cleanups: (() => Promise<void> | void)[]): Promise<{ databaseUrl: string; storageDir: string }> {
+/** A scratch folder for one benchmark run, readable by the PostgreSQL server it starts. */
+export function benchTmp(name: string): string {
+  const tmp = fs.mkdtempSync(path.join(os.tmpdir(), `cayline-bench-${name}-`));
+  fs.chmodSync(tmp, 0o755);
+  return tmp;
+}
+
+/** The database URL, the storage folder and the server config (cheap bcrypt, random JWT secret, any port) to boot with. */
+export async function benchDatabase(
+  tmp: string,
+  cleanups: (() => Promise<void> | void)[],
+): Promise<{ databaseUrl: string; storageDir: string; config: { storageDir: string; port: number; bcryptCost: number; jwtSecret: string } }> {
   const dataDir = path.join(tmp, 'pg', 'data');
   process.env.CAYLINE_PG_FSYNC = 'off';
   const cluster = await startCluster({ dataDir, database: 'postgres', log: () => {} });
@@ -24,5 +36,9 @@ export async function benchDatabase(tmp: string, cleanups: (() => Promise<void> 
   await c.end();
   const storageDir = path.join(tmp, 'storage');
   fs.mkdirSync(storageDir, { recursive: true });
-  return { databaseUrl: cluster.url.replace(/\/postgres$/, `/${dbName}`), storageDir };
+  return {
+    databaseUrl: cluster.url.replace(/\/postgres$/, `/${dbName}`),
+    storageDir,
+    config: { storageDir, port: 0, bcryptCost: 4, jwtSecret: crypto.randomBytes(24).toString('hex') },
+  };
 }

@@ -25,7 +25,6 @@ import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { spawnSync } from 'node:child_process';
-import crypto from 'node:crypto';
 import sharp from 'sharp';
 import { chromium, type Page } from 'playwright-core';
 import { ROOT_DIR } from '../../server/config';
@@ -290,12 +289,12 @@ async function main(): Promise<void> {
     }
 
     // 2. database and server
-    const { databaseUrl, storageDir } = await benchDatabase(tmp, cleanups);
+    const { databaseUrl, config } = await benchDatabase(tmp, cleanups);
     let projectId: number | null = null;
     const running = await boot({
       databaseUrl,
       listen: true,
-      config: { storageDir, port: 0, bcryptCost: 4, jwtSecret: crypto.randomBytes(24).toString('hex') },
+      config,
       afterMigrate: async ({ sequelize }) => {
         projectId = (await seedDemoUsers(sequelize)).projectId;
       },

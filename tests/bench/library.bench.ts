@@ -25,7 +25,6 @@
  * `metric_vec` / `shape` float8[] columns, ordered by distance, LIMIT k.
  * Never fails on time.
  */
-import crypto from 'node:crypto';
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
@@ -34,7 +33,7 @@ import { DEMO_PASSWORD, seedDemoUsers } from '../../server/db/seeders/demo';
 import { generateAnalogues } from '../../server/db/seeders/analogues';
 import { handColumns, insertMany } from '../../server/services/analogue.service';
 import { boot } from '../../server/index';
-import { benchDatabase } from './bench-db';
+import { benchDatabase, benchTmp } from './bench-db';
 
 const args = new Map(
   process.argv.slice(2).map((a) => {
@@ -67,15 +66,14 @@ function cannon(url: string, headers: Record<string, string>, varyPath?: () => s
 const ms = (v: number) => `${v.toFixed(1)} ms`;
 
 async function main() {
-  const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-bench-library-'));
-  fs.chmodSync(tmp, 0o755);
+  const tmp = benchTmp('library');
   const cleanups: (() => Promise<void> | void)[] = [];
   try {
-    const { databaseUrl, storageDir } = await benchDatabase(tmp, cleanups);
+    const { databaseUrl, config } = await benchDatabase(tmp, cleanups);
     const running = await boot({
       databaseUrl,
       listen: true,
-      config: { storageDir, port: 0, bcryptCost: 4, jwtSecret: crypto.randomBytes(24).toString('hex') },
+      config,
       afterMigrate: async ({ sequelize }) => {
         await seedDemoUsers(sequelize);
         const t0 = Date.now();

@@ -13,9 +13,7 @@
  *
  *   npx tsx tests/bench/report.bench.ts
  */
-import crypto from 'node:crypto';
 import fs from 'node:fs';
-import os from 'node:os';
 import path from 'node:path';
 import sharp from 'sharp';
 import { seedDemoUsers } from '../../server/db/seeders/demo';
@@ -34,22 +32,21 @@ import { requestReport } from '../../server/services/report.service';
 import { renderReportFiles } from '../../server/reports/render';
 import { DEMO_SECTIONS, sectionGeometry } from '../../server/scripts/synth/demo';
 import type { BuildupGeometry } from '../../shared/editor/model';
-import { benchDatabase } from './bench-db';
+import { benchDatabase, benchTmp } from './bench-db';
 
 const RUNS = 3;
 const log = (s: string) => console.log(s);
 const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
 
 async function main() {
-  const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-bench-report-'));
-  fs.chmodSync(tmp, 0o755);
+  const tmp = benchTmp('report');
   const cleanups: (() => Promise<void> | void)[] = [];
   try {
-    const { databaseUrl, storageDir } = await benchDatabase(tmp, cleanups);
+    const { databaseUrl, storageDir, config } = await benchDatabase(tmp, cleanups);
     const running = await boot({
       databaseUrl,
       listen: false,
-      config: { storageDir, port: 0, bcryptCost: 4, jwtSecret: crypto.randomBytes(24).toString('hex') },
+      config,
       afterMigrate: async ({ sequelize }) => {
         await seedDemoUsers(sequelize);
       },

@@ -17,7 +17,6 @@
  * same with the pool held to one thread (MEASURE_THREADS=1), which leaves a
  * core to the event loop on this 2-core machine. Never fails on time.
  */
-import crypto from 'node:crypto';
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
@@ -27,7 +26,7 @@ import { DEMO_PASSWORD, seedDemoUsers } from '../../server/db/seeders/demo';
 import { boot } from '../../server/index';
 import { closeMeasurePool, measureThreads } from '../../server/measure/pool';
 import { MEASURE_WORK_BUDGET, measureWorkOf } from '../../shared/schemas/measure-limits';
-import { benchDatabase } from './bench-db';
+import { benchDatabase, benchTmp } from './bench-db';
 
 const args = new Map(
   process.argv.slice(2).map((a) => {
@@ -126,16 +125,15 @@ async function phase(label: string, base: string, tileUrl: string, token: string
 }
 
 async function main() {
-  const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-bench-stall-'));
-  fs.chmodSync(tmp, 0o755);
+  const tmp = benchTmp('stall');
   const cleanups: (() => Promise<void> | void)[] = [];
   try {
-    const { databaseUrl, storageDir } = await benchDatabase(tmp, cleanups);
+    const { databaseUrl, config } = await benchDatabase(tmp, cleanups);
     let projectId: number | null = null;
     const running = await boot({
       databaseUrl,
       listen: true,
-      config: { storageDir, port: 0, bcryptCost: 4, jwtSecret: crypto.randomBytes(24).toString('hex')},
+      config,
       afterMigrate: async ({ sequelize }) => {
         projectId = (await seedDemoUsers(sequelize)).projectId;
       },
