@@ -34,6 +34,7 @@ import { generateAnalogues } from '../../server/db/seeders/analogues';
 import { handColumns, insertMany } from '../../server/services/analogue.service';
 import { boot } from '../../server/index';
 import { benchDatabase, benchTmp } from './bench-db';
+import { ms } from './stats';
 
 const args = new Map(
   process.argv.slice(2).map((a) => {
@@ -62,8 +63,6 @@ function cannon(url: string, headers: Record<string, string>, varyPath?: () => s
     );
   });
 }
-
-const ms = (v: number) => `${v.toFixed(1)} ms`;
 
 async function main() {
   const tmp = benchTmp('library');

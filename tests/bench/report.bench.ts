@@ -33,10 +33,10 @@ import { renderReportFiles } from '../../server/reports/render';
 import { DEMO_SECTIONS, sectionGeometry } from '../../server/scripts/synth/demo';
 import type { BuildupGeometry } from '../../shared/editor/model';
 import { benchDatabase, benchTmp } from './bench-db';
+import { median } from './stats';
 
 const RUNS = 3;
 const log = (s: string) => console.log(s);
-const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
 
 async function main() {
   const tmp = benchTmp('report');

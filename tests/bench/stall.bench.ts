@@ -27,6 +27,7 @@ import { boot } from '../../server/index';
 import { closeMeasurePool, measureThreads } from '../../server/measure/pool';
 import { MEASURE_WORK_BUDGET, measureWorkOf } from '../../shared/schemas/measure-limits';
 import { benchDatabase, benchTmp } from './bench-db';
+import { ms, percentile } from './stats';
 
 const args = new Map(
   process.argv.slice(2).map((a) => {
@@ -64,11 +65,6 @@ async function makeSectionPng(w = 6000, h = 2000): Promise<Buffer> {
   return sharp(px, { raw: { width: w, height: h, channels: 1 } }).png({ compressionLevel: 6 }).toBuffer();
 }
 
-const pct = (xs: number[], p: number) => {
-  const s = [...xs].sort((a, b) => a - b);
-  return s[Math.min(s.length - 1, Math.ceil((p / 100) * s.length) - 1)];
-};
-
 async function timeGet(url: string, token: string): Promise<number> {
   const t0 = performance.now();
   const r = await fetch(url, { headers: { Authorization: `Bearer ${token}` } });
@@ -94,8 +90,6 @@ async function sample(base: string, tileUrl: string, token: string, n: number, u
   return out;
 }
 
-const f = (ms: number) => `${ms.toFixed(1)} ms`;
-
 async function phase(label: string, base: string, tileUrl: string, token: string, heavyBody: unknown) {
   await closeMeasurePool(); // the next measurement starts a pool with the current MEASURE_THREADS
   // warm the pool (worker start-up is not what we measure)
@@ -116,10 +110,10 @@ async function phase(label: string, base: string, tileUrl: string, token: string
     ['GET /api/health', idle.health, loaded.health],
     ['GET one tile   ', idle.tile, loaded.tile],
   ] as const) {
-    const i975 = pct(a, 97.5);
-    const l975 = pct(b, 97.5);
+    const i975 = percentile(a, 97.5);
+    const l975 = percentile(b, 97.5);
     console.log(
-      `  ${name}  idle p50 ${f(pct(a, 50))}, p97.5 ${f(i975)} | loaded p50 ${f(pct(b, 50))}, p97.5 ${f(l975)} | ratio p97.5 loaded ÷ idle ${(l975 / i975).toFixed(2)} | loaded p97.5 ${l975 <= GOAL_MS ? 'within' : 'OVER'} the ${GOAL_MS} ms goal`,
+      `  ${name}  idle p50 ${ms(percentile(a, 50))}, p97.5 ${ms(i975)} | loaded p50 ${ms(percentile(b, 50))}, p97.5 ${ms(l975)} | ratio p97.5 loaded ÷ idle ${(l975 / i975).toFixed(2)} | loaded p97.5 ${l975 <= GOAL_MS ? 'within' : 'OVER'} the ${GOAL_MS} ms goal`,
     );
   }
 }

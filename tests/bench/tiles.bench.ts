@@ -17,6 +17,7 @@ import { spawnSync } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
 import sharp from 'sharp';
 import { buildPyramid } from '../../server/services/tiles.service';
+import { median } from './stats';
 
 const W = Number(process.argv[2] === '--child' ? 0 : (process.argv[2] ?? 20000));
 const H = Number(process.argv[3] ?? 6000);
@@ -40,7 +41,6 @@ function structuredGrey(w: number, h: number): Buffer {
   return b;
 }
 
-const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
 async function time(f: () => Promise<unknown>): Promise<number> {
   const t0 = performance.now();
   await f();
