@@ -6,13 +6,13 @@
  * and changes the password; "forgot password" answers from the sign-in page.
  * Screenshots in tests/e2e/screenshots/ (80-… onwards).
  */
-import type { Page } from 'playwright-core';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { ctx } from '../../server/context';
 import { notify } from '../../server/services/notify.service';
 import { bearer, createTestApp, type TestApp } from '../helpers/app';
 import { openBrowser, type Browser } from '../helpers/browser';
+import { signIn, signOut } from '../helpers/e2e-demo';
 
 let t: TestApp;
 let b: Browser;
@@ -29,18 +29,6 @@ afterAll(async () => {
   await t?.close();
 });
 
-async function signIn(page: Page, email: string, password: string) {
-  await page.goto('/sign-in');
-  await page.fill('[data-test="signin-email"]', email);
-  await page.fill('[data-test="signin-password"]', password);
-  await page.click('[data-test="signin-submit"]');
-  await page.waitForURL(/\/projects$/);
-}
-async function signOut(page: Page) {
-  await page.click('[data-test="user-menu"]');
-  await page.click('[data-test="sign-out"]');
-  await page.waitForURL(/\/sign-in/);
-}
 
 describe('account e-mails and the bell', () => {
   it('invitation read in the Outbox → set password → sign in; bell; account settings; forgot password', async () => {

@@ -2,6 +2,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestApp, type TestApp } from '../helpers/app';
 import { openBrowser, type Browser } from '../helpers/browser';
+import { signIn } from '../helpers/e2e-demo';
 import { readSink } from '../../server/mail/sink';
 import path from 'node:path';
 
@@ -19,11 +20,7 @@ afterAll(async () => {
 describe('admin users page', () => {
   it('lists, searches, invites and deactivates accounts', async () => {
     const { page } = b;
-    await page.goto('/sign-in');
-    await page.fill('[data-test="signin-email"]', 'admin@tessel.example');
-    await page.fill('[data-test="signin-password"]', 'cayline-demo');
-    await page.click('[data-test="signin-submit"]');
-    await page.waitForURL(/\/projects$/);
+    await signIn(page, 'admin@tessel.example');
     await page.goto('/admin/users');
     const table = page.locator('[data-test="users-table"]');
     await table.getByText('reviewer@tessel.example').waitFor();

@@ -13,36 +13,19 @@
  * line and placed through the stage's view transform, which the page
  * exposes as data attributes on [data-test="interpret-stage"].
  */
-import fs from 'node:fs';
-import path from 'node:path';
 import type { Page } from 'playwright-core';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { ROOT_DIR } from '../../server/config';
-import { ctx } from '../../server/context';
-import { seedDemoInterpretation } from '../../server/db/seeders/interpretations';
-import { seedDemoSections } from '../../server/db/seeders/sections';
 import { bearer, createTestApp, type TestApp } from '../helpers/app';
 import { openBrowser, type Browser } from '../helpers/browser';
-import { waitForStatus } from '../helpers/sections';
+import { kestrelKnollFixture, seedDemoLines, signIn } from '../helpers/e2e-demo';
 
 type Pt = [number, number];
 
 const W = 2400;
 const H = 750;
 
-interface FixtureCycle {
-  top: Pt[];
-  marginLeft: Pt;
-  marginRight: Pt;
-  flankLeft?: Pt[];
-  flankRight?: Pt[];
-}
-const fixture = JSON.parse(fs.readFileSync(path.join(ROOT_DIR, 'tests/fixtures/synthetic/tb-11-kestrel-knoll.json'), 'utf8')) as {
-  width: number;
-  height: number;
-  pixelGeometry: { buildups: { base: Pt[]; cycles: FixtureCycle[] }[] };
-};
+const fixture = kestrelKnollFixture();
 const sx = W / fixture.width;
 const sy = H / fixture.height;
 const scalePt = (p: Pt): Pt => [p[0] * sx, p[1] * sy];
@@ -62,15 +45,7 @@ let tb11 = 0;
 
 beforeAll(async () => {
   t = await createTestApp({ listen: true });
-  const deps = { sequelize: ctx().sequelize, config: t.running.config, log: () => {} };
-  const { seeded } = await seedDemoSections(deps, { width: W, height: H });
-  await seedDemoInterpretation(deps);
-  const token = await t.token('interpreter');
-  for (const id of seeded) await waitForStatus(t, token, id);
-  for (const id of seeded) {
-    const s = await request(t.app).get(`/api/sections/${id}`).set(bearer(token));
-    if (s.body.lineName === 'TB-11') tb11 = id;
-  }
+  ({ tb11 } = await seedDemoLines(t, { width: W, height: H }));
   b = await openBrowser(t.running.url);
 });
 afterAll(async () => {
@@ -78,14 +53,6 @@ afterAll(async () => {
   await b?.close();
   await t?.close();
 });
-
-async function signIn(page: Page, email: string): Promise<void> {
-  await page.goto('/sign-in');
-  await page.fill('[data-test="signin-email"]', email);
-  await page.fill('[data-test="signin-password"]', 'cayline-demo');
-  await page.click('[data-test="signin-submit"]');
-  await page.waitForURL(/\/projects/);
-}
 
 interface ViewAttrs {
   scale: number;

@@ -14,6 +14,7 @@ import { seedDemoAnalogues } from '../../server/db/seeders/analogues';
 import type { AnalogueDetail, AnalogueSearchResponse, LookAlikesResponse } from '../../shared/schemas/analogues';
 import { bearer, createTestApp, type TestApp } from '../helpers/app';
 import { openBrowser, type Browser } from '../helpers/browser';
+import { signIn } from '../helpers/e2e-demo';
 
 let t: TestApp;
 let curatorBrowser: Browser;
@@ -32,14 +33,6 @@ afterAll(async () => {
   await curatorBrowser?.close();
   await t?.close();
 });
-
-async function signIn(page: Page, email: string): Promise<void> {
-  await page.goto('/sign-in');
-  await page.fill('[data-test="signin-email"]', email);
-  await page.fill('[data-test="signin-password"]', 'cayline-demo');
-  await page.click('[data-test="signin-submit"]');
-  await page.waitForURL(/\/projects/);
-}
 
 async function settingValues(): Promise<string[]> {
   const res = await request(t.app).get('/api/analogues/lists').set(bearer(curatorToken));

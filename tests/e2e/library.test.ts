@@ -13,14 +13,10 @@ import type { Page } from 'playwright-core';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { BuildupGeometry } from '../../shared/editor/model';
-import { ctx } from '../../server/context';
-import { seedDemoAnalogues } from '../../server/db/seeders/analogues';
-import { seedDemoInterpretation } from '../../server/db/seeders/interpretations';
-import { seedDemoSections } from '../../server/db/seeders/sections';
 import { DEMO_SECTIONS, sectionGeometry } from '../../server/scripts/synth/demo';
 import { bearer, createTestApp, type TestApp } from '../helpers/app';
 import { openBrowser, type Browser } from '../helpers/browser';
-import { waitForStatus } from '../helpers/sections';
+import { seedDemoLines, signIn } from '../helpers/e2e-demo';
 
 const W = 2400;
 const H = 750;
@@ -37,17 +33,8 @@ let settingValue = '';
 
 beforeAll(async () => {
   t = await createTestApp({ listen: true });
-  const deps = { sequelize: ctx().sequelize, config: t.running.config, log: () => {} };
-  const { seeded } = await seedDemoSections(deps, { width: W, height: H });
-  await seedDemoInterpretation(deps);
-  await seedDemoAnalogues(ctx().sequelize);
-  const token = await t.token('interpreter');
-  for (const id of seeded) await waitForStatus(t, token, id);
-  for (const id of seeded) {
-    const s = await request(t.app).get(`/api/sections/${id}`).set(bearer(token));
-    if (s.body.lineName === 'TB-11') tb11 = id;
-    if (s.body.lineName === 'TB-14') tb14 = id;
-  }
+  const { token, ...lines } = await seedDemoLines(t, { width: W, height: H }, { analogues: true });
+  ({ tb11, tb14 } = lines);
   expect(tb11).toBeGreaterThan(0);
   expect(tb14).toBeGreaterThan(0);
 
@@ -81,14 +68,6 @@ afterAll(async () => {
   await curatorBrowser?.close();
   await t?.close();
 });
-
-async function signIn(page: Page, email: string): Promise<void> {
-  await page.goto('/sign-in');
-  await page.fill('[data-test="signin-email"]', email);
-  await page.fill('[data-test="signin-password"]', 'cayline-demo');
-  await page.click('[data-test="signin-submit"]');
-  await page.waitForURL(/\/projects/);
-}
 
 /** Pick an option of a naive-ui select by its visible label. */
 async function choose(page: Page, selectTest: string, label: string): Promise<void> {

@@ -10,12 +10,9 @@
 import type { Page } from 'playwright-core';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { ctx } from '../../server/context';
-import { seedDemoInterpretation } from '../../server/db/seeders/interpretations';
-import { seedDemoSections } from '../../server/db/seeders/sections';
 import { bearer, createTestApp, type TestApp } from '../helpers/app';
 import { openBrowser, type Browser } from '../helpers/browser';
-import { waitForStatus } from '../helpers/sections';
+import { marrowBank, screenOf, seedDemoLines, signIn } from '../helpers/e2e-demo';
 
 type Pt = [number, number];
 
@@ -29,20 +26,9 @@ let interpreter = { id: 0, name: '' };
 
 beforeAll(async () => {
   t = await createTestApp({ listen: true });
-  const deps = { sequelize: ctx().sequelize, config: t.running.config, log: () => {} };
-  const { seeded } = await seedDemoSections(deps, { width: 2400, height: 750 });
-  await seedDemoInterpretation(deps);
-  const token = await t.token('interpreter');
-  for (const id of seeded) await waitForStatus(t, token, id);
-  for (const id of seeded) {
-    const s = await request(t.app).get(`/api/sections/${id}`).set(bearer(token));
-    if (s.body.lineName === 'TB-14') tb14 = id;
-  }
-  const list = await request(t.app).get(`/api/sections/${tb14}/buildups`).set(bearer(token));
-  const bank = list.body.find((x: { name: string }) => x.name === 'Marrow Bank');
-  buildupId = bank.id;
-  const cycles = bank.geometry.cycles as { marginRight: Pt }[];
-  margin = cycles[cycles.length - 1].marginRight;
+  const { token, tb14: line } = await seedDemoLines(t, { width: 2400, height: 750 });
+  tb14 = line;
+  ({ id: buildupId, margin } = await marrowBank(t, token, tb14));
   const me = await request(t.app).get('/api/auth/me').set(bearer(token));
   interpreter = { id: me.body.id ?? me.body.user?.id, name: me.body.name ?? me.body.user?.name };
   b = await openBrowser(t.running.url);
@@ -52,21 +38,6 @@ afterAll(async () => {
   await b?.close();
   await t?.close();
 });
-
-async function signIn(page: Page, email: string): Promise<void> {
-  await page.goto('/sign-in');
-  await page.fill('[data-test="signin-email"]', email);
-  await page.fill('[data-test="signin-password"]', 'cayline-demo');
-  await page.click('[data-test="signin-submit"]');
-  await page.waitForURL(/\/projects/);
-}
-
-/** Image px → page px through the stage's current view. */
-async function screenOf(page: Page, p: Pt): Promise<Pt> {
-  const d = await page.locator('[data-test="interpret-stage"]').evaluate((el) => ({ ...(el as HTMLElement).dataset }));
-  const box = (await page.locator('[data-test="section-stage"]').boundingBox())!;
-  return [box.x + p[0] * Number(d.viewScale) + Number(d.viewX), box.y + p[1] * Number(d.viewScale) * Number(d.viewStretch) + Number(d.viewY)];
-}
 
 async function openCanvas(page: Page, query = ''): Promise<void> {
   await page.goto(`/sections/${tb14}/interpret${query}`);

@@ -13,6 +13,7 @@ import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { bearer, createTestApp, type TestApp } from '../helpers/app';
 import { openBrowser, type Browser } from '../helpers/browser';
+import { signIn } from '../helpers/e2e-demo';
 import { readyCalibratedSection } from '../helpers/api-fixtures';
 import { FOOT_M } from '../../shared/units';
 
@@ -72,11 +73,7 @@ const rowNames = () => b.page.$$eval('[data-test="register-table"] tbody tr td:n
 describe('project buildup register', () => {
   it('opens, sorts by height, switches to feet, downloads the CSV, opens a report and gets the signed-off batch', async () => {
     const { page } = b;
-    await page.goto('/sign-in');
-    await page.fill('[data-test="signin-email"]', 'interpreter@tessel.example');
-    await page.fill('[data-test="signin-password"]', 'cayline-demo');
-    await page.click('[data-test="signin-submit"]');
-    await page.waitForURL(/\/projects/);
+    await signIn(page, 'interpreter@tessel.example');
 
     // from the project page
     await page.goto(`/projects/${projectId}`);

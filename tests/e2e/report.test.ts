@@ -14,6 +14,7 @@ import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { bearer, createTestApp, type TestApp } from '../helpers/app';
 import { openBrowser, type Browser } from '../helpers/browser';
+import { signIn } from '../helpers/e2e-demo';
 import { ctx } from '../../server/context';
 import { seedDemoSections } from '../../server/db/seeders/sections';
 import { seedDemoInterpretation } from '../../server/db/seeders/interpretations';
@@ -60,11 +61,7 @@ async function download(testId: string): Promise<{ name: string; body: Buffer }>
 describe('buildup report', () => {
   it('opens from the Interpret page, shows the report and downloads every format', async () => {
     const { page } = b;
-    await page.goto('/sign-in');
-    await page.fill('[data-test="signin-email"]', 'reviewer@tessel.example');
-    await page.fill('[data-test="signin-password"]', 'cayline-demo');
-    await page.click('[data-test="signin-submit"]');
-    await page.waitForURL(/\/projects/);
+    await signIn(page, 'reviewer@tessel.example');
 
     // from the Interpret page: select the buildup in the Ledger, then follow the link
     await page.goto(`/sections/${sectionId}/interpret`);

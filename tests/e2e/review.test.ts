@@ -7,35 +7,18 @@
  * edit and is refused with the server's own "signed off" message on the
  * canvas — nothing is saved. Screenshots in tests/e2e/screenshots/review-*.
  */
-import fs from 'node:fs';
-import path from 'node:path';
 import type { Page } from 'playwright-core';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { ROOT_DIR } from '../../server/config';
-import { ctx } from '../../server/context';
-import { seedDemoInterpretation } from '../../server/db/seeders/interpretations';
-import { seedDemoSections } from '../../server/db/seeders/sections';
 import { bearer, createTestApp, type TestApp } from '../helpers/app';
 import { openBrowser, type Browser } from '../helpers/browser';
-import { waitForStatus } from '../helpers/sections';
+import { kestrelKnollFixture, seedDemoLines, signIn } from '../helpers/e2e-demo';
 
 type Pt = [number, number];
 const W = 2400;
 const H = 750;
 
-interface FixtureCycle {
-  top: Pt[];
-  marginLeft: Pt;
-  marginRight: Pt;
-  flankLeft?: Pt[];
-  flankRight?: Pt[];
-}
-const fixture = JSON.parse(fs.readFileSync(path.join(ROOT_DIR, 'tests/fixtures/synthetic/tb-11-kestrel-knoll.json'), 'utf8')) as {
-  width: number;
-  height: number;
-  pixelGeometry: { buildups: { base: Pt[]; cycles: FixtureCycle[] }[] };
-};
+const fixture = kestrelKnollFixture();
 const sc = (p: Pt): Pt => [(p[0] * W) / fixture.width, (p[1] * H) / fixture.height];
 const truth = fixture.pixelGeometry.buildups[0];
 function geometry(cycles: number) {
@@ -62,15 +45,8 @@ let knoll = 0;
 
 beforeAll(async () => {
   t = await createTestApp({ listen: true });
-  const deps = { sequelize: ctx().sequelize, config: t.running.config, log: () => {} };
-  const { seeded } = await seedDemoSections(deps, { width: W, height: H });
-  await seedDemoInterpretation(deps);
-  const token = await t.token('interpreter');
-  for (const id of seeded) await waitForStatus(t, token, id);
-  for (const id of seeded) {
-    const s = await request(t.app).get(`/api/sections/${id}`).set(bearer(token));
-    if (s.body.lineName === 'TB-11') tb11 = id;
-  }
+  const { token, tb11: line } = await seedDemoLines(t, { width: W, height: H });
+  tb11 = line;
   // Kestrel Knoll: version 1 with its first cycle, version 2 with all of them
   const c = await request(t.app).post(`/api/sections/${tb11}/buildups`).set(bearer(token)).send({ name: 'Kestrel Knoll' });
   knoll = c.body.id;
@@ -86,13 +62,6 @@ afterAll(async () => {
   await t?.close();
 });
 
-async function signIn(page: Page, email: string): Promise<void> {
-  await page.goto('/sign-in');
-  await page.fill('[data-test="signin-email"]', email);
-  await page.fill('[data-test="signin-password"]', 'cayline-demo');
-  await page.click('[data-test="signin-submit"]');
-  await page.waitForURL(/\/projects/);
-}
 const stateOf = (page: Page) => page.locator('[data-test="review-bar"] [data-test="review-state"]').getAttribute('data-state');
 
 async function openKnoll(page: Page): Promise<void> {

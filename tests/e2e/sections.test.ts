@@ -13,6 +13,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { fitCalibration, type Tie } from '../../shared/measure/calibration';
 import { bearer, createTestApp, type TestApp } from '../helpers/app';
 import { openBrowser, type Browser } from '../helpers/browser';
+import { signIn } from '../helpers/e2e-demo';
 
 const W = 4000;
 const H = 1200;
@@ -74,11 +75,7 @@ describe('sections journey', () => {
       if (r.url().includes('/tiles/')) tileRequests.push(new URL(r.url()).pathname);
     });
 
-    await page.goto('/sign-in');
-    await page.fill('[data-test="signin-email"]', 'interpreter@tessel.example');
-    await page.fill('[data-test="signin-password"]', 'cayline-demo');
-    await page.click('[data-test="signin-submit"]');
-    await page.waitForURL(/\/projects$/);
+    await signIn(page, 'interpreter@tessel.example');
     await page.locator('[data-test="projects-table"]').getByText('Tessel Basin screening').click();
     await page.locator('[data-test="sections-panel"]').waitFor();
     await b.shot('10-project-sections');
