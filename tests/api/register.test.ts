@@ -370,7 +370,7 @@ describe('CSV export', () => {
 describe('GeoJSON export', () => {
   const shapely = pythonReference('shapely');
 
-  it('follows RFC 7946 and places each crest along its line; buildups without line geography are listed in `skipped`', async (testCtx) => {
+  it('follows RFC 7946 and places each crest along its line; buildups without line geography are listed, with their reasons, in a foreign member', async (testCtx) => {
     await settled();
     const r = await request(t.app).get(`/api/projects/${projectId}/buildups/export.geojson?unit=ft`).set(bearer(interp));
     expect(r.status).toBe(200);
