@@ -13,7 +13,8 @@ import type { FileStore } from '../storage/fileStore';
 import { assembleReport } from '../services/report.service';
 import { measureBuildup } from '../services/buildup.service';
 import { compositeCrop, markedUpPng } from './crop';
-import { writeReportPdf, type CropFigure } from './pdf';
+import type { CropFigure } from './pdf';
+import { writeReportPdfOffLoop } from './pdf-thread';
 import { drawnSize, formatVE, overlaySvg } from '../../shared/report/overlay';
 import { isLengthUnit } from '../../shared/units';
 import type { Paper, ReportCrop } from '../../shared/report/report';
@@ -80,7 +81,7 @@ export async function renderReportFiles(input: RenderInput): Promise<{ pdfBytes:
     }
   }
   const pdfPath = path.join(outDir, 'report.pdf');
-  const { pages } = await writeReportPdf({ report, figures, paper: row.paper as Paper, onProgress: (f) => progress(0.45 + 0.5 * f) }, pdfPath);
+  const { pages } = await writeReportPdfOffLoop({ report, figures, paper: row.paper as Paper, onProgress: (f) => progress(0.45 + 0.5 * f) }, pdfPath);
   const st = await fsp.stat(pdfPath);
   return { pdfBytes: st.size, pages };
 }
