@@ -9,8 +9,10 @@ import { ROOT_DIR } from './config';
 import { setContext } from './context';
 import { initModels } from './models/index';
 import { configurePassport } from './middlewares/auth';
-import { apiNotFound, errorHandler, DB_RETRY_AFTER_SECONDS } from './middlewares/errors';
+import { apiNotFound, errorHandler } from './middlewares/errors';
+import { requestId } from './middlewares/request-id';
 import { defaultJsonBody } from './middlewares/body';
+import { healthRoutes } from './routes/health.routes';
 import { authRoutes } from './routes/auth.routes';
 import { userRoutes } from './routes/user.routes';
 import { projectRoutes } from './routes/project.routes';
@@ -19,6 +21,7 @@ import { reportRoutes } from './routes/report.routes';
 import { registerRoutes } from './routes/register.routes';
 import { noteRoutes } from './routes/note.routes';
 import { reviewRoutes } from './routes/review.routes';
+import { modelRunRoutes } from './routes/model-run.routes';
 import { sectionRoutes } from './routes/section.routes';
 import { analogueRoutes } from './routes/analogue.routes';
 import { accountRoutes, notificationRoutes, outboxRoutes } from './routes/notification.routes';
@@ -36,6 +39,7 @@ export function createApp(deps: AppDeps) {
   const app = express();
   app.set('trust proxy', deps.config.trustProxy);
   app.disable('x-powered-by');
+  app.use(requestId);
   app.use(
     helmet({
       contentSecurityPolicy: {
@@ -50,16 +54,7 @@ export function createApp(deps: AppDeps) {
   app.use('/api', defaultJsonBody(app, deps.config));
   app.use(configurePassport(deps.config.jwtSecret));
 
-  app.get('/api/health', async (_req, res) => {
-    let db = 'ok';
-    try {
-      await deps.sequelize.query('SELECT 1');
-    } catch {
-      db = 'down';
-    }
-    if (db !== 'ok') res.set('Retry-After', String(DB_RETRY_AFTER_SECONDS));
-    res.status(db === 'ok' ? 200 : 503).json({ status: db === 'ok' ? 'ok' : 'degraded', db });
-  });
+  app.use('/api/health', healthRoutes());
   app.use('/api/auth', authRoutes(deps.config));
   app.use('/api/users', userRoutes());
   app.use('/api', sectionRoutes(deps.config));
@@ -70,6 +65,7 @@ export function createApp(deps: AppDeps) {
   app.use('/api', registerRoutes());
   app.use('/api', noteRoutes());
   app.use('/api', reviewRoutes());
+  app.use('/api', modelRunRoutes());
   app.use('/api/notifications', notificationRoutes());
   app.use('/api/account', accountRoutes());
   app.use('/api/admin/mail', outboxRoutes());

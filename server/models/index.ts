@@ -20,6 +20,7 @@ import { initReportModels } from './report';
 import { initNoteModels } from './note';
 import { initNotificationModels } from './notification';
 import { initReviewModels } from './review';
+import { initModelRunModels } from './model-run';
 
 export class User extends Model<InferAttributes<User>, InferCreationAttributes<User>> {
   declare id: CreationOptional<number>;
@@ -164,4 +165,5 @@ export function initModels(sequelize: Sequelize) {
   initNoteModels(sequelize);
   initNotificationModels(sequelize);
   initReviewModels(sequelize);
+  initModelRunModels(sequelize);
 }
