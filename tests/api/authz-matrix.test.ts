@@ -225,6 +225,8 @@ async function reportBatch(f: Fx, done = false): Promise<string> {
 const MATRIX: Record<string, Row> = {
   // public
   'GET /api/health': { req: () => ({ path: '/api/health' }), anonymous: 200, refused: 'none: public health check', allowed: { as: 'reviewer', status: 200 } },
+  'GET /api/health/live': { req: () => ({ path: '/api/health/live' }), anonymous: 200, refused: 'none: public liveness probe', allowed: { as: 'reviewer', status: 200 } },
+  'GET /api/health/ready': { req: () => ({ path: '/api/health/ready' }), anonymous: 200, refused: 'none: public readiness probe', allowed: { as: 'reviewer', status: 200 } },
   'POST /api/auth/login': {
     req: () => ({ path: '/api/auth/login', body: { email: 'reviewer@tessel.example', password: 'cayline-demo' } }),
     anonymous: 200,

@@ -64,6 +64,12 @@ describe('database down and back', () => {
     expect(health.status).toBe(503);
     expect(health.body).toMatchObject({ status: 'degraded', db: 'down' });
     expect(Number(health.headers['retry-after'])).toBeGreaterThan(0);
+    // readiness names the failing check; liveness needs no database
+    const ready = await request(t.app).get('/api/health/ready');
+    expect(ready.status).toBe(503);
+    expect(ready.body.code).toBe('not_ready');
+    expect(ready.body.details.map((d: { path: string }) => d.path)).toContain('checks.database');
+    expect((await request(t.app).get('/api/health/live')).status).toBe(200);
     // a route that does not exist still says so (no database needed)
     expect((await request(t.app).get('/api/no-such-thing').set(bearer(token))).status).toBe(404);
 
