@@ -18,13 +18,15 @@
 import type { ForwardModelParams } from '../schemas/forward-model';
 import { MeasureInputError } from '../measure/errors';
 import { nelderMead } from './nelder-mead';
-import { parseForwardModelParams, runParsed, type ModelRun } from './model';
+import { ForwardModelCancelled, parseForwardModelParams, runParsed, type ModelRun } from './model';
 
 export interface FitOptions {
   fitSubsidence?: boolean;
   poorMisfitM?: number;
   maxIterations?: number;
   probeStep?: number;
+  /** Fraction done (0–1, by model runs against the iteration budget); return false to cancel (throws `ForwardModelCancelled`). */
+  onProgress?: (fraction: number) => boolean | void;
 }
 
 export interface FitResult {
@@ -110,11 +112,21 @@ export function fitProductionFactors(input: unknown, tops: readonly (readonly (r
     if (fitSub) q += Math.max(0, -x[nc]) ** 2;
     return 1e6 * q;
   };
+  const maxIterations = o.maxIterations ?? 150 * x0.length;
+  // runs: about 1.5 per iteration, plus the probes afterwards (2 per fitted value)
+  const budget = 1.5 * maxIterations + 2 * x0.length + 2;
+  let runs = 0;
+  const counted = (p: ForwardModelParams) => {
+    const r = runParsed(p);
+    runs++;
+    if (o.onProgress && o.onProgress(Math.min(0.99, runs / budget)) === false) throw new ForwardModelCancelled();
+    return r;
+  };
   const objective = (x: number[]) => {
-    const r = topMisfits(runParsed(paramsOf(x)), tops).rmsM;
+    const r = topMisfits(counted(paramsOf(x)), tops).rmsM;
     return r * r + penalty(x);
   };
-  const nm = nelderMead(objective, x0, { step: 0.1, maxIterations: o.maxIterations ?? 150 * x0.length, fTol: 1e-8, xTol: 1e-4 });
+  const nm = nelderMead(objective, x0, { step: 0.1, maxIterations, fTol: 1e-8, xTol: 1e-4 });
   const best = paramsOf(nm.x);
   const run = runParsed(best);
   const mis = topMisfits(run, tops);
@@ -126,7 +138,7 @@ export function fitProductionFactors(input: unknown, tops: readonly (readonly (r
   if (mis.rmsM > poor) warnings.push(`Poor fit: RMS vertical misfit ${mis.rmsM.toFixed(2)} m is above ${poor} m.`);
   if (!nm.converged) warnings.push(`The optimiser stopped after ${nm.iterations} iterations without converging.`);
   const step = o.probeStep ?? 0.05;
-  const rmsAt = (x: number[]) => topMisfits(runParsed(paramsOf(x)), tops).rmsM;
+  const rmsAt = (x: number[]) => topMisfits(counted(paramsOf(x)), tops).rmsM;
   const threshold = mis.rmsM * 1.01 + 0.01;
   for (let i = 0; i < x0.length; i++) {
     const isFactor = i < nc;

@@ -4,7 +4,7 @@
  * (shared/forward-model/fit.ts) on a synthetic interpretation.
  */
 import { describe, expect, it } from 'vitest';
-import { fitProductionFactors, nelderMead, runForwardModel, type ForwardModelParamsInput } from '../../../shared/forward-model';
+import { ForwardModelCancelled, fitProductionFactors, nelderMead, runForwardModel, type ForwardModelParamsInput } from '../../../shared/forward-model';
 
 describe('Nelder–Mead', () => {
   it('Rosenbrock (1960) from (−1.2, 1): minimum 0 at (1, 1)', () => {
@@ -72,5 +72,17 @@ describe('fit of production factors', () => {
   it('refuses tops that do not match the cycles, naming the field', () => {
     expect(() => fitProductionFactors(synthetic, tracedTops(synthetic).slice(0, 2))).toThrow(/^tops: the model closes 3 cycles but 2 tops were given/);
     expect(() => fitProductionFactors(synthetic, [[[0, 1]], [[0, Number.NaN]], [[0, 1]]])).toThrow(/^tops\[1\]\[0\]: must be a point/);
+  });
+
+  it('reports progress rising to below 1 and stops when the progress callback says so', { timeout: 60_000 }, () => {
+    const coarse = { ...synthetic, stepYr: 200 };
+    const tops = tracedTops(coarse);
+    const seen: number[] = [];
+    fitProductionFactors({ ...coarse, cycles: { ...coarse.cycles, productionFactors: [0.5] } }, tops, { onProgress: (f) => void seen.push(f) });
+    expect(seen.length).toBeGreaterThan(10);
+    expect(seen.every((f, i) => f > 0 && f <= 0.99 && (i === 0 || f >= seen[i - 1]))).toBe(true);
+    let calls = 0;
+    expect(() => fitProductionFactors(coarse, tops, { onProgress: () => ++calls < 5 })).toThrow(ForwardModelCancelled);
+    expect(calls).toBe(5);
   });
 });
