@@ -17,6 +17,7 @@ import { mailSettled } from './services/notify.service';
 import { logger } from './logger';
 import { startBackgroundJobs } from './jobs/pyramid.job';
 import { closeMeasurePool } from './measure/pool';
+import { closeReportPdfThread } from './reports/pdf-thread';
 
 export interface Running {
   app: ReturnType<typeof createApp>;
@@ -79,6 +80,7 @@ export async function boot(opts: BootOptions): Promise<Running> {
       await jobs.stop();
       await mailSettled();
       await closeMeasurePool();
+      await closeReportPdfThread();
       await sink?.close();
       await sequelize.close();
     },

@@ -20,8 +20,25 @@ export interface CropRequest {
   height: number;
 }
 
-/** The crop as an RGB image of `width` × `height` px (already stretched), encoded as PNG. */
-export async function compositeCrop(store: FileStore, section: Section, crop: CropRequest, out: { width: number; height: number }): Promise<Buffer> {
+/** Raw RGB pixels, row by row (what sharp's `raw()` gives). */
+export interface RawImage {
+  data: Buffer;
+  width: number;
+  height: number;
+  channels: 3;
+}
+
+/** sharp on a raw RGB image. */
+export function fromRaw(img: RawImage) {
+  return sharp(img.data, { raw: { width: img.width, height: img.height, channels: img.channels } });
+}
+
+/**
+ * The crop as raw RGB pixels of `width` × `height` (already stretched). Kept
+ * raw so the JPEG for the PDF and the marked-up PNG are each encoded once,
+ * without decoding an intermediate file.
+ */
+export async function compositeCrop(store: FileStore, section: Section, crop: CropRequest, out: { width: number; height: number }): Promise<RawImage> {
   if (!section.pyramid) throw new Error('compositeCrop: the section has no tile pyramid');
   const tileSize = section.pyramid.tileSize;
   const levels = pyramidLevels(section.width, section.height, tileSize);
@@ -63,20 +80,21 @@ export async function compositeCrop(store: FileStore, section: Section, crop: Cr
       .composite(layers)
       .raw()
       .toBuffer({ resolveWithObject: true });
-    return await sharp(data, { raw: { width: info.width, height: info.height, channels: info.channels as 3 } })
+    const resized = await sharp(data, { raw: { width: info.width, height: info.height, channels: info.channels as 3 } })
       .extract({ left: lu0 - c0 * tileSize, top: lv0 - r0 * tileSize, width: lu1 - lu0, height: lv1 - lv0 })
       .resize(out.width, out.height, { fit: 'fill', kernel: 'lanczos3' })
       .removeAlpha()
-      .png({ compressionLevel: 6 })
-      .toBuffer();
+      .raw()
+      .toBuffer({ resolveWithObject: true });
+    return { data: resized.data, width: resized.info.width, height: resized.info.height, channels: 3 };
   } finally {
     for (const release of releases) await release();
   }
 }
 
 /** The crop with the overlay SVG composited on top, as PNG. */
-export async function markedUpPng(cropPng: Buffer, overlay: string): Promise<Buffer> {
-  return sharp(cropPng)
+export async function markedUpPng(crop: RawImage, overlay: string): Promise<Buffer> {
+  return fromRaw(crop)
     .composite([{ input: Buffer.from(overlay), left: 0, top: 0 }])
     .png({ compressionLevel: 6 })
     .toBuffer();

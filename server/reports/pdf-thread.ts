@@ -1,33 +1,52 @@
 /**
  * Builds the report PDF (ECharts server-side rendering of the plots,
- * svg-to-pdfkit, pdfkit, font subsetting: a few seconds of JavaScript) in a
- * worker thread, so the process that takes a report job keeps answering
- * requests on its event loop meanwhile. Input is plain data (the report and
- * the crop figures); progress comes back as messages.
+ * svg-to-pdfkit, pdfkit, font subsetting) in a worker thread, so the process
+ * that takes a report job keeps answering requests on its event loop
+ * meanwhile. Input is plain data (the report and the crop figures);
+ * progress comes back over a MessagePort handed to the task.
+ *
+ * The thread is kept warm between reports (one thread, tinypool): starting
+ * it means registering tsx and loading pdfkit, fontkit and ECharts, about
+ * 1.5–2 s, several times the PDF itself. It is closed after
+ * `PDF_IDLE_MS` without work and by `closeReportPdfThread()` (server close).
  */
-import { Worker } from 'node:worker_threads';
+import { MessageChannel } from 'node:worker_threads';
+import { Tinypool } from 'tinypool';
 import type { PdfInput } from './pdf';
 
-const ENTRY = new URL('./pdf-worker-entry.mjs', import.meta.url);
+const PDF_IDLE_MS = 60_000;
+let pool: Tinypool | null = null;
 
-export function writeReportPdfOffLoop(input: PdfInput, file: string): Promise<{ pages: number }> {
-  const { onProgress, ...data } = input;
-  return new Promise((resolve, reject) => {
+function thePool(): Tinypool {
+  if (pool) return pool;
+  pool = new Tinypool({
+    filename: new URL('./pdf-worker-entry.mjs', import.meta.url).href,
+    name: 'default',
+    minThreads: 0,
+    maxThreads: 1,
+    idleTimeout: PDF_IDLE_MS,
     // a clean worker: it registers tsx itself (pdf-worker-entry.mjs) instead of inheriting the parent's loader flags
-    const worker = new Worker(ENTRY, { workerData: { input: data, file }, execArgv: [] });
-    let settled = false;
-    const finish = (fn: () => void) => {
-      if (settled) return;
-      settled = true;
-      fn();
-      void worker.terminate();
-    };
-    worker.on('message', (m: { progress?: number; done?: { pages: number }; error?: string }) => {
-      if (m.progress !== undefined) onProgress?.(m.progress);
-      else if (m.done) finish(() => resolve(m.done!));
-      else if (m.error !== undefined) finish(() => reject(new Error(`report PDF: ${m.error}`)));
-    });
-    worker.on('error', (err) => finish(() => reject(err)));
-    worker.on('exit', (code) => finish(() => reject(new Error(`report PDF worker stopped (exit code ${code})`))));
+    execArgv: [],
   });
+  return pool;
+}
+
+export async function writeReportPdfOffLoop(input: PdfInput, file: string): Promise<{ pages: number }> {
+  const { onProgress, ...data } = input;
+  const { port1, port2 } = new MessageChannel();
+  port1.on('message', (f: number) => onProgress?.(f));
+  try {
+    const reply = (await thePool().run({ input: data, file, progress: port2 }, { transferList: [port2] })) as { pages?: number; error?: string };
+    if (reply.error !== undefined) throw new Error(`report PDF: ${reply.error}`);
+    return { pages: reply.pages! };
+  } finally {
+    port1.close();
+  }
+}
+
+/** Stop the PDF thread (server close, so test processes exit). A later report starts a new one. */
+export async function closeReportPdfThread(): Promise<void> {
+  const p = pool;
+  pool = null;
+  if (p) await p.destroy();
 }

@@ -128,13 +128,13 @@ export async function writeReportPdf(input: PdfInput, file: string): Promise<{ p
   // pdfkit keeps the fontkit font of the current face on `_font.font` (not public API; without it every sign is kept)
   const face = (doc as unknown as { _font?: { font?: { hasGlyphForCodePoint?(cp: number): boolean } } })._font?.font;
   if (face?.hasGlyphForCodePoint) hasGlyph = (cp) => face.hasGlyphForCodePoint!(cp) && !(cp in SPELLED_CODES);
-  const out = fs.createWriteStream(file);
+  // collected in memory (a few hundred KiB) and written once: pdfkit emits thousands of small chunks, and a file stream pays a thread-pool round trip for each
+  const chunks: Buffer[] = [];
+  doc.on('data', (c: Buffer) => chunks.push(c));
   const done = new Promise<void>((resolve, reject) => {
-    out.on('finish', () => resolve());
-    out.on('error', reject);
+    doc.on('end', () => fs.promises.writeFile(file, Buffer.concat(chunks)).then(resolve, reject));
     doc.on('error', reject);
   });
-  doc.pipe(out);
   const W = size.width - 2 * MARGIN;
   const bottom = () => size.height - MARGIN - 14;
   const ensure = (h: number) => {

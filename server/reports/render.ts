@@ -5,14 +5,13 @@
  */
 import fsp from 'node:fs/promises';
 import path from 'node:path';
-import sharp from 'sharp';
 import type { Buildup } from '../models/buildup';
 import type { Section } from '../models/section';
 import type { BuildupReportRow } from '../models/report';
 import type { FileStore } from '../storage/fileStore';
 import { assembleReport } from '../services/report.service';
 import { measureBuildup } from '../services/buildup.service';
-import { compositeCrop, markedUpPng } from './crop';
+import { compositeCrop, fromRaw, markedUpPng } from './crop';
 import type { CropFigure } from './pdf';
 import { writeReportPdfOffLoop } from './pdf-thread';
 import { drawnSize, formatVE, overlaySvg } from '../../shared/report/overlay';
@@ -49,39 +48,51 @@ export async function renderReportFiles(input: RenderInput): Promise<{ pdfBytes:
   const report = await assembleReport(buildup, section, () => measureBuildup(system, buildup.id), { unit, stretch: row.stretch });
   progress(0.1);
   const figures: CropFigure[] = [];
+  const exportsWritten: Promise<unknown>[] = []; // the crop exports, written while the PDF is built
   if (report.crop) {
     const crop = report.crop;
     const views: { title: string; stretch: number }[] = [{ title: `Section around the buildup (vertical stretch ${Number(crop.stretch.toPrecision(3))}×, ${formatVE(crop.ve)})`, stretch: crop.stretch }];
     const ts = crop.trueScaleStretch;
     if (ts && Number.isFinite(ts) && Math.abs(ts / crop.stretch - 1) > 0.05) views.push({ title: 'The same crop at true scale (VE 1)', stretch: ts });
-    for (const [i, v] of views.entries()) {
-      const size = drawnSize(crop, v.stretch, CROP_DRAWN_WIDTH, CROP_MAX_HEIGHT);
-      const png = await compositeCrop(store, section, crop, size);
-      const ve = crop.intrinsicVE === null ? null : crop.intrinsicVE * v.stretch;
-      const cap = caption(crop, v.stretch, ve, unit);
-      const overlay = overlaySvg(report.geometry, { crop, size, measurement: report.measurement, notePins: report.notePins });
-      // JPEG into the PDF: pdfkit copies its bytes as they are, where a PNG would be decoded and recompressed in JavaScript
-      const jpeg = await sharp(png).jpeg({ quality: 88 }).toBuffer();
-      figures.push({ title: v.title, caption: cap, image: jpeg, overlay, width: size.width, height: size.height });
-      if (i === 0) {
-        // the exports: the marked-up crop alone, with its VE stated on it
-        const labelled = overlaySvg(report.geometry, { crop, size, measurement: report.measurement, notePins: report.notePins, caption: `${report.title.buildup} · ${formatVE(ve)} · stretch ${Number(v.stretch.toPrecision(3))}×` });
-        await fsp.writeFile(path.join(outDir, 'crop.png'), await markedUpPng(png, labelled));
-        const svg = overlaySvg(report.geometry, {
-          crop,
-          size,
-          measurement: report.measurement,
-          notePins: report.notePins,
-          caption: `${report.title.buildup} · ${formatVE(ve)} · stretch ${Number(v.stretch.toPrecision(3))}×`,
-          backgroundHref: `data:image/jpeg;base64,${jpeg.toString('base64')}`,
-        });
-        await fsp.writeFile(path.join(outDir, 'crop.svg'), `<?xml version="1.0" encoding="UTF-8"?>\n${svg}\n`);
-      }
-      progress(0.15 + 0.15 * (i + 1));
-    }
+    // the views in parallel: sharp's work runs on libuv's threads, off the event loop
+    let done = 0;
+    const made = await Promise.all(
+      views.map(async (v, i) => {
+        const size = drawnSize(crop, v.stretch, CROP_DRAWN_WIDTH, CROP_MAX_HEIGHT);
+        const pixels = await compositeCrop(store, section, crop, size);
+        const ve = crop.intrinsicVE === null ? null : crop.intrinsicVE * v.stretch;
+        const cap = caption(crop, v.stretch, ve, unit);
+        const overlay = overlaySvg(report.geometry, { crop, size, measurement: report.measurement, notePins: report.notePins });
+        // JPEG into the PDF: pdfkit copies its bytes as they are, where a PNG would be decoded and recompressed in JavaScript
+        const jpeg = await fromRaw(pixels).jpeg({ quality: 88 }).toBuffer();
+        if (i === 0) {
+          // the exports: the marked-up crop alone, with its VE stated on it
+          const label = `${report.title.buildup} · ${formatVE(ve)} · stretch ${Number(v.stretch.toPrecision(3))}×`;
+          const labelled = overlaySvg(report.geometry, { crop, size, measurement: report.measurement, notePins: report.notePins, caption: label });
+          const svg = overlaySvg(report.geometry, {
+            crop,
+            size,
+            measurement: report.measurement,
+            notePins: report.notePins,
+            caption: label,
+            backgroundHref: `data:image/jpeg;base64,${jpeg.toString('base64')}`,
+          });
+          exportsWritten.push(
+            markedUpPng(pixels, labelled).then((png) => fsp.writeFile(path.join(outDir, 'crop.png'), png)),
+            fsp.writeFile(path.join(outDir, 'crop.svg'), `<?xml version="1.0" encoding="UTF-8"?>\n${svg}\n`),
+          );
+        }
+        progress(0.15 + 0.3 * (++done / views.length));
+        return { title: v.title, caption: cap, image: jpeg, overlay, width: size.width, height: size.height } satisfies CropFigure;
+      }),
+    );
+    figures.push(...made);
   }
   const pdfPath = path.join(outDir, 'report.pdf');
-  const { pages } = await writeReportPdfOffLoop({ report, figures, paper: row.paper as Paper, onProgress: (f) => progress(0.45 + 0.5 * f) }, pdfPath);
+  const [{ pages }] = await Promise.all([
+    writeReportPdfOffLoop({ report, figures, paper: row.paper as Paper, onProgress: (f) => progress(0.45 + 0.5 * f) }, pdfPath),
+    ...exportsWritten,
+  ]);
   const st = await fsp.stat(pdfPath);
   return { pdfBytes: st.size, pages };
 }
