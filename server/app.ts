@@ -13,6 +13,7 @@ import { apiNotFound, errorHandler } from './middlewares/errors';
 import { requestId } from './middlewares/request-id';
 import { defaultJsonBody } from './middlewares/body';
 import { healthRoutes } from './routes/health.routes';
+import { openApiRoutes } from './routes/openapi.routes';
 import { authRoutes } from './routes/auth.routes';
 import { userRoutes } from './routes/user.routes';
 import { projectRoutes } from './routes/project.routes';
@@ -69,6 +70,7 @@ export function createApp(deps: AppDeps) {
   app.use('/api/notifications', notificationRoutes());
   app.use('/api/account', accountRoutes());
   app.use('/api/admin/mail', outboxRoutes());
+  app.use('/api', openApiRoutes());
   app.use('/api', apiNotFound);
 
   // CAYLINE_CLIENT_DIR: serve a client build from elsewhere (parallel end-to-end runs build into their own folder)

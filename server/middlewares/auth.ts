@@ -51,13 +51,18 @@ export const requireAuth: RequestHandler = (req, res, next) => {
 
 /** Require one of the global roles (after requireAuth). */
 export function requireRole(...roles: Role[]): RequestHandler {
-  return (req, _res, next) => {
+  const handler: RequestHandler = (req, _res, next) => {
     if (!req.user || !roles.includes(req.user.role)) {
       return next(new AppError(403, 'forbidden', `Only ${roles.join(' or ')} accounts may do this`));
     }
     next();
   };
+  Object.defineProperty(handler, REQUIRED_ROLES, { value: roles }); // read by the OpenAPI document
+  return handler;
 }
+
+/** Key of the global roles a `requireRole()` handler lets through. */
+export const REQUIRED_ROLES = Symbol('requiredRoles');
 
 export function currentUser(req: Express.Request): User {
   return req.user as unknown as User;

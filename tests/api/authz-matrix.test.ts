@@ -1,6 +1,7 @@
 /**
  * Authorization matrix of EVERY API route, generated from the app's own
- * route table: the Express 5 router stack is walked (nested routers through
+ * route table (server/openapi/route-table.ts, which the OpenAPI document uses
+ * too): the Express 5 router stack is walked (nested routers through
  * `handle.stack`, mount paths from each layer's `rawPath`) and each
  * `METHOD /api/path/:param` must have exactly one row below; a row that names
  * no route fails too. Adding a route means adding one row.
@@ -23,37 +24,12 @@ import { ROLE_EMAIL, bearer, createTestApp, type DemoRole, type TestApp } from '
 import { DEMO_PASSWORD } from '../../server/db/seeders/demo';
 import { FIELDS, makeImage } from '../helpers/sections';
 import { SMALL_GEOMETRY, SMALL_TIES, failedSection, readyCalibratedSection, savedBuildup, signIn } from '../helpers/api-fixtures';
+import { routeTable } from '../../server/openapi/route-table';
 
 // ---------------------------------------------------------------------------
-// the app's route table
+// the app's route table (the same walker feeds the OpenAPI document)
 
-interface RouterLayer {
-  route?: { path: unknown; methods: Record<string, boolean> };
-  handle?: { stack?: RouterLayer[] };
-  rawPath?: unknown;
-}
-
-/** `METHOD /path` of every route of an Express 5 app (string paths; mount paths joined). */
-export function routeTable(app: { router: { stack: RouterLayer[] } }): string[] {
-  const out: string[] = [];
-  const walk = (stack: RouterLayer[], prefix: string) => {
-    for (const layer of stack) {
-      if (layer.route) {
-        const paths = Array.isArray(layer.route.path) ? layer.route.path : [layer.route.path];
-        for (const p of paths) {
-          if (typeof p !== 'string') continue; // the client's catch-all regexp, outside /api
-          for (const m of Object.keys(layer.route.methods)) if (m !== '_all') out.push(`${m.toUpperCase()} ${join(prefix, p)}`);
-        }
-      } else if (layer.handle?.stack) {
-        const mount = typeof layer.rawPath === 'string' ? layer.rawPath : '';
-        walk(layer.handle.stack, join(prefix, mount));
-      }
-    }
-  };
-  walk(app.router.stack, '');
-  return [...new Set(out)].filter((r) => r.split(' ')[1].startsWith('/api/')).sort();
-}
-const join = (a: string, b: string) => (`${a}/${b}`.replace(/\/+/g, '/').replace(/(.)\/$/, '$1'));
+export { routeTable };
 
 // ---------------------------------------------------------------------------
 // fixtures shared by the rows
@@ -227,6 +203,7 @@ const MATRIX: Record<string, Row> = {
   'GET /api/health': { req: () => ({ path: '/api/health' }), anonymous: 200, refused: 'none: public health check', allowed: { as: 'reviewer', status: 200 } },
   'GET /api/health/live': { req: () => ({ path: '/api/health/live' }), anonymous: 200, refused: 'none: public liveness probe', allowed: { as: 'reviewer', status: 200 } },
   'GET /api/health/ready': { req: () => ({ path: '/api/health/ready' }), anonymous: 200, refused: 'none: public readiness probe', allowed: { as: 'reviewer', status: 200 } },
+  'GET /api/openapi.json': { req: () => ({ path: '/api/openapi.json' }), refused: 'none: every signed-in user (the API reference)', allowed: { as: 'reviewer', status: 200 } },
   'POST /api/auth/login': {
     req: () => ({ path: '/api/auth/login', body: { email: 'reviewer@tessel.example', password: 'cayline-demo' } }),
     anonymous: 200,
