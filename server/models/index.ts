@@ -17,6 +17,7 @@ import type { NotifyMode } from '../../shared/schemas/notifications';
 import { initSectionModels } from './section';
 import { initBuildupModels } from './buildup';
 import { initReportModels } from './report';
+import { initDepthModels } from './depth';
 import { initNoteModels } from './note';
 import { initNotificationModels } from './notification';
 import { initReviewModels } from './review';
@@ -162,6 +163,7 @@ export function initModels(sequelize: Sequelize) {
   initSectionModels(sequelize);
   initBuildupModels(sequelize);
   initReportModels(sequelize);
+  initDepthModels(sequelize);
   initNoteModels(sequelize);
   initNotificationModels(sequelize);
   initReviewModels(sequelize);

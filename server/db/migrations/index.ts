@@ -15,6 +15,7 @@ import * as m0009 from './0009-reports';
 import * as m0010 from './0010-units';
 import * as m0011 from './0011-analogues';
 import * as m0013 from './0013-model-runs';
+import * as m0014 from './0014-depth-pyramids';
 
 export interface Migration {
   name: string;
@@ -35,4 +36,5 @@ export const migrations: Migration[] = [
   { name: '0010-units', ...m0010 },
   { name: '0011-analogues', ...m0011 },
   { name: '0013-model-runs', ...m0013 },
+  { name: '0014-depth-pyramids', ...m0014 },
 ];
