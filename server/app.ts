@@ -24,6 +24,8 @@ import { noteRoutes } from './routes/note.routes';
 import { reviewRoutes } from './routes/review.routes';
 import { modelRunRoutes } from './routes/model-run.routes';
 import { sectionRoutes } from './routes/section.routes';
+import { calibrationRoutes } from './routes/calibration.routes';
+import { velocityRoutes } from './routes/velocity.routes';
 import { analogueRoutes } from './routes/analogue.routes';
 import { accountRoutes, notificationRoutes, outboxRoutes } from './routes/notification.routes';
 import type { Mailer } from './mail/mailer';
@@ -59,6 +61,8 @@ export function createApp(deps: AppDeps) {
   app.use('/api/auth', authRoutes(deps.config));
   app.use('/api/users', userRoutes());
   app.use('/api', sectionRoutes(deps.config));
+  app.use('/api', calibrationRoutes());
+  app.use('/api', velocityRoutes());
   app.use('/api/projects', projectRoutes());
   app.use('/api', buildupRoutes());
   app.use('/api', analogueRoutes());

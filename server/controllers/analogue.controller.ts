@@ -3,8 +3,8 @@ import { pipeline } from 'node:stream/promises';
 import multer, { MulterError } from 'multer';
 import * as a from '../services/analogue.service';
 import * as io from '../services/analogue-import.service';
-import { idParam } from './user.controller';
-import { AppError, validationError } from '../middlewares/errors';
+import { idParam } from '../middlewares/params';
+import { AppError, validationError } from '../errors';
 import { analogueSearchSchema, importMappingSchema, IMPORT_MAX_BYTES, listNameSchema, searchQueryFromUrl, type ListName } from '../../shared/schemas/analogues';
 
 function listParam(req: Request): ListName {

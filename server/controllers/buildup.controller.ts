@@ -1,8 +1,8 @@
 import type { Request, Response } from 'express';
 import * as buildups from '../services/buildup.service';
-import { idParam } from './user.controller';
+import { idParam } from '../middlewares/params';
 import { measureWorkProblem } from '../../shared/schemas/measure-limits';
-import { AppError } from '../middlewares/errors';
+import { AppError } from '../errors';
 import { measureOffLoop } from '../measure/pool';
 
 export async function list(req: Request, res: Response) {
@@ -23,12 +23,6 @@ export async function remove(req: Request, res: Response) {
 }
 export async function measurements(req: Request, res: Response) {
   res.json(await buildups.measureBuildup(req.user!, idParam(req), res.locals.query));
-}
-export async function getVelocity(req: Request, res: Response) {
-  res.json(await buildups.getVelocity(req.user!, idParam(req)));
-}
-export async function putVelocity(req: Request, res: Response) {
-  res.json(await buildups.putVelocity(req.user!, idParam(req), res.locals.body.velocity));
 }
 /**
  * `POST /api/measure`: the engine on a posted interpretation (spec §9), on the

@@ -1,6 +1,6 @@
 import type { Request, Response } from 'express';
 import * as notes from '../services/note.service';
-import { idParam } from './user.controller';
+import { idParam } from '../middlewares/params';
 
 export async function list(req: Request, res: Response) {
   res.json(await notes.listThreads(req.user!, idParam(req, 'sectionId')));

@@ -2,7 +2,7 @@ import type { Request, Response } from 'express';
 import * as notifications from '../services/notification.service';
 import * as account from '../services/account.service';
 import * as outbox from '../mail/outbox';
-import { idParam } from './user.controller';
+import { idParam } from '../middlewares/params';
 import { FORGOT_PASSWORD_ANSWER } from '../../shared/schemas/account';
 
 export async function list(req: Request, res: Response) {

@@ -1,6 +1,6 @@
 import type { Request, Response } from 'express';
 import * as projects from '../services/project.service';
-import { idParam } from './user.controller';
+import { idParam } from '../middlewares/params';
 
 export async function list(req: Request, res: Response) {
   res.json(await projects.listProjects(req.user!, res.locals.query));

@@ -3,7 +3,7 @@ import * as register from '../services/register.service';
 import * as prefs from '../services/preferences.service';
 import * as batch from '../services/report-batch.service';
 import { pipeline } from 'node:stream/promises';
-import { idParam } from './user.controller';
+import { idParam } from '../middlewares/params';
 
 export async function list(req: Request, res: Response) {
   res.json(await register.listRegister(req.user!, idParam(req), res.locals.query));

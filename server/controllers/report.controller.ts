@@ -1,7 +1,7 @@
 import type { Request, Response } from 'express';
 import { pipeline } from 'node:stream/promises';
 import * as reports from '../services/report.service';
-import { idParam } from './user.controller';
+import { idParam } from '../middlewares/params';
 
 /** RFC 6266 Content-Disposition with an ASCII name (our names are slugs). */
 const attachment = (name: string) => `attachment; filename="${name.replace(/[^A-Za-z0-9._-]/g, '_')}"`;

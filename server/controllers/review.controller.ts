@@ -1,15 +1,9 @@
 import type { Request, Response } from 'express';
 import * as review from '../services/review.service';
-import { idParam } from './user.controller';
-import { AppError } from '../middlewares/errors';
+import { idParam, wholeParam } from '../middlewares/params';
 
 /** `:version` of a kept version: a whole number ≥ 0 (version 0 is the empty buildup as created). */
-function versionParam(req: Request): number {
-  const raw = req.params.version;
-  const v = Number(raw);
-  if (typeof raw !== 'string' || !/^\d{1,9}$/.test(raw) || !Number.isInteger(v)) throw new AppError(400, 'validation_failed', 'version: must be a whole number ≥ 0', [{ path: 'version', message: 'must be a whole number ≥ 0' }]);
-  return v;
-}
+const versionParam = (req: Request) => wholeParam(req, 'version');
 
 export async function get(req: Request, res: Response) {
   res.json(await review.getReview(req.user!, idParam(req)));

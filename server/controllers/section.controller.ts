@@ -4,6 +4,7 @@ import type { NextFunction, Request, Response } from 'express';
 import * as sections from '../services/section.service';
 import { assertCanEdit } from '../services/project.service';
 import type { StoredObject } from '../storage/fileStore';
+import { idParam } from '../middlewares/params';
 
 /** Files of a ready pyramid never change under their URL. */
 export const IMMUTABLE = 'private, max-age=31536000, immutable';
@@ -19,29 +20,29 @@ async function sendStored(res: Response, obj: StoredObject) {
 
 /** Before a file is accepted: only editors of the project may send one (so refused users upload nothing). */
 export async function requireProjectEditor(req: Request, res: Response, next: NextFunction) {
-  await assertCanEdit(req.user!, res.locals.params.projectId);
+  await assertCanEdit(req.user!, idParam(req, 'projectId'));
   next();
 }
 
 export async function upload(req: Request, res: Response) {
-  const r = await sections.createSection(req.user!, res.locals.params.projectId, res.locals.body, req.file!);
+  const r = await sections.createSection(req.user!, idParam(req, 'projectId'), res.locals.body, req.file!);
   res.status(202).location(`/api/sections/${r.id}`).json(r);
 }
 export async function list(req: Request, res: Response) {
-  res.json(await sections.listSections(req.user!, res.locals.params.projectId, res.locals.query));
+  res.json(await sections.listSections(req.user!, idParam(req, 'projectId'), res.locals.query));
 }
 export async function get(req: Request, res: Response) {
-  res.json(await sections.sectionDetail(req.user!, res.locals.params.id));
+  res.json(await sections.sectionDetail(req.user!, idParam(req)));
 }
 export async function update(req: Request, res: Response) {
-  res.json(await sections.updateSection(req.user!, res.locals.params.id, res.locals.body));
+  res.json(await sections.updateSection(req.user!, idParam(req), res.locals.body));
 }
 export async function remove(req: Request, res: Response) {
-  await sections.deleteSection(req.user!, res.locals.params.id);
+  await sections.deleteSection(req.user!, idParam(req));
   res.status(204).end();
 }
 export async function retry(req: Request, res: Response) {
-  const r = await sections.retrySection(req.user!, res.locals.params.id);
+  const r = await sections.retrySection(req.user!, idParam(req));
   res.status(202).location(`/api/sections/${r.id}`).json(r);
 }
 export async function tile(req: Request, res: Response) {
@@ -49,17 +50,8 @@ export async function tile(req: Request, res: Response) {
   await sendStored(res, await sections.openTile(req.user!, id, z, x, y));
 }
 export async function thumbnail(req: Request, res: Response) {
-  await sendStored(res, await sections.openImage(req.user!, res.locals.params.id, 'thumbnail'));
+  await sendStored(res, await sections.openImage(req.user!, idParam(req), 'thumbnail'));
 }
 export async function preview(req: Request, res: Response) {
-  await sendStored(res, await sections.openImage(req.user!, res.locals.params.id, 'preview'));
-}
-export async function saveCalibration(req: Request, res: Response) {
-  res.status(201).json(await sections.saveCalibration(req.user!, res.locals.params.id, res.locals.body));
-}
-export async function previewCalibration(req: Request, res: Response) {
-  res.json(await sections.previewCalibration(req.user!, res.locals.params.id, res.locals.body));
-}
-export async function calibrations(req: Request, res: Response) {
-  res.json(await sections.listCalibrations(req.user!, res.locals.params.id));
+  await sendStored(res, await sections.openImage(req.user!, idParam(req), 'preview'));
 }

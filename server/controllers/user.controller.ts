@@ -1,13 +1,6 @@
 import type { Request, Response } from 'express';
 import * as users from '../services/user.service';
-import { AppError } from '../middlewares/errors';
-
-export function idParam(req: Request, name = 'id'): number {
-  const raw = req.params[name];
-  const id = Number(raw);
-  if (!Number.isInteger(id) || id <= 0) throw new AppError(400, 'validation_failed', `${name}: must be a positive whole number`);
-  return id;
-}
+import { idParam } from '../middlewares/params';
 
 export async function list(_req: Request, res: Response) {
   res.json(await users.listUsers(res.locals.query));

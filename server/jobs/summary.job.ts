@@ -16,7 +16,7 @@ import { ctx } from '../context';
 import { logger } from '../logger';
 import { Buildup, SectionVelocity } from '../models/buildup';
 import { Section, SectionCalibration } from '../models/section';
-import { AppError } from '../middlewares/errors';
+import { AppError } from '../errors';
 import { jobQueue } from './queue';
 import { writeSummary } from '../services/summary-store';
 import { startBatchJobs } from './report-batch.job';

@@ -11,7 +11,7 @@ import path from 'node:path';
 import { simpleParser, type AddressObject } from 'mailparser';
 import { MailMessage } from '../models/notification';
 import { logger } from '../logger';
-import { notFound } from '../middlewares/errors';
+import { notFound } from '../errors';
 import type { ReceivedMail } from './sink';
 import type { OutboxMessage, OutboxPage, OutboxSummary } from '../../shared/schemas/notifications';
 

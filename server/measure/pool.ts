@@ -13,7 +13,7 @@
 import os from 'node:os';
 import { Tinypool } from 'tinypool';
 import type { MeasurementOutput } from '../../shared/measure/index';
-import { AppError } from '../middlewares/errors';
+import { AppError } from '../errors';
 import { reviveError, type MeasureReply, type MeasureTask } from './task';
 import type { DepthProfile } from '../../shared/schemas/analogues';
 

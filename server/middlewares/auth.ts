@@ -1,7 +1,7 @@
 import passport from 'passport';
 import { Strategy as JwtStrategy, ExtractJwt } from 'passport-jwt';
 import type { RequestHandler } from 'express';
-import { AppError } from './errors';
+import { AppError } from '../errors';
 import { JWT_ALGORITHM, userForPayload, type TokenPayload } from '../services/auth.service';
 import type { User } from '../models/index';
 import type { Role } from '../../shared/schemas/auth';

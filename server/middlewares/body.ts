@@ -19,7 +19,7 @@
 import express, { type RequestHandler } from 'express';
 import type { Config } from '../config';
 import { ctx } from '../context';
-import { AppError } from './errors';
+import { AppError } from '../errors';
 
 export type BodyKind = 'default' | 'large' | 'signIn';
 

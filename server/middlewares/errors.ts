@@ -2,34 +2,12 @@ import type { ErrorRequestHandler, RequestHandler } from 'express';
 import { ZodError } from 'zod';
 import { BaseError as SequelizeError, ConnectionError as SequelizeConnectionError } from 'sequelize';
 import { MulterError } from 'multer';
-import { formatIssuePath, type ApiErrorBody } from '../../shared/api-errors';
+import type { ApiErrorBody } from '../../shared/api-errors';
+import { AppError, validationError } from '../errors';
 import { logger } from '../logger';
 import { MeasureInputError } from '../../shared/measure/errors';
 
-/** The one error type services throw; the error handler turns it into `{ code, message, details? }`. */
-export class AppError extends Error {
-  constructor(
-    public status: number,
-    public code: string,
-    message: string,
-    public details?: unknown,
-  ) {
-    super(message);
-  }
-}
-
-export const notFound = (what = 'Resource') => new AppError(404, 'not_found', `${what} not found`);
-export const forbidden = (message = 'You are not allowed to do this') => new AppError(403, 'forbidden', message);
-
-/** Turn a ZodError into a 400 whose message names every bad field's path. */
-export function validationError(err: ZodError, prefix?: string): AppError {
-  const details = err.issues.map((i) => {
-    const p = formatIssuePath(prefix ? [prefix, ...i.path] : i.path);
-    return { path: p, message: i.message };
-  });
-  const message = details.map((d) => (d.path ? `${d.path}: ${d.message}` : d.message)).join('; ');
-  return new AppError(400, 'validation_failed', message, details);
-}
+export { AppError, notFound, forbidden, validationError } from '../errors';
 
 /** Seconds a client is told to wait (Retry-After) when the database is unavailable. */
 export const DB_RETRY_AFTER_SECONDS = 5;

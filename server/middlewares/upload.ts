@@ -9,7 +9,7 @@ import fs from 'node:fs';
 import multer, { MulterError } from 'multer';
 import type { RequestHandler } from 'express';
 import type { Config } from '../config';
-import { AppError } from './errors';
+import { AppError } from '../errors';
 import { fileStoreFor, randomName } from '../storage/fileStore';
 import { isSafeText, UNSAFE_TEXT_MESSAGE } from '../../shared/schemas/text';
 

@@ -1,6 +1,6 @@
 import type { RequestHandler } from 'express';
 import type { ZodType } from 'zod';
-import { validationError } from './errors';
+import { validationError } from '../errors';
 
 type Where = 'body' | 'query' | 'params';
 

@@ -4,7 +4,7 @@ import { loginSchema } from '../../shared/schemas/auth';
 import { validate } from '../middlewares/validate';
 import { requireAuth } from '../middlewares/auth';
 import { jsonBody } from '../middlewares/body';
-import { AppError } from '../middlewares/errors';
+import { AppError } from '../errors';
 import * as c from '../controllers/auth.controller';
 import * as account from '../controllers/notification.controller';
 import { forgotPasswordSchema, setPasswordSchema } from '../../shared/schemas/account';

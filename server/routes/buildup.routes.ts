@@ -1,6 +1,6 @@
 import { Router } from 'express';
 import { z } from 'zod';
-import { createBuildupSchema, putVelocitySchema, saveBuildupSchema } from '../../shared/schemas/buildups';
+import { createBuildupSchema, saveBuildupSchema } from '../../shared/schemas/buildups';
 import { measureRequestSchema } from '../../shared/schemas/measure-limits';
 import { validate } from '../middlewares/validate';
 import { requireAuth } from '../middlewares/auth';
@@ -22,8 +22,6 @@ export function buildupRoutes() {
   const r = Router();
   r.get('/sections/:sectionId/buildups', requireAuth, c.list);
   r.post('/sections/:sectionId/buildups', requireAuth, validate(createBuildupSchema), c.create);
-  r.get('/sections/:id/velocity', requireAuth, c.getVelocity);
-  r.put('/sections/:id/velocity', requireAuth, validate(putVelocitySchema), c.putVelocity);
   r.get('/buildups/:id', requireAuth, c.get);
   r.put('/buildups/:id', requireAuth, jsonBody('large'), validate(saveBuildupSchema), c.save);
   r.delete('/buildups/:id', requireAuth, c.remove);

@@ -10,7 +10,7 @@ import bcrypt from 'bcryptjs';
 import { Op, QueryTypes, type Transaction } from 'sequelize';
 import { AccountToken, Notification, type AccountTokenPurpose } from '../models/notification';
 import { AuthSession, User } from '../models/index';
-import { AppError, notFound } from '../middlewares/errors';
+import { AppError, notFound } from '../errors';
 import { ctx } from '../context';
 import { logger } from '../logger';
 import { audit } from './audit.service';

@@ -7,7 +7,7 @@
 import Papa from 'papaparse';
 import { QueryTypes } from 'sequelize';
 import { ctx } from '../context';
-import { AppError } from '../middlewares/errors';
+import { AppError } from '../errors';
 import { audit } from './audit.service';
 import { handColumns, insertRow, readLists, searchAll, toSummary, write, type Actor } from './analogue.service';
 import { icsUnit } from '../../shared/ics-chart';

@@ -13,7 +13,7 @@
 import { QueryTypes, type Sequelize, type Transaction } from 'sequelize';
 import { LRUCache } from 'lru-cache';
 import { ctx } from '../context';
-import { AppError, notFound, forbidden } from '../middlewares/errors';
+import { AppError, notFound, forbidden } from '../errors';
 import { audit } from './audit.service';
 import { getBuildup, measureContext } from './buildup.service';
 import { Section } from '../models/section';

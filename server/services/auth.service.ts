@@ -3,7 +3,7 @@ import bcrypt from 'bcryptjs';
 import jwt from 'jsonwebtoken';
 import type { Transaction } from 'sequelize';
 import { AuthSession, User } from '../models/index';
-import { AppError } from '../middlewares/errors';
+import { AppError } from '../errors';
 import { ctx } from '../context';
 import type { LoginInput, LoginResult } from '../../shared/schemas/auth';
 import { audit } from './audit.service';

@@ -1,17 +1,18 @@
 /**
  * Buildups traced on a section: create, list, load, save with optimistic
- * locking, delete; the section's velocity model; measurements computed by the
+ * locking, delete; measurements computed by the
  * shared engine from the stored pixel geometry, the section's latest
- * calibration and its velocity model.
+ * calibration and its velocity model (velocity.service.ts).
  */
-import { Buildup, SectionVelocity } from '../models/buildup';
+import { Buildup } from '../models/buildup';
 import { Section, SectionCalibration } from '../models/section';
 import { User } from '../models/index';
-import { AppError, notFound } from '../middlewares/errors';
+import { AppError, notFound } from '../errors';
 import { assertCanEdit, type Actor } from './project.service';
-import { sectionForEditor, sectionForViewer } from './section.service';
+import { sectionForEditor, sectionForViewer } from './section-access';
+import { velocityOf } from './velocity.service';
 import { audit } from './audit.service';
-import { afterSave, assertNotSignedOff, assertSectionNotFrozen, recordVersion } from './review.service';
+import { afterSave, assertNotSignedOff, recordVersion } from './review.service';
 import { markBuildupNotesRemoved, refreshNoteAnchors } from './note.service';
 import { ctx } from '../context';
 import { logger } from '../logger';
@@ -21,8 +22,8 @@ import { MeasureInputError, type MeasurementOutput } from '../../shared/measure/
 import { measureWorkProblem } from '../../shared/schemas/measure-limits';
 import { measureOffLoop } from '../measure/pool';
 import { cachedMeasurement, stableJson } from '../measure/cache';
-import { fromGeometry, toInterpretationInput, ModelError, type BuildupGeometry, type VelocityModel } from '../../shared/editor/model';
-import { DEFAULT_VELOCITY, DEFAULT_VELOCITY_SOURCES, type BuildupSummary, type SaveBuildupInput } from '../../shared/schemas/buildups';
+import { fromGeometry, toInterpretationInput, ModelError, type BuildupGeometry } from '../../shared/editor/model';
+import type { BuildupSummary, SaveBuildupInput } from '../../shared/schemas/buildups';
 
 const EMPTY_GEOMETRY: BuildupGeometry = { base: [], cycles: [], terminations: [], topIsDrowningSurface: false };
 
@@ -120,34 +121,6 @@ export async function deleteBuildup(actor: Actor, id: number) {
     await audit(actor.id, 'buildup.delete', 'buildup', id, { name: buildup.name }, transaction);
     await markBuildupNotesRemoved(id, transaction);
   });
-}
-
-export interface VelocityInfo {
-  velocity: VelocityModel;
-  isDefault: boolean;
-  sources: string[];
-  updatedAt: string | null;
-}
-
-async function velocityOf(sectionId: number): Promise<VelocityInfo> {
-  const row = await SectionVelocity.findByPk(sectionId);
-  if (!row) return { velocity: DEFAULT_VELOCITY as VelocityModel, isDefault: true, sources: DEFAULT_VELOCITY_SOURCES, updatedAt: null };
-  return { velocity: row.model as VelocityModel, isDefault: false, sources: [], updatedAt: row.updatedAt.toISOString() };
-}
-
-export async function getVelocity(actor: Actor, sectionId: number): Promise<VelocityInfo> {
-  await sectionForViewer(actor, sectionId);
-  return velocityOf(sectionId);
-}
-
-export async function putVelocity(actor: Actor, sectionId: number, velocity: unknown): Promise<VelocityInfo> {
-  await sectionForEditor(actor, sectionId);
-  await ctx().sequelize.transaction(async (transaction) => {
-    await assertSectionNotFrozen(sectionId, transaction);
-    await SectionVelocity.upsert({ sectionId, model: velocity, updatedById: actor.id, updatedAt: new Date() }, { transaction });
-    await audit(actor.id, 'section.velocity', 'section', sectionId, velocity, transaction);
-  });
-  return velocityOf(sectionId);
 }
 
 /** Everything the engine needs besides the geometry: latest Ties, vertical domain, velocity model. */

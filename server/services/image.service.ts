@@ -6,7 +6,7 @@
  */
 import fsp from 'node:fs/promises';
 import sharp, { type Metadata } from 'sharp';
-import { AppError } from '../middlewares/errors';
+import { AppError } from '../errors';
 import type { SourceFormat } from '../models/section';
 
 export interface ImageInfo {

@@ -13,7 +13,7 @@
  */
 import crypto from 'node:crypto';
 import { QueryTypes } from 'sequelize';
-import { AppError } from '../middlewares/errors';
+import { AppError } from '../errors';
 import { ctx } from '../context';
 
 export class LoginThrottledError extends AppError {

@@ -9,9 +9,9 @@
 import { Buildup } from '../models/buildup';
 import { ModelRun } from '../models/model-run';
 import { User } from '../models/index';
-import { AppError, notFound } from '../middlewares/errors';
+import { AppError, notFound } from '../errors';
 import { assertCanEdit, type Actor } from './project.service';
-import { sectionForViewer } from './section.service';
+import { sectionForViewer } from './section-access';
 import { audit } from './audit.service';
 import { ctx } from '../context';
 import { forwardModelParamsSchema } from '../../shared/schemas/forward-model';

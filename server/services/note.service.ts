@@ -15,12 +15,12 @@
  */
 import { Op, type Transaction } from 'sequelize';
 import { ctx } from '../context';
-import { AppError, forbidden, notFound } from '../middlewares/errors';
+import { AppError, forbidden, notFound } from '../errors';
 import { ProjectMember, User } from '../models/index';
 import { Buildup } from '../models/buildup';
 import { Section } from '../models/section';
 import { NoteMessage, NoteThread } from '../models/note';
-import { sectionForViewer } from './section.service';
+import { sectionForViewer } from './section-access';
 import { type Actor } from './project.service';
 import { audit } from './audit.service';
 import { notify } from './notify.service';

@@ -1,6 +1,6 @@
 import { Op, type Transaction } from 'sequelize';
 import { Project, ProjectMember, User } from '../models/index';
-import { AppError, forbidden, notFound } from '../middlewares/errors';
+import { AppError, forbidden, notFound } from '../errors';
 import { audit } from './audit.service';
 import { ctx } from '../context';
 import { Section } from '../models/section';

@@ -11,7 +11,7 @@
 import type PgBoss from 'pg-boss';
 import { QueryTypes } from 'sequelize';
 import { ctx } from '../context';
-import { AppError, notFound } from '../middlewares/errors';
+import { AppError, notFound } from '../errors';
 import { BuildupReportRow } from '../models/report';
 import { fileStoreFor, type StoredObject } from '../storage/fileStore';
 import { jobQueue } from '../jobs/queue';

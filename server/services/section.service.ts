@@ -1,31 +1,29 @@
 /**
  * Sections: upload (checked, stored, queued), read, list, edit with
- * optimistic locking, retry, delete, files (tiles, preview, thumbnail) and
- * versioned axis calibrations.
+ * optimistic locking, retry, delete, files (tiles, preview, thumbnail).
+ * Calibrations: calibration.service.ts; velocity: velocity.service.ts.
  *
- * Access: members of the section's project (and admins) read; interpreters
- * who are members, and admins, change (assertCanEdit). Non-members get 404.
+ * Access (section-access.ts): members of the section's project (and admins)
+ * read; interpreters who are members, and admins, change (assertCanEdit).
+ * Non-members get 404.
  */
 import { Op, type Transaction, type WhereOptions } from 'sequelize';
-import * as turf from '@turf/turf';
 import { ctx } from '../context';
-import { AppError, notFound } from '../middlewares/errors';
+import { AppError, notFound } from '../errors';
 import { Section, SectionCalibration } from '../models/section';
 import { User } from '../models/index';
 import { assertCanEdit, projectForViewer, type Actor } from './project.service';
+import { loadSection, sectionForEditor, sectionForViewer } from './section-access';
+import { calibrationRecord, createCalibrationVersion, latestCalibration, latestCalibrationVersions, lineLength } from './calibration.service';
 import { audit } from './audit.service';
+import { afterSectionDeleted as afterSegySectionDeleted } from './segy.service';
 import { inspectImage } from './image.service';
 import { tilesDescriptor, pyramidLevels, TILE_EXT } from './tiles.service';
 import { fileStoreFor, randomName, type StoredObject } from '../storage/fileStore';
 import { queuePyramid, nudgeWorkers, sectionKeys, stuckReason, buildScratchPrefix } from '../jobs/pyramid.job';
 import { cancelPyramidJob } from '../jobs/queue';
-import { fitCalibration, applyCalibration, type CalibrationFit } from '../../shared/measure/calibration';
-import { CalibrationError } from '../../shared/measure/errors';
 import type {
-  CalibrationChecks,
   CalibrationInput,
-  CalibrationPreview,
-  CalibrationRecord,
   CreateSectionFields,
   SectionAccepted,
   SectionDetail,
@@ -36,90 +34,10 @@ import type {
 
 const store = () => fileStoreFor(ctx().config.storageDir);
 
-// ---- access ------------------------------------------------------------------
-
-async function loadSection(id: number, transaction?: Transaction): Promise<Section> {
-  const s = Number.isInteger(id) && id > 0 ? await Section.findByPk(id, { transaction }) : null;
-  if (!s) throw notFound('Section');
-  return s;
-}
-
-/** A section the actor may see; 404 for non-members so they learn nothing. */
-export async function sectionForViewer(actor: Actor, id: number): Promise<Section> {
-  const s = await loadSection(id);
-  try {
-    await projectForViewer(actor, s.projectId);
-  } catch (e) {
-    if (e instanceof AppError && e.status === 404) throw notFound('Section');
-    throw e;
-  }
-  return s;
-}
-
-/** A section the actor may change: 404 non-member, 403 member without an editing role. */
-export async function sectionForEditor(actor: Actor, id: number): Promise<Section> {
-  const s = await loadSection(id);
-  try {
-    await assertCanEdit(actor, s.projectId);
-  } catch (e) {
-    if (e instanceof AppError && e.status === 404) throw notFound('Section');
-    throw e;
-  }
-  return s;
-}
-
 // ---- shapes ------------------------------------------------------------------
 
 const userRef = (u: User | null | undefined) => (u ? { id: u.id, name: u.name } : null);
 const iso = (d: Date) => d.toISOString();
-
-function lineLength(s: Pick<Section, 'startLon' | 'startLat' | 'endLon' | 'endLat'>): number | null {
-  if (s.startLon == null || s.startLat == null || s.endLon == null || s.endLat == null) return null;
-  // turf.length: haversine great circle on a sphere of radius 6371008.8 m
-  const line = turf.lineString([
-    [s.startLon, s.startLat],
-    [s.endLon, s.endLat],
-  ]);
-  return turf.length(line, { units: 'kilometers' }) * 1000;
-}
-
-/** Line length vs the calibrated x range of the image's left and right edges (at mid-height); warn beyond 5 %. */
-export function calibrationChecks(section: Section, fit: CalibrationFit | null): CalibrationChecks {
-  const lineLengthM = lineLength(section);
-  let calibratedXRangeM: number | null = null;
-  if (fit) {
-    const mid = section.height / 2;
-    calibratedXRangeM = Math.abs(applyCalibration(fit.affine, [section.width, mid])[0] - applyCalibration(fit.affine, [0, mid])[0]);
-  }
-  let lengthMismatch: CalibrationChecks['lengthMismatch'] = null;
-  if (lineLengthM != null && calibratedXRangeM != null && lineLengthM > 0) {
-    const relativeDifference = Math.abs(calibratedXRangeM - lineLengthM) / lineLengthM;
-    if (relativeDifference > 0.05) {
-      lengthMismatch = {
-        lineLengthM,
-        calibratedXRangeM,
-        relativeDifference,
-        message: `The calibrated width of the image (${Math.round(calibratedXRangeM)} m) differs by ${(relativeDifference * 100).toFixed(1)} % from the line length given by its end coordinates (${Math.round(lineLengthM)} m)`,
-      };
-    }
-  }
-  return { lineLengthM, calibratedXRangeM, lengthMismatch };
-}
-
-function calibrationRecord(section: Section, c: SectionCalibration): CalibrationRecord {
-  const fit = c.fit as CalibrationFit;
-  return {
-    id: c.id,
-    sectionId: c.sectionId,
-    version: c.version,
-    mode: fit.mode,
-    ties: c.ties,
-    fit,
-    createdAt: iso(c.createdAt),
-    createdBy: userRef(c.author),
-    ...calibrationChecks(section, fit),
-  };
-}
 
 function fileUrl(s: Section, name: 'thumbnail' | 'preview') {
   return s.status === 'ready' ? `/api/sections/${s.id}/${name}` : null;
@@ -147,15 +65,6 @@ function summary(s: Section, calibrationVersion: number | null): SectionSummary 
   };
 }
 
-async function latestCalibration(sectionId: number, transaction?: Transaction) {
-  return SectionCalibration.findOne({
-    where: { sectionId },
-    order: [['version', 'DESC']],
-    include: [{ model: User, as: 'author', attributes: ['id', 'name'] }],
-    transaction,
-  });
-}
-
 export async function sectionDetail(actor: Actor, id: number): Promise<SectionDetail> {
   await sectionForViewer(actor, id);
   const s = (await Section.findByPk(id, { include: [{ model: User, as: 'uploadedBy', attributes: ['id', 'name'] }] }))!;
@@ -171,6 +80,7 @@ export async function sectionDetail(actor: Actor, id: number): Promise<SectionDe
     endLat: s.endLat ?? null,
     sourceFormat: s.sourceFormat,
     sourceBytes: s.sourceBytes,
+    segy: s.sourceKind === 'segy' ? { uploadId: s.segyUploadId!, selection: s.segySelection ?? null, render: s.renderSettings ?? null } : null,
     previewUrl: fileUrl(s, 'preview'),
     tiles: p ? tilesDescriptor(s.id, s.width, s.height, p.tileSize, p.overlap) : null,
     calibration: cal ? calibrationRecord(s, cal) : null,
@@ -205,16 +115,7 @@ export async function listSections(
     limit: q.pageSize,
     offset: (q.page - 1) * q.pageSize,
   });
-  const versions = new Map<number, number>();
-  if (rows.length) {
-    const vs = (await SectionCalibration.findAll({
-      attributes: ['sectionId', [ctx().sequelize.fn('max', ctx().sequelize.col('version')), 'latest']],
-      where: { sectionId: rows.map((r) => r.id) },
-      group: ['sectionId'],
-      raw: true,
-    })) as unknown as { sectionId: number; latest: number }[];
-    for (const v of vs) versions.set(v.sectionId, Number(v.latest));
-  }
+  const versions = await latestCalibrationVersions(rows.map((r) => r.id));
   return { items: rows.map((s) => summary(s, versions.get(s.id) ?? null)), total: count, page: q.page, pageSize: q.pageSize };
 }
 
@@ -277,7 +178,7 @@ export async function storeNewSection(
         { transaction },
       );
       await store().importFile(filePath, keys.original);
-      if (opts.ties) await seedCalibration(s.id, userId, opts.ties, transaction);
+      if (opts.ties) await createCalibrationVersion(s.id, userId, { ties: opts.ties }, { transaction });
       await queuePyramid(s, transaction);
       const details = { projectId, title: s.title, format: info.format, width: info.width, height: info.height };
       await audit(userId, 'section.upload', 'section', s.id, details, transaction);
@@ -363,6 +264,7 @@ export async function deleteSection(actor: Actor, id: number) {
   });
   await store().removePrefix(sectionKeys(s.storageKey).root);
   await store().removeScratch(buildScratchPrefix(s.storageKey));
+  await afterSegySectionDeleted(s); // a 2D SEG-Y upload no section uses any more goes too
 }
 
 // ---- files ----------------------------------------------------------------------------------
@@ -391,68 +293,3 @@ export async function openImage(actor: Actor, id: number, which: 'preview' | 'th
   if (!obj) throw notFound('Image');
   return obj;
 }
-
-// ---- calibration -------------------------------------------------------------------------------
-
-/** Fit with the shared engine; its refusals become 400 naming `ties` (or `mode`). */
-function fit(input: CalibrationInput): CalibrationFit {
-  try {
-    return fitCalibration(input.ties, input.mode ?? 'affine');
-  } catch (e) {
-    if (e instanceof CalibrationError) {
-      const detail = e.message.startsWith(`${e.path}: `) ? e.message.slice(e.path.length + 2) : e.message;
-      const p = e.path === 'calibration.mode' ? 'mode' : e.path.replace(/^calibration/, 'ties');
-      throw new AppError(400, 'validation_failed', `${p}: ${detail}`, [{ path: p, message: detail }]);
-    }
-    throw e;
-  }
-}
-
-export async function previewCalibration(actor: Actor, id: number, input: CalibrationInput): Promise<CalibrationPreview> {
-  const s = await sectionForEditor(actor, id);
-  const f = fit(input);
-  return { fit: f, ...calibrationChecks(s, f) };
-}
-
-/** Store a new calibration version (older ones are kept). */
-export async function saveCalibration(actor: Actor, id: number, input: CalibrationInput): Promise<CalibrationRecord> {
-  await sectionForEditor(actor, id);
-  const f = fit(input);
-  const created = await ctx().sequelize.transaction(async (transaction) => {
-    const s = (await Section.findByPk(id, { transaction, lock: transaction.LOCK.UPDATE }))!;
-    const latest = (await SectionCalibration.max('version', { where: { sectionId: id }, transaction })) as number | null;
-    const current = latest ?? 0;
-    if (input.baseVersion !== undefined && input.baseVersion !== current) {
-      throw new AppError(409, 'version_conflict', `The calibration changed meanwhile (now version ${current}, you started from ${input.baseVersion})`, {
-        currentVersion: current,
-      });
-    }
-    const c = await SectionCalibration.create(
-      { sectionId: s.id, version: current + 1, ties: input.ties, fit: f, createdBy: actor.id },
-      { transaction },
-    );
-    await audit(actor.id, 'section.calibrate', 'section', id, { version: c.version, rmsPx: f.rmsPx }, transaction);
-    return c;
-  });
-  const s = await loadSection(id);
-  const c = (await SectionCalibration.findByPk(created.id, { include: [{ model: User, as: 'author', attributes: ['id', 'name'] }] }))!;
-  return calibrationRecord(s, c);
-}
-
-export async function listCalibrations(actor: Actor, id: number): Promise<CalibrationRecord[]> {
-  const s = await sectionForViewer(actor, id);
-  const cs = await SectionCalibration.findAll({
-    where: { sectionId: id },
-    order: [['version', 'DESC']],
-    include: [{ model: User, as: 'author', attributes: ['id', 'name'] }],
-  });
-  return cs.map((c) => calibrationRecord(s, c));
-}
-
-/** For the demo seeder: store ties as a calibration version directly (no HTTP). */
-export async function seedCalibration(sectionId: number, userId: number, ties: CalibrationInput['ties'], transaction?: Transaction) {
-  const f = fit({ ties });
-  const latest = ((await SectionCalibration.max('version', { where: { sectionId }, transaction })) as number | null) ?? 0;
-  return SectionCalibration.create({ sectionId, version: latest + 1, ties, fit: f, createdBy: userId }, { transaction });
-}
-

@@ -1,6 +1,6 @@
 import { Op, UniqueConstraintError } from 'sequelize';
 import { User } from '../models/index';
-import { AppError, notFound } from '../middlewares/errors';
+import { AppError, notFound } from '../errors';
 import { hashPassword, revokeAllSessions } from './auth.service';
 import { audit } from './audit.service';
 import { createAccountLink, invitationMail, unusablePasswordHash } from './account.service';

@@ -4,6 +4,7 @@
  */
 import { z } from 'zod';
 import { LENGTH_UNITS } from '../units';
+import { idParamSchema } from './ids';
 import { PAPERS, STRETCH_MAX, STRETCH_MIN } from '../report/report';
 
 export const EXPORT_FORMATS = ['csv', 'json', 'geojson', 'png', 'svg', 'pdf'] as const;
@@ -21,7 +22,7 @@ export const exportQuerySchema = reportQuerySchema.extend({
   bom: z.enum(['0', '1', 'true', 'false']).optional(),
 });
 
-export const exportParamsSchema = z.object({ id: z.coerce.number().int().positive(), format: z.enum(EXPORT_FORMATS) });
+export const exportParamsSchema = z.object({ id: idParamSchema, format: z.enum(EXPORT_FORMATS) });
 
 /** `POST /buildups/:id/report/pdf` */
 export const requestReportSchema = z.object({ paper: paper.optional(), unit: unit.optional(), stretch: stretch.optional() });
