@@ -35,9 +35,8 @@ import {
   type JobQueue,
   type PyramidJobData,
 } from './queue';
-import { startSummaryJobs } from './summary.job';
 import { Liveness, deadJobReason, jobTimings, type JobTimings, type WorkerRow } from './liveness';
-import { recoverReports, startReportJobs } from './report.job';
+import { JOB_REGISTRATIONS, type JobHooks } from './registry';
 
 /** Keys of a section's files in the file store. */
 export const sectionKeys = (storageKey: string) => ({
@@ -270,7 +269,7 @@ export async function recoverSections(boss: PgBoss): Promise<{ requeued: number[
  */
 export async function sweepScratch(now = Date.now()) {
   const { store, liveness } = deps!;
-  const entries = await store.list('tmp');
+  const entries = await store.listScratch(); // this machine's own disk, whichever driver keeps the files
   const owners = await liveness.workers(entries.flatMap((e) => scratchOwnerOf(e.name) ?? []));
   for (const e of entries) {
     const owner = scratchOwnerOf(e.name);
@@ -311,18 +310,21 @@ export async function startBackgroundJobs(opts: { databaseUrl: string; config: C
   deps = mine;
   let timer: NodeJS.Timeout | null = null;
   let queue: JobQueue;
-  let reports: { stop(): void } | null = null;
+  const hooks: JobHooks[] = [];
   try {
     queue = await startJobs({
       ...opts,
       handlers: { pyramid: runPyramidJob },
       onReady: async (boss) => {
         queueRef = boss;
-        await startSummaryJobs(boss, opts.config); // register summaries (summary.job.ts)
         await sweepLeftovers();
         await recoverSections(boss);
-        // buildup reports (report.job.ts) share the queue, the liveness and the sweep
-        reports = await startReportJobs({ boss, config: opts.config, sequelize: opts.sequelize, store, liveness, timings, stopping: () => mine.stopping });
+        // every other kind of job (registry.ts) shares the queue, the liveness and the sweep
+        const ctx = { boss, config: opts.config, sequelize: opts.sequelize, store, liveness, timings, stopping: () => mine.stopping };
+        for (const r of JOB_REGISTRATIONS) {
+          const h = await r.start(ctx);
+          if (h) hooks.push(h);
+        }
       },
     });
   } catch (err) {
@@ -335,7 +337,7 @@ export async function startBackgroundJobs(opts: { databaseUrl: string; config: C
     checking = true;
     (async () => {
       await recoverSections(queue.boss);
-      await recoverReports();
+      for (const h of hooks) await h.check?.();
       await sweepScratch();
       await liveness.prune();
     })()
@@ -349,7 +351,7 @@ export async function startBackgroundJobs(opts: { databaseUrl: string; config: C
       if (timer) clearInterval(timer);
       mine.stopping = true; // running builds stop at their next progress report and give their section back
       await queue.stop();
-      reports?.stop();
+      for (const h of hooks) await h.stop?.();
       await liveness.stop();
       if (deps === mine) {
         store.setScratchOwner(null);
