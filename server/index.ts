@@ -12,7 +12,6 @@ import { createApp } from './app';
 import { createMailer } from './mail/mailer';
 import { startMailSink, type MailSink } from './mail/sink';
 import { importSinkBacklog, onSinkMessage } from './mail/outbox';
-import { startDigestJob } from './jobs/digest.job';
 import { mailSettled } from './services/notify.service';
 import { logger } from './logger';
 import { startBackgroundJobs } from './jobs/pyramid.job';
@@ -53,7 +52,6 @@ export async function boot(opts: BootOptions): Promise<Running> {
   const app = createApp({ config, sequelize, mailer });
   if (sink) await importSinkBacklog(sink.dir);
   const jobs = await startBackgroundJobs({ databaseUrl: opts.databaseUrl, config, sequelize });
-  await startDigestJob(jobs.boss, config);
   if (opts.afterMigrate) await opts.afterMigrate({ sequelize, config });
 
   let server: Server | null = null;

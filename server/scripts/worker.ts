@@ -1,10 +1,13 @@
 /**
- * A background worker process without HTTP: `DATABASE_URL=… tsx server/scripts/worker.ts`.
- * Builds section tile pyramids, reports, register summaries and the daily
- * notification digest from the shared pg-boss queue; run several
- * next to web processes started with CAYLINE_JOB_WORKERS=0. Needs the same
- * storage folder (CAYLINE_STORAGE) as the web processes while the file store
- * is local disk.
+ * A background worker process without HTTP: `DATABASE_URL=… npm run worker`.
+ * Works every queue: section tile pyramids, then each entry of
+ * JOB_REGISTRATIONS (server/jobs/registry.ts: register summaries and report
+ * batches, buildup reports, the daily notification digest, …) from the shared
+ * pg-boss queue; run several next to web processes started with
+ * CAYLINE_JOB_WORKERS=0. It needs the same file store as the web processes:
+ * the same bucket (CAYLINE_STORE=s3, server/storage/fileStore.ts) or, with the
+ * local driver, the same storage folder (CAYLINE_STORAGE). Its scratch stays on
+ * its own disk (`<CAYLINE_STORAGE>/tmp`).
  *
  * It registers in `job_workers` and refreshes its heartbeat every 10 s; should
  * it die (even by SIGKILL), the build it owned is resumed by any other Cayline
@@ -18,7 +21,6 @@ import { createSequelize } from '../db/sequelize';
 import { migrate } from '../db/migrate';
 import { initModels } from '../models/index';
 import { startBackgroundJobs } from '../jobs/pyramid.job';
-import { startDigestJob } from '../jobs/digest.job';
 import { logger } from '../logger';
 import { setContext } from '../context';
 import { createMailer } from '../mail/mailer';
@@ -35,7 +37,6 @@ async function main() {
   // the services jobs call (register summaries, reports) read the database and config from the app context
   setContext({ config, sequelize, mailer: createMailer({ host: process.env.SMTP_HOST ?? config.mail.host, port: config.mail.port, from: config.mail.from }) });
   const jobs = await startBackgroundJobs({ databaseUrl, config, sequelize });
-  await startDigestJob(jobs.boss, config); // the daily digest also runs where every web process has CAYLINE_JOB_WORKERS=0
   logger.info({ storage: config.storageDir }, 'Cayline worker up');
   const stop = async () => {
     await jobs.stop();

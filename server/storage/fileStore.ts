@@ -1,47 +1,77 @@
 /**
- * The file store: every runtime file (section originals, tile pyramids) goes
- * through this small interface, keyed by `/`-separated keys such as
+ * The file store: every runtime file (section originals, tile pyramids,
+ * reports, report batches, analogue crops, kept mail) goes through this small
+ * interface, keyed by `/`-separated keys such as
  * `sections/<storageKey>/pyramid/tiles/3/0_1.jpg`. Keys are built by the
  * server from database values and integers only; `assertKey` refuses
  * anything else, so no client string reaches a path.
  *
- * The local-disk driver keeps files under `<storageDir>/`; a driver that
- * speaks the S3 API could implement the same interface later (import a local
- * folder = upload every file then write a marker; remove a prefix = list and
- * delete).
+ * Two drivers, chosen by settings (`storeSettingsFromEnv`):
+ * - `local` (default): files under `<storageDir>/`;
+ * - `s3`: an S3-compatible bucket through the AWS SDK (server/storage/s3Store.ts),
+ *   so several machines share one store.
+ * Scratch (uploads in progress, builds, copies for sharp) is always on this
+ * machine's disk under `<storageDir>/tmp` (server/storage/scratch.ts).
  */
 import fs from 'node:fs';
 import fsp from 'node:fs/promises';
 import path from 'node:path';
-import crypto from 'node:crypto';
+import { pipeline } from 'node:stream/promises';
 import type { Readable } from 'node:stream';
+import { ScratchArea, assertKey, filesBelow, moveFile, randomName, SEGMENT } from './scratch';
+import { S3FileStore, type S3Settings } from './s3Store';
+
+export { assertKey, randomName, SCRATCH_OWNER, scratchOwnerOf, removeTree, moveFile } from './scratch';
 
 export interface StoredObject {
   stream: Readable;
+  /** Bytes in `stream` (the range's length for a ranged read). */
   size: number;
 }
 
+/** A byte range, both ends inclusive (as HTTP Range and fs.createReadStream take it). */
+export interface ByteRange {
+  start: number;
+  end: number;
+}
+
 export interface FileStore {
-  /** Write bytes under a key (replacing any). */
-  put(key: string, data: Buffer): Promise<void>;
-  /** Move a local file into the store under a key. */
+  readonly driver: 'local' | 's3';
+  /**
+   * Write bytes under a key (replacing any), atomically: readers see the old
+   * object or the new one, never part of it. `private` (kept mail): the local
+   * driver writes the file 0600 in 0700 folders; a bucket is private anyway.
+   */
+  put(key: string, data: Buffer, opts?: { private?: boolean }): Promise<void>;
+  /** Write a stream under a key (multipart to S3), atomically; a failed write leaves nothing. */
+  putStream(key: string, stream: Readable): Promise<void>;
+  /** Move a local file into the store under a key (the local file is gone afterwards). */
   importFile(localPath: string, key: string): Promise<void>;
   /**
-   * Move a whole local folder into the store under a prefix, atomically: the
-   * prefix either does not exist or holds the complete folder. Fails if the
-   * prefix already exists.
+   * Move a whole local folder into the store under a prefix. Fails if the
+   * prefix already exists. Local driver: one rename, so the prefix either does
+   * not exist or holds the complete folder. S3 driver: every file is uploaded,
+   * and a failed upload removes what it wrote; readers must not rely on the
+   * prefix before the database row that names it says so (every caller
+   * publishes in the transaction that marks the row ready).
    */
   importDir(localDir: string, prefix: string): Promise<void>;
-  /** A readable stream of a stored object, or null when missing. */
-  get(key: string): Promise<StoredObject | null>;
+  /** A readable stream of a stored object (or of a byte range of it), or null when missing. */
+  get(key: string, range?: ByteRange): Promise<StoredObject | null>;
+  /** An object or a prefix with something below it exists. */
   exists(key: string): Promise<boolean>;
   /** Remove a key and everything below it (no error when missing). */
   removePrefix(prefix: string): Promise<void>;
-  /** Top-level entries below a prefix (names only) with their last change time. */
+  /**
+   * Top-level entries below a prefix (names only) with their last change time
+   * (local: the entry's mtime; S3: the newest object below the entry).
+   */
   list(prefix: string): Promise<{ name: string; modifiedAt: Date }[]>;
+  /** Every object below a prefix, recursively (backups). */
+  listKeys(prefix: string): AsyncIterable<{ key: string; size: number; modifiedAt: Date }>;
   /**
    * A local path to read a stored object from (sharp needs a file). The local
-   * driver returns the object itself; a remote driver would download a copy.
+   * driver returns the object itself; the S3 driver downloads a copy into scratch.
    */
   localCopy(key: string): Promise<{ path: string; release(): Promise<void> }>;
   /**
@@ -52,6 +82,8 @@ export interface FileStore {
   scratchDir(prefix: string): Promise<string>;
   /** Remove every scratch folder made with `prefix` (any owner). */
   removeScratch(prefix: string): Promise<void>;
+  /** The entries of the local scratch area with their mtime (for sweeping leftovers). */
+  listScratch(): Promise<{ name: string; modifiedAt: Date }[]>;
   /**
    * Tag this process's scratch folders with its job_workers id, so that a boot
    * sweep can tell a dead process's leftovers from a live one's work.
@@ -61,49 +93,42 @@ export interface FileStore {
   readonly scratchRoot: string;
 }
 
-const SEGMENT = /^[A-Za-z0-9][A-Za-z0-9._-]{0,127}$/;
-
-/** A key is 1–12 segments of letters, digits, `.`, `_`, `-`, never starting with a dot. */
-export function assertKey(key: string): string[] {
-  const parts = key.split('/');
-  if (parts.length < 1 || parts.length > 12 || !parts.every((p) => SEGMENT.test(p) && !p.includes('..'))) {
-    throw new Error(`file store: refused key ${JSON.stringify(key)}`);
-  }
-  return parts;
-}
-
-export function randomName(bytes = 16): string {
-  return crypto.randomBytes(bytes).toString('hex');
-}
-
-/** A scratch owner tag: `w` and 16 hex digits (a job_workers id). */
-export const SCRATCH_OWNER = /^w[0-9a-f]{16}$/;
-
-/** The owner tag in a scratch folder's name (`<prefix>-<owner>-<random>`), or null for an untagged one. */
-export function scratchOwnerOf(name: string): string | null {
-  const parts = name.split('-');
-  const owner = parts.length >= 3 ? parts[parts.length - 2] : '';
-  return SCRATCH_OWNER.test(owner) ? owner : null;
-}
-
-export class LocalFileStore implements FileStore {
-  readonly scratchRoot: string;
-  private scratchOwner: string | null = null;
+export class LocalFileStore extends ScratchArea implements FileStore {
+  readonly driver = 'local' as const;
 
   constructor(private readonly root: string) {
-    this.scratchRoot = path.join(root, 'tmp');
+    super(root);
   }
 
   private abs(key: string): string {
     return path.join(this.root, ...assertKey(key));
   }
 
-  async put(key: string, data: Buffer) {
+  async put(key: string, data: Buffer, opts: { private?: boolean } = {}) {
+    const p = this.abs(key);
+    await fsp.mkdir(path.dirname(p), { recursive: true, mode: opts.private ? 0o700 : undefined });
+    const tmp = `${p}.${randomName(6)}.part`;
+    try {
+      // 'wx': never reuse or follow an existing file; a private file's mode is set at creation
+      await fsp.writeFile(tmp, data, { mode: opts.private ? 0o600 : undefined, flag: 'wx' });
+      await fsp.rename(tmp, p);
+    } catch (e) {
+      await fsp.rm(tmp, { force: true });
+      throw e;
+    }
+  }
+
+  async putStream(key: string, stream: Readable) {
     const p = this.abs(key);
     await fsp.mkdir(path.dirname(p), { recursive: true });
     const tmp = `${p}.${randomName(6)}.part`;
-    await fsp.writeFile(tmp, data);
-    await fsp.rename(tmp, p);
+    try {
+      await pipeline(stream, fs.createWriteStream(tmp, { flags: 'wx' }));
+      await fsp.rename(tmp, p);
+    } catch (e) {
+      await fsp.rm(tmp, { force: true });
+      throw e;
+    }
   }
 
   async importFile(localPath: string, key: string) {
@@ -121,12 +146,15 @@ export class LocalFileStore implements FileStore {
     await fsp.rename(localDir, p);
   }
 
-  async get(key: string): Promise<StoredObject | null> {
+  async get(key: string, range?: ByteRange): Promise<StoredObject | null> {
     const p = this.abs(key);
     try {
       const st = await fsp.stat(p);
       if (!st.isFile()) return null;
-      return { stream: fs.createReadStream(p), size: st.size };
+      if (!range) return { stream: fs.createReadStream(p), size: st.size };
+      const end = Math.min(range.end, st.size - 1);
+      if (range.start > end) return { stream: fs.createReadStream(p, { start: 0, end: -1 }), size: 0 };
+      return { stream: fs.createReadStream(p, { start: range.start, end }), size: end - range.start + 1 };
     } catch (e) {
       if ((e as NodeJS.ErrnoException).code === 'ENOENT') return null;
       throw e;
@@ -147,11 +175,12 @@ export class LocalFileStore implements FileStore {
     try {
       names = await fsp.readdir(dir);
     } catch (e) {
-      if ((e as NodeJS.ErrnoException).code === 'ENOENT') return [];
+      if ((e as NodeJS.ErrnoException).code === 'ENOENT' || (e as NodeJS.ErrnoException).code === 'ENOTDIR') return [];
       throw e;
     }
     const out: { name: string; modifiedAt: Date }[] = [];
     for (const name of names) {
+      if (!SEGMENT.test(name) || name.endsWith('.part')) continue; // writes in progress
       try {
         out.push({ name, modifiedAt: (await fsp.stat(path.join(dir, name))).mtime });
       } catch {
@@ -161,59 +190,77 @@ export class LocalFileStore implements FileStore {
     return out;
   }
 
+  async *listKeys(prefix: string) {
+    const dir = this.abs(prefix);
+    const st = await fsp.stat(dir).catch(() => null);
+    if (!st) return;
+    const rels = st.isFile() ? [''] : await filesBelow(dir);
+    for (const rel of rels.sort()) {
+      if (rel.split('/').some((s) => !SEGMENT.test(s)) && rel !== '') continue;
+      if (rel.endsWith('.part')) continue; // writes in progress
+      const key = rel ? `${prefix}/${rel}` : prefix;
+      const s = await fsp.stat(this.abs(key)).catch(() => null);
+      if (s?.isFile()) yield { key, size: s.size, modifiedAt: s.mtime };
+    }
+  }
+
   async localCopy(key: string) {
     return { path: this.abs(key), release: async () => {} };
   }
-
-  setScratchOwner(owner: string | null) {
-    if (owner !== null && !SCRATCH_OWNER.test(owner)) throw new Error(`file store: refused scratch owner ${JSON.stringify(owner)}`);
-    this.scratchOwner = owner;
-  }
-
-  async scratchDir(prefix: string) {
-    if (!SEGMENT.test(prefix)) throw new Error(`file store: refused scratch prefix ${JSON.stringify(prefix)}`);
-    await fsp.mkdir(this.scratchRoot, { recursive: true });
-    const name = this.scratchOwner ? `${prefix}-${this.scratchOwner}-${randomName(8)}` : `${prefix}-${randomName(8)}`;
-    const dir = path.join(this.scratchRoot, name);
-    await fsp.mkdir(dir);
-    return dir;
-  }
-
-  async removeScratch(prefix: string) {
-    if (!SEGMENT.test(prefix)) throw new Error(`file store: refused scratch prefix ${JSON.stringify(prefix)}`);
-    for (const e of await fsp.readdir(this.scratchRoot).catch(() => [] as string[])) {
-      if (e.startsWith(`${prefix}-`)) await removeTree(path.join(this.scratchRoot, e));
-    }
-  }
 }
+
+export type StoreSettings = { driver: 'local' } | ({ driver: 's3' } & S3Settings);
 
 /**
- * `rm -r` that tolerates a writer still finishing inside the folder (a tile
- * encode of a build that is stopping): ENOTEMPTY/EBUSY are retried.
+ * The store's driver from the environment:
+ * CAYLINE_STORE (`local` | `s3`, default local); for s3 CAYLINE_S3_BUCKET
+ * (required), CAYLINE_S3_REGION (default us-east-1), CAYLINE_S3_ENDPOINT (for
+ * S3-compatible services), CAYLINE_S3_FORCE_PATH_STYLE (`true`/`false`;
+ * default true when an endpoint is set), CAYLINE_S3_ACCESS_KEY_ID and
+ * CAYLINE_S3_SECRET_ACCESS_KEY (else the SDK's default credential chain),
+ * CAYLINE_S3_PREFIX (keys below this folder of the bucket).
  */
-export async function removeTree(dir: string) {
-  await fsp.rm(dir, { recursive: true, force: true, maxRetries: 10, retryDelay: 100 });
+export function storeSettingsFromEnv(env: NodeJS.ProcessEnv = process.env): StoreSettings {
+  const driver = (env.CAYLINE_STORE ?? '').trim() || 'local';
+  if (driver === 'local') return { driver: 'local' };
+  if (driver !== 's3') throw new Error(`CAYLINE_STORE: "local" or "s3", got "${driver}"`);
+  const bucket = (env.CAYLINE_S3_BUCKET ?? '').trim();
+  if (!bucket) throw new Error('CAYLINE_S3_BUCKET: the bucket name is required when CAYLINE_STORE=s3');
+  const endpoint = (env.CAYLINE_S3_ENDPOINT ?? '').trim() || undefined;
+  if (endpoint && !/^https?:\/\/[^\s/]+/.test(endpoint)) throw new Error(`CAYLINE_S3_ENDPOINT: an http(s) URL, got "${endpoint}"`);
+  const fps = (env.CAYLINE_S3_FORCE_PATH_STYLE ?? '').trim();
+  if (fps && fps !== 'true' && fps !== 'false') throw new Error(`CAYLINE_S3_FORCE_PATH_STYLE: "true" or "false", got "${fps}"`);
+  const accessKeyId = (env.CAYLINE_S3_ACCESS_KEY_ID ?? '').trim();
+  const secretAccessKey = (env.CAYLINE_S3_SECRET_ACCESS_KEY ?? '').trim();
+  if (!accessKeyId !== !secretAccessKey) throw new Error('CAYLINE_S3_ACCESS_KEY_ID and CAYLINE_S3_SECRET_ACCESS_KEY: set both or neither');
+  const prefix = (env.CAYLINE_S3_PREFIX ?? '').trim().replace(/^\/+|\/+$/g, '');
+  if (prefix) assertKey(prefix);
+  return {
+    driver: 's3',
+    bucket,
+    region: (env.CAYLINE_S3_REGION ?? '').trim() || 'us-east-1',
+    endpoint,
+    forcePathStyle: fps ? fps === 'true' : Boolean(endpoint),
+    credentials: accessKeyId ? { accessKeyId, secretAccessKey } : undefined,
+    prefix,
+  };
 }
 
-/** rename, falling back to copy + unlink across file systems. */
-export async function moveFile(from: string, to: string) {
-  try {
-    await fsp.rename(from, to);
-  } catch (e) {
-    if ((e as NodeJS.ErrnoException).code !== 'EXDEV') throw e;
-    await fsp.copyFile(from, to);
-    await fsp.unlink(from);
-  }
+/** A store for a storage folder (scratch, local files) with the given driver settings. */
+export function createFileStore(storageDir: string, settings: StoreSettings): FileStore {
+  return settings.driver === 's3' ? new S3FileStore(storageDir, settings) : new LocalFileStore(storageDir);
 }
 
 let store: FileStore | null = null;
-let storeRoot: string | null = null;
+let storeId: string | null = null;
 
-/** The process's file store for a storage folder (one local driver per folder). */
+/** The process's file store for a storage folder, with the driver the environment names (one store per folder and settings). */
 export function fileStoreFor(storageDir: string): FileStore {
-  if (!store || storeRoot !== storageDir) {
-    store = new LocalFileStore(storageDir);
-    storeRoot = storageDir;
+  const settings = storeSettingsFromEnv();
+  const id = JSON.stringify([storageDir, settings]);
+  if (!store || storeId !== id) {
+    store = createFileStore(storageDir, settings);
+    storeId = id;
   }
   return store;
 }
