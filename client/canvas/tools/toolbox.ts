@@ -24,6 +24,9 @@ export const TOOL_KEYS: Readonly<Record<ToolId, string>> = Object.freeze({
 /** Key of the Note pin mode (outside the Toolbox: placing a pin changes no geometry, so every member may). */
 export const NOTE_PIN_KEY = 'k';
 
+/** Key that opens and closes the forward Model drawer (client/components/model/ModelDrawer.vue). */
+export const MODEL_KEY = 'm';
+
 export const TOOL_LABEL: Readonly<Record<ToolId, string>> = Object.freeze({
   select: 'Select',
   edit: 'Edit vertices',
@@ -97,6 +100,7 @@ export const SHORTCUT_GROUPS: readonly ShortcutGroup[] = Object.freeze([
       { keys: ['Ctrl+Z'], what: 'Undo' },
       { keys: ['Ctrl+Shift+Z', 'Ctrl+Y'], what: 'Redo' },
       { keys: ['K'], what: 'Place a Note pin (click an object or a point; Esc cancels)' },
+      { keys: ['M'], what: 'Open or close the forward Model of the selected buildup' },
       { keys: ['?'], what: 'Show or hide this list' },
       { keys: ['Space+Drag', 'Middle drag'], what: 'Pan' },
       { keys: ['Wheel', '+', '−'], what: 'Zoom' },

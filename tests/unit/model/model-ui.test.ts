@@ -15,6 +15,7 @@ import { runForwardModel, runToInterpretation, forwardModelParamsSchema, drownin
 import { createDepthConverter, measure } from '../../../shared/measure/index';
 import type { MeasureContext } from '../../../shared/editor/model';
 import { modelRunSummarySchema } from '../../../shared/schemas/model-runs';
+import { MODEL_KEY, NOTE_PIN_KEY, SHORTCUT_GROUPS, TOOL_KEYS } from '../../../client/canvas/tools/toolbox';
 
 type Pt = [number, number];
 /** A knoll 6 km wide, crest at 1960 m, flanks at 2050 m (present depth). */
@@ -230,5 +231,12 @@ describe('side by side, summary and sweep plot', () => {
     expect(marks.find((m) => m.xAxis !== undefined)!.xAxis).toBe(t.value);
     expect(o.series[0].data).toHaveLength(t.points.length);
     expect(o.yAxis.inverse).toBe(true);
+  });
+});
+
+describe('the Model key', () => {
+  it('is a key of its own (no tool, Note pin or stage key) and is listed in the help', () => {
+    expect([...Object.values(TOOL_KEYS), NOTE_PIN_KEY, 'f', '0', '+', '-', '?']).not.toContain(MODEL_KEY);
+    expect(SHORTCUT_GROUPS.flatMap((g) => g.entries.flatMap((e) => e.keys))).toContain(MODEL_KEY.toUpperCase());
   });
 });
