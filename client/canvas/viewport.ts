@@ -262,9 +262,31 @@ export function wheelPixels(deltaY: number, deltaMode: number): number {
   return deltaY;
 }
 
-/** Zoom factor for a wheel delta in pixels: one 100 px notch ≈ ×1.25, trackpads get fine steps. */
-export function wheelZoomFactor(deltaPixels: number): number {
-  return Math.exp(-clamp(deltaPixels, -600, 600) * 0.00223);
+/** Zoom of one mouse-wheel notch (Cayline's choice: a gentle step, about 7 notches per doubling). */
+export const WHEEL_NOTCH_FACTOR = 1.15;
+/** Wheel deltas of at least this many pixels are one notch of a mouse wheel (browsers report 50–250 px per notch). */
+export const WHEEL_NOTCH_PX = 50;
+/** Trackpad pinch (ctrl + wheel): zoom factor exp(−delta · rate) per event (common practice for pinch deltas). */
+export const PINCH_RATE = 0.01;
+
+/**
+ * Zoom factor of one wheel event whose delta is `deltaPixels` (see
+ * wheelPixels; negative = away from the user = zoom in).
+ *
+ * - A mouse notch (|delta| ≥ WHEEL_NOTCH_PX, whatever size the browser and
+ *   system report: 53, 100, 120, 240 px…) is exactly one step of
+ *   WHEEL_NOTCH_FACTOR, so six notches never take the view further than
+ *   1.15⁶ ≈ ×2.3.
+ * - Smaller deltas (trackpad two-finger scrolling) zoom in proportion, at the
+ *   same rate per pixel, so a notch's worth of scrolling is one notch.
+ * - `pinch` (ctrl + wheel, how browsers deliver a trackpad pinch): exp(−delta ·
+ *   PINCH_RATE), at most ×1.65 per event.
+ */
+export function wheelZoomFactor(deltaPixels: number, pinch = false): number {
+  if (!deltaPixels || !Number.isFinite(deltaPixels)) return 1;
+  if (pinch) return Math.exp(-clamp(deltaPixels, -50, 50) * PINCH_RATE);
+  const steps = Math.min(1, Math.abs(deltaPixels) / WHEEL_NOTCH_PX);
+  return WHEEL_NOTCH_FACTOR ** (deltaPixels < 0 ? steps : -steps);
 }
 
 export interface ViewportOptions {

@@ -14,6 +14,7 @@ import {
   useViewport,
   visibleRect,
   visibleTileRange,
+  wheelPixels,
   wheelZoomFactor,
   zoomAround,
   type Pyramid,
@@ -72,6 +73,42 @@ describe('zoomAround', () => {
     expect(wheelZoomFactor(-100)).toBeGreaterThan(1);
     expect(wheelZoomFactor(100)).toBeLessThan(1);
     expect(wheelZoomFactor(-100) * wheelZoomFactor(100)).toBeCloseTo(1, 12);
+  });
+
+  it('one wheel notch is a gentle step (×1.1–1.2) whatever delta the browser reports for it', () => {
+    // notch sizes seen from browsers: 3 lines, 53 px, 100 px, 120 px, 240 px, one page
+    for (const px of [wheelPixels(3, 1), 53, 100, 120, 240, wheelPixels(1, 2)]) {
+      expect(wheelZoomFactor(-px)).toBeGreaterThanOrEqual(1.1);
+      expect(wheelZoomFactor(-px)).toBeLessThanOrEqual(1.2);
+      expect(1 / wheelZoomFactor(px)).toBeGreaterThanOrEqual(1.1);
+      expect(1 / wheelZoomFactor(px)).toBeLessThanOrEqual(1.2);
+    }
+    // six notches from 14 % stay far from 1,600 % (they reached it before)
+    let scale = 0.14;
+    for (let i = 0; i < 6; i++) scale *= wheelZoomFactor(-240);
+    expect(scale).toBeLessThan(0.14 * 1.2 ** 6);
+    expect(scale).toBeGreaterThan(0.14 * 1.1 ** 6);
+  });
+
+  it('trackpad scrolling zooms in proportion: a notch worth of pixels makes one notch', () => {
+    let f = 1;
+    for (let i = 0; i < 10; i++) f *= wheelZoomFactor(-5);
+    expect(f).toBeCloseTo(wheelZoomFactor(-100), 9);
+    expect(wheelZoomFactor(0)).toBe(1);
+  });
+
+  it('a trackpad pinch (ctrl + wheel) zooms with the fingers and keeps the point under the cursor fixed', () => {
+    expect(wheelZoomFactor(-10, true)).toBeCloseTo(Math.exp(0.1), 12);
+    expect(wheelZoomFactor(10, true) * wheelZoomFactor(-10, true)).toBeCloseTo(1, 12);
+    expect(wheelZoomFactor(-1000, true)).toBeLessThan(1.7); // one event never jumps
+    let v: View = { scale: 0.3, x: 40, y: -20, stretchY: 2.5 };
+    const cursor = [612, 333];
+    const under = screenToImage(v, cursor);
+    for (const d of [-3, -8, -2, 5, -12, -6]) v = zoomAround(v, cursor, wheelZoomFactor(d, true), 0.05, 16);
+    expect(v.scale).toBeGreaterThan(0.3);
+    const after = screenToImage(v, cursor);
+    expect(after[0]).toBeCloseTo(under[0], 9);
+    expect(after[1]).toBeCloseTo(under[1], 9);
   });
 });
 
