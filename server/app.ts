@@ -26,6 +26,7 @@ import { modelRunRoutes } from './routes/model-run.routes';
 import { sectionRoutes } from './routes/section.routes';
 import { calibrationRoutes } from './routes/calibration.routes';
 import { velocityRoutes } from './routes/velocity.routes';
+import { depthViewRoutes } from './routes/depth-view.routes';
 import { analogueRoutes } from './routes/analogue.routes';
 import { accountRoutes, notificationRoutes, outboxRoutes } from './routes/notification.routes';
 import type { Mailer } from './mail/mailer';
@@ -63,6 +64,7 @@ export function createApp(deps: AppDeps) {
   app.use('/api', sectionRoutes(deps.config));
   app.use('/api', calibrationRoutes());
   app.use('/api', velocityRoutes());
+  app.use('/api', depthViewRoutes());
   app.use('/api/projects', projectRoutes());
   app.use('/api', buildupRoutes());
   app.use('/api', analogueRoutes());

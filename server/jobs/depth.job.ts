@@ -82,9 +82,9 @@ export async function currentDepthVersions(sectionId: number, transaction?: Tran
  * alone, as nobody asked for its depth view). Returns the row, or null.
  */
 export async function queueDepthBuild(sectionId: number, transaction: Transaction, opts: { create?: boolean } = {}): Promise<SectionDepthPyramid | null> {
-  if (!deps) throw new Error('depth build queued before the job queue started');
   let row = await SectionDepthPyramid.findByPk(sectionId, { transaction, lock: transaction.LOCK.UPDATE });
   if (!row && !opts.create) return null;
+  if (!deps) throw new Error('depth build queued before the job queue started');
   const versions = await currentDepthVersions(sectionId, transaction);
   if (row?.jobId && (row.status === 'queued' || row.status === 'running')) {
     await deps.boss.cancel(DEPTH_QUEUE, row.jobId, { db: transactionDb(transaction) }).catch(() => {});
@@ -100,6 +100,16 @@ export async function queueDepthBuild(sectionId: number, transaction: Transactio
   if (row) await row.update(fields, { transaction });
   else row = await SectionDepthPyramid.create({ sectionId, ...fields }, { transaction });
   return row;
+}
+
+/**
+ * For the services that change what a depth view is made from (velocity
+ * model, calibration), inside their transaction: a section whose depth view
+ * was asked for gets a new build queued (the last good one stays on view),
+ * started at once after the commit.
+ */
+export async function depthSourcesChanged(sectionId: number, transaction: Transaction): Promise<void> {
+  if (await queueDepthBuild(sectionId, transaction)) transaction.afterCommit(() => nudgeDepthWorkers());
 }
 
 /** Wake this process's depth workers (after the sending transaction committed). */

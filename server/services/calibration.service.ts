@@ -15,6 +15,7 @@ import { Section, SectionCalibration } from '../models/section';
 import { User } from '../models/index';
 import type { Actor } from './project.service';
 import { audit } from './audit.service';
+import { depthSourcesChanged } from '../jobs/depth.job';
 import { loadSection, sectionForEditor, sectionForViewer } from './section-access';
 import { fitCalibration, applyCalibration, type CalibrationFit, type CalibrationMode } from '../../shared/measure/calibration';
 import { CalibrationError } from '../../shared/measure/errors';
@@ -156,6 +157,7 @@ export async function createCalibrationVersion(
   );
   const details = { version: c.version, rmsPx: fit.rmsPx, ...(input.source ? { source: input.source } : {}), ...opts.auditDetails };
   await audit(userId, opts.auditAction ?? 'section.calibrate', 'section', sectionId, details, transaction);
+  await depthSourcesChanged(sectionId, transaction); // a depth view made from the older Ties is rebuilt
   return c;
 }
 

@@ -8,6 +8,7 @@ import { ctx } from '../context';
 import { SectionVelocity } from '../models/buildup';
 import type { Actor } from './project.service';
 import { audit } from './audit.service';
+import { depthSourcesChanged } from '../jobs/depth.job';
 import { sectionForEditor, sectionForViewer } from './section-access';
 import { assertSectionNotFrozen } from './review.service';
 import { DEFAULT_VELOCITY, DEFAULT_VELOCITY_SOURCES } from '../../shared/schemas/buildups';
@@ -38,6 +39,7 @@ export async function putVelocity(actor: Actor, sectionId: number, velocity: Vel
     await assertSectionNotFrozen(sectionId, transaction);
     await SectionVelocity.upsert({ sectionId, model: velocity, updatedById: actor.id, updatedAt: new Date() }, { transaction });
     await audit(actor.id, 'section.velocity', 'section', sectionId, velocity, transaction);
+    await depthSourcesChanged(sectionId, transaction); // a depth view made with the older model is rebuilt
   });
   return velocityOf(sectionId);
 }

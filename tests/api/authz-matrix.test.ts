@@ -198,6 +198,19 @@ async function reportBatch(f: Fx, done = false): Promise<string> {
   return id;
 }
 
+/** The demo section's depth view, asked for by the interpreter and waited for until its current build is on view; its build number. */
+async function depthReady(f: Fx): Promise<number> {
+  const ask = await request(t.app).post(`/api/sections/${f.section}/depth`).set(bearer(await interp()));
+  expect([200, 202], JSON.stringify(ask.body)).toContain(ask.status);
+  for (let i = 0; i < 400; i++) {
+    const s = await request(t.app).get(`/api/sections/${f.section}/depth`).set(bearer(await interp()));
+    expect(s.body.status, JSON.stringify(s.body)).not.toBe('failed');
+    if (s.body.status === 'ready' && !s.body.stale) return s.body.ready.build as number;
+    await new Promise((res) => setTimeout(res, 150));
+  }
+  throw new Error('the depth view was not made in time');
+}
+
 const MATRIX: Record<string, Row> = {
   // public
   'GET /api/health': { req: () => ({ path: '/api/health' }), anonymous: 200, refused: 'none: public health check', allowed: { as: 'reviewer', status: 200 } },
@@ -300,6 +313,11 @@ const MATRIX: Record<string, Row> = {
   'GET /api/sections/:id/calibrations': { req: (f) => ({ path: `/api/sections/${f.section}/calibrations` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
   'PUT /api/sections/:id/calibration': { req: (f) => ({ path: `/api/sections/${f.section}/calibration`, body: { ties: SMALL_TIES } }), refused: { as: 'reviewer', status: 403 }, allowed: { as: 'interpreter', status: 201 } },
   'POST /api/sections/:id/calibration/preview': { req: (f) => ({ path: `/api/sections/${f.section}/calibration/preview`, body: { ties: SMALL_TIES } }), refused: { as: 'curator', status: 403 }, allowed: { as: 'admin', status: 200 } },
+  // depth view: members look at and ask for it
+  'GET /api/sections/:id/depth': { req: (f) => ({ path: `/api/sections/${f.section}/depth` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  'POST /api/sections/:id/depth': { req: async (f) => ({ path: `/api/sections/${await readyCalibratedSection(t, await interp(), f.demoId)}/depth` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 202 } },
+  'GET /api/sections/:id/depth/:build/tiles/:z/:tile': { req: async (f) => ({ path: `/api/sections/${f.section}/depth/${await depthReady(f)}/tiles/0/0_0.jpg` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'curator', status: 200 } },
+  'GET /api/sections/:id/depth/:build/preview': { req: async (f) => ({ path: `/api/sections/${f.section}/depth/${await depthReady(f)}/preview` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
 
   // velocity and buildups
   'GET /api/sections/:id/velocity': { req: (f) => ({ path: `/api/sections/${f.section}/velocity` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
