@@ -24,6 +24,7 @@ import { noteRoutes } from './routes/note.routes';
 import { reviewRoutes } from './routes/review.routes';
 import { modelRunRoutes } from './routes/model-run.routes';
 import { sectionRoutes } from './routes/section.routes';
+import { segyRoutes } from './routes/segy.routes';
 import { calibrationRoutes } from './routes/calibration.routes';
 import { velocityRoutes } from './routes/velocity.routes';
 import { depthViewRoutes } from './routes/depth-view.routes';
@@ -62,6 +63,7 @@ export function createApp(deps: AppDeps) {
   app.use('/api/auth', authRoutes(deps.config));
   app.use('/api/users', userRoutes());
   app.use('/api', sectionRoutes(deps.config));
+  app.use('/api', segyRoutes(deps.config));
   app.use('/api', calibrationRoutes());
   app.use('/api', velocityRoutes());
   app.use('/api', depthViewRoutes());

@@ -22,7 +22,8 @@ export interface Config {
   loginAccountLimit: { freeAttempts: number; baseDelayMs: number; maxDelayMs: number; windowMs: number };
   /** Express "trust proxy" (TRUST_PROXY): false trusts no proxy, so X-Forwarded-For is ignored. */
   trustProxy: boolean | number | string;
-  upload: { maxFileBytes: number; maxInputPixels: number };
+  /** `maxSegyBytes` (SEGY_MAX_BYTES, default 4 GiB): SEG-Y uploads are streamed through the reader, never held, so they may be larger than images. */
+  upload: { maxFileBytes: number; maxInputPixels: number; maxSegyBytes?: number };
   /**
    * JSON body limits in bytes (server/middlewares/body.ts): the /api default
    * (JSON_MAX_BYTES, 1 MB), the routes that take large bodies after sign-in
@@ -107,6 +108,7 @@ export function loadConfig(overrides: Partial<Config> = {}): Config {
     upload: {
       maxFileBytes: Number(process.env.UPLOAD_MAX_BYTES ?? 300 * 1024 * 1024),
       maxInputPixels: Number(process.env.UPLOAD_MAX_PIXELS ?? 400_000_000),
+      maxSegyBytes: Number(process.env.SEGY_MAX_BYTES ?? 4 * 1024 * 1024 * 1024),
     },
     body: {
       jsonMaxBytes: positiveBytes('JSON_MAX_BYTES', 1024 * 1024),

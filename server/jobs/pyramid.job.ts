@@ -24,8 +24,10 @@ import { Op, type Sequelize, type Transaction } from 'sequelize';
 import type { Config } from '../config';
 import { logger } from '../logger';
 import { Section } from '../models/section';
+import { SegyUpload } from '../models/segy';
 import { fileStoreFor, removeTree, scratchOwnerOf, type FileStore } from '../storage/fileStore';
 import { buildPyramid } from '../services/tiles.service';
+import { renderSegyPyramid } from './segy-render';
 import {
   PYRAMID_QUEUE,
   cancelPyramidJob,
@@ -137,12 +139,15 @@ export async function runPyramidJob(job: PgBoss.Job<PyramidJobData>) {
   try {
     const out = path.join(work, 'pyramid');
     await fsp.mkdir(out);
-    const src = await store.localCopy(keys.original);
     let result;
-    try {
-      result = await buildPyramid(src.path, out, { workDir: work, limitInputPixels: config.upload.maxInputPixels, onProgress: report });
-    } finally {
-      await src.release();
+    if (section.sourceKind === 'segy') result = await renderSegyPyramid(store, section, out, report); // from stored amplitudes (segy-render.ts)
+    else {
+      const src = await store.localCopy(keys.original);
+      try {
+        result = await buildPyramid(src.path, out, { workDir: work, limitInputPixels: config.upload.maxInputPixels, onProgress: report });
+      } finally {
+        await src.release();
+      }
     }
     await pending;
     await sequelize.transaction(async (transaction) => {
@@ -282,12 +287,22 @@ export async function sweepScratch(now = Date.now()) {
 export async function sweepLeftovers(now = Date.now()) {
   const { store } = deps!;
   await sweepScratch(now);
+  await sweepSegyLeftovers(now);
   const folders = (await store.list('sections')).filter((e) => now - e.modifiedAt.getTime() > LEFTOVER_AGE_MS);
   if (!folders.length) return;
   const known = new Set(
     (await Section.findAll({ attributes: ['storageKey'], where: { storageKey: { [Op.in]: folders.map((f) => f.name) } } })).map((s) => s.storageKey),
   );
   for (const f of folders) if (!known.has(f.name)) await store.removePrefix(`sections/${f.name}`);
+}
+
+/** SEG-Y upload folders (`segy/<key>`) no row refers to, when older than LEFTOVER_AGE_MS (a crash between the move and the commit). */
+async function sweepSegyLeftovers(now: number) {
+  const { store } = deps!;
+  const folders = (await store.list('segy')).filter((e) => now - e.modifiedAt.getTime() > LEFTOVER_AGE_MS);
+  if (!folders.length) return;
+  const known = new Set((await SegyUpload.findAll({ attributes: ['storageKey'], where: { storageKey: { [Op.in]: folders.map((f) => f.name) } } })).map((u) => u.storageKey));
+  for (const f of folders) if (!known.has(f.name)) await store.removePrefix(`segy/${f.name}`);
 }
 
 /**

@@ -13,6 +13,8 @@ import {
 } from 'sequelize';
 import { Project, User } from './index';
 import type { SectionStatus, Tie, VerticalDomain } from '../../shared/schemas/sections';
+import type { RenderSettings, SegySelection } from '../../shared/schemas/segy';
+import { SegyUpload, initSegyModels } from './segy';
 
 /** What the pyramid builder produced (stored in `sections.pyramid`). */
 export interface PyramidInfo {
@@ -24,7 +26,7 @@ export interface PyramidInfo {
   thumbnail: { width: number; height: number };
 }
 
-export type SourceFormat = 'png' | 'jpeg' | 'tiff';
+export type SourceFormat = 'png' | 'jpeg' | 'tiff' | 'segy';
 
 export class Section extends Model<InferAttributes<Section>, InferCreationAttributes<Section>> {
   declare id: CreationOptional<number>;
@@ -56,6 +58,11 @@ export class Section extends Model<InferAttributes<Section>, InferCreationAttrib
   declare progressAt: CreationOptional<Date | null>;
   declare pyramid: CreationOptional<PyramidInfo | null>;
   declare uploadedById: number | null;
+  /** 'segy' sections are rendered from a SEG-Y upload's amplitudes instead of an image. */
+  declare sourceKind: CreationOptional<'image' | 'segy'>;
+  declare segyUploadId: CreationOptional<number | null>;
+  declare segySelection: CreationOptional<SegySelection | null>;
+  declare renderSettings: CreationOptional<RenderSettings | null>;
   declare version: CreationOptional<number>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
@@ -69,11 +76,14 @@ export class SectionCalibration extends Model<InferAttributes<SectionCalibration
   declare ties: Tie[];
   declare fit: unknown;
   declare createdBy: number | null;
+  /** 'segy_headers': made from a SEG-Y file's own headers, with zero Ties. */
+  declare source: CreationOptional<'ties' | 'segy_headers'>;
   declare createdAt: CreationOptional<Date>;
   declare author?: NonAttribute<User | null>;
 }
 
 export function initSectionModels(sequelize: Sequelize) {
+  initSegyModels(sequelize);
   Section.init(
     {
       id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
@@ -108,6 +118,10 @@ export function initSectionModels(sequelize: Sequelize) {
       progressAt: { type: DataTypes.DATE, allowNull: true },
       pyramid: { type: DataTypes.JSONB, allowNull: true },
       uploadedById: { type: DataTypes.INTEGER, allowNull: true },
+      sourceKind: { type: DataTypes.STRING(8), allowNull: false, defaultValue: 'image' },
+      segyUploadId: { type: DataTypes.INTEGER, allowNull: true },
+      segySelection: { type: DataTypes.JSONB, allowNull: true },
+      renderSettings: { type: DataTypes.JSONB, allowNull: true },
       version: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },
       createdAt: DataTypes.DATE,
       updatedAt: DataTypes.DATE,
@@ -122,6 +136,7 @@ export function initSectionModels(sequelize: Sequelize) {
       ties: { type: DataTypes.JSONB, allowNull: false },
       fit: { type: DataTypes.JSONB, allowNull: false },
       createdBy: { type: DataTypes.INTEGER, allowNull: true, field: 'created_by' },
+      source: { type: DataTypes.STRING(16), allowNull: false, defaultValue: 'ties' },
       createdAt: DataTypes.DATE,
     },
     { sequelize, tableName: 'section_calibrations', updatedAt: false },
@@ -129,6 +144,7 @@ export function initSectionModels(sequelize: Sequelize) {
 
   Section.belongsTo(Project, { foreignKey: 'projectId', as: 'project' });
   Section.belongsTo(User, { foreignKey: 'uploadedById', as: 'uploadedBy' });
+  Section.belongsTo(SegyUpload, { foreignKey: 'segyUploadId', as: 'segyUpload' });
   Section.hasMany(SectionCalibration, { foreignKey: 'sectionId', as: 'calibrations' });
   SectionCalibration.belongsTo(Section, { foreignKey: 'sectionId', as: 'section' });
   SectionCalibration.belongsTo(User, { foreignKey: 'createdBy', as: 'author' });

@@ -64,6 +64,8 @@ export interface SegyTrace {
   /** Every trace header field of fields.ts by key (cdpX, cdpY, inline, crossline from the overridden positions when given). */
   header: Record<string, number>;
   samples: Float64Array;
+  /** The trace header's 240 bytes as in the file (a buffer reused for the next trace: copy what you keep). */
+  rawHeader: Buffer;
 }
 
 const END_TEXT = '((SEG: ENDTEXT))';
@@ -241,7 +243,7 @@ export class SegyReader {
       }
       if (scratch.length < n) scratch = Buffer.alloc(n); // reused: decodeSamples copies out of it
       const samples = decodeSamples(q.take(n, scratch.subarray(0, n)), header.format.code, ns, header.littleEndian);
-      yield { index, offset, header: th, samples };
+      yield { index, offset, header: th, samples, rawHeader: hb };
     }
   }
 

@@ -280,27 +280,23 @@ class LevelWriter {
   }
 }
 
-const sleep = (ms: number) => new Promise((resolve) => setTimeout(resolve, ms));
 
-/**
- * Decode `srcPath` once and write the pyramid, preview and thumbnail into
- * `outDir` (which must exist and be empty). Throws on a damaged or oversized
- * image; the caller removes `outDir` then.
- */
-export async function buildPyramid(srcPath: string, outDir: string, opts: BuildOptions): Promise<PyramidResult> {
-  const tileSize = opts.tileSize ?? TILE_SIZE;
-  if (!(Number.isInteger(tileSize) && tileSize >= 2 && tileSize % 2 === 0)) throw new Error(`tileSize: must be an even integer ≥ 2, got ${tileSize}`);
-  const meta = await sharp(srcPath, { limitInputPixels: opts.limitInputPixels }).metadata();
-  const width = meta.width;
-  const height = meta.height;
-  if (!width || !height) throw new Error('the image has no size');
-  if (width * height > opts.limitInputPixels) {
-    throw new Error(`the image has ${width} × ${height} pixels, over the limit of ${opts.limitInputPixels}`);
-  }
-  const grey = meta.space === 'b-w' || meta.space === 'grey16';
-  const channels = grey ? 1 : 3;
+interface PyramidRun {
+  width: number;
+  height: number;
+  channels: 1 | 3;
+  tileSize: number;
+  levels: TileLevel[];
+  shared: Shared;
+  top: LevelWriter;
+  source: LevelWriter;
+  preview: { width: number; height: number };
+  thumbnail: { width: number; height: number };
+}
+
+/** The level writers (full size first) and the capture of the level that gives preview and thumbnail. */
+function startPyramid(width: number, height: number, channels: 1 | 3, tileSize: number, outDir: string, opts: Pick<BuildOptions, 'quality' | 'concurrency'>): PyramidRun {
   const levels = pyramidLevels(width, height, tileSize);
-
   const shared: Shared = {
     outDir,
     tileSize,
@@ -333,6 +329,87 @@ export async function buildPyramid(srcPath: string, outDir: string, opts: BuildO
   const thumbnail = fitInside(width, height, THUMBNAIL_BOX);
   const source = [...writers].reverse().find((w) => w.level.width >= preview.width && w.level.height >= preview.height) ?? top;
   source.capture = Buffer.allocUnsafe(source.level.width * source.level.height * channels);
+  return { width, height, channels, tileSize, levels, shared, top, source, preview, thumbnail };
+}
+
+/** After the last full-size strip: the small levels, preview, thumbnail and pyramid.json. */
+async function finishPyramid(p: PyramidRun, outDir: string, opts: Pick<BuildOptions, 'onProgress'>): Promise<PyramidResult> {
+  const { width, height, channels, tileSize, levels, shared, top, source, preview, thumbnail } = p;
+  await top.finish();
+  await shared.pool.drain();
+
+  const raw = { width: source.level.width, height: source.level.height, channels: channels as 1 | 3 };
+  const space = channels === 1 ? 'b-w' : 'srgb';
+  for (const [name, size, quality] of [['preview.jpg', preview, 85], ['thumbnail.jpg', thumbnail, 80]] as const) {
+    await sharp(source.capture!, { raw })
+      .resize(size.width, size.height, { fit: 'fill' })
+      .toColourspace(space)
+      .jpeg({ quality })
+      .toFile(path.join(outDir, name));
+  }
+  opts.onProgress?.(1);
+
+  const result: PyramidResult = {
+    width,
+    height,
+    channels,
+    tileSize,
+    overlap: 0,
+    format: TILE_FORMAT,
+    maxLevel: levels.length - 1,
+    tileCount: shared.tileCount,
+    preview,
+    thumbnail,
+  };
+  await fsp.writeFile(path.join(outDir, 'pyramid.json'), JSON.stringify({ ...result, layout: 'dz', levels }, null, 1));
+  return result;
+}
+
+/** Rows of an image made by the caller (e.g. rendered SEG-Y amplitudes), `channels` bytes a pixel. */
+export interface StripSource {
+  width: number;
+  height: number;
+  channels: 1 | 3;
+  /** Rows `y` to `y + rows − 1`, row after row (width × rows × channels bytes); called in order. */
+  readStrip(y: number, rows: number): Promise<Buffer>;
+}
+
+/** The same pyramid as `buildPyramid`, from strips the caller renders (no decoding). */
+export async function buildPyramidFromStrips(src: StripSource, outDir: string, opts: Omit<BuildOptions, 'limitInputPixels' | 'workDir'>): Promise<PyramidResult> {
+  const tileSize = opts.tileSize ?? TILE_SIZE;
+  const p = startPyramid(src.width, src.height, src.channels, tileSize, outDir, opts);
+  const rowBytes = src.width * src.channels;
+  for (let y = 0; y < src.height; y += tileSize) {
+    const rows = Math.min(tileSize, src.height - y);
+    const strip = await src.readStrip(y, rows);
+    if (strip.length !== rows * rowBytes) throw new Error(`pyramid: strip at row ${y} has ${strip.length} bytes, expected ${rows * rowBytes}`);
+    await p.top.addStrip(strip, rows);
+    opts.onProgress?.(PROGRESS_TILES * ((y + rows) / src.height));
+  }
+  return finishPyramid(p, outDir, opts);
+}
+
+const sleep = (ms: number) => new Promise((resolve) => setTimeout(resolve, ms));
+
+/**
+ * Decode `srcPath` once and write the pyramid, preview and thumbnail into
+ * `outDir` (which must exist and be empty). Throws on a damaged or oversized
+ * image; the caller removes `outDir` then.
+ */
+export async function buildPyramid(srcPath: string, outDir: string, opts: BuildOptions): Promise<PyramidResult> {
+  const tileSize = opts.tileSize ?? TILE_SIZE;
+  if (!(Number.isInteger(tileSize) && tileSize >= 2 && tileSize % 2 === 0)) throw new Error(`tileSize: must be an even integer ≥ 2, got ${tileSize}`);
+  const meta = await sharp(srcPath, { limitInputPixels: opts.limitInputPixels }).metadata();
+  const width = meta.width;
+  const height = meta.height;
+  if (!width || !height) throw new Error('the image has no size');
+  if (width * height > opts.limitInputPixels) {
+    throw new Error(`the image has ${width} × ${height} pixels, over the limit of ${opts.limitInputPixels}`);
+  }
+  const grey = meta.space === 'b-w' || meta.space === 'grey16';
+  const channels = grey ? 1 : 3;
+  const p = startPyramid(width, height, channels, tileSize, outDir, opts);
+  const top = p.top;
 
   // libvips decodes once into its uncompressed format on local scratch disk
   // (streamed: memory stays bounded for huge images) and writes it top to
@@ -403,32 +480,5 @@ export async function buildPyramid(srcPath: string, outDir: string, opts: BuildO
     await decoding; // never remove the file under a running decoder
     await fsp.rm(decoded, { force: true });
   }
-  await top.finish();
-  await shared.pool.drain();
-
-  const raw = { width: source.level.width, height: source.level.height, channels: channels as 1 | 3 };
-  const space = channels === 1 ? 'b-w' : 'srgb';
-  for (const [name, size, quality] of [['preview.jpg', preview, 85], ['thumbnail.jpg', thumbnail, 80]] as const) {
-    await sharp(source.capture, { raw })
-      .resize(size.width, size.height, { fit: 'fill' })
-      .toColourspace(space)
-      .jpeg({ quality })
-      .toFile(path.join(outDir, name));
-  }
-  opts.onProgress?.(1);
-
-  const result: PyramidResult = {
-    width,
-    height,
-    channels,
-    tileSize,
-    overlap: 0,
-    format: TILE_FORMAT,
-    maxLevel: levels.length - 1,
-    tileCount: shared.tileCount,
-    preview,
-    thumbnail,
-  };
-  await fsp.writeFile(path.join(outDir, 'pyramid.json'), JSON.stringify({ ...result, layout: 'dz', levels }, null, 1));
-  return result;
+  return finishPyramid(p, outDir, opts);
 }

@@ -7,6 +7,7 @@
 import { z } from 'zod';
 import type { Page } from './projects';
 import { safeText } from './text';
+import type { RenderSettings, SegySelection } from './segy';
 
 export const VERTICAL_DOMAINS = ['twt_ms', 'depth_m'] as const;
 export type VerticalDomain = (typeof VERTICAL_DOMAINS)[number];
@@ -175,6 +176,8 @@ export interface CalibrationRecord extends CalibrationChecks {
   fit: unknown; // the shared engine's fit: { mode, affine, residuals, rmsPx, rmsWorld }
   createdAt: string;
   createdBy: UserRef | null;
+  /** 'segy_headers': made from a SEG-Y file's own headers (no Ties placed by a person). */
+  source?: 'ties' | 'segy_headers';
 }
 
 export interface CalibrationPreview extends CalibrationChecks {
@@ -208,8 +211,10 @@ export interface SectionDetail extends SectionSummary {
   startLat: number | null;
   endLon: number | null;
   endLat: number | null;
-  sourceFormat: 'png' | 'jpeg' | 'tiff';
+  sourceFormat: 'png' | 'jpeg' | 'tiff' | 'segy';
   sourceBytes: number;
+  /** Set for sections made from a SEG-Y upload (issue #12): the upload, which traces, the render settings. */
+  segy: { uploadId: number; selection: SegySelection | null; render: RenderSettings | null } | null;
   previewUrl: string | null;
   tiles: TilesDescriptor | null;
   calibration: CalibrationRecord | null;

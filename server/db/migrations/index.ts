@@ -14,6 +14,7 @@ import * as m0008 from './0008-notifications';
 import * as m0009 from './0009-reports';
 import * as m0010 from './0010-units';
 import * as m0011 from './0011-analogues';
+import * as m0012 from './0012-segy';
 import * as m0013 from './0013-model-runs';
 import * as m0014 from './0014-depth-pyramids';
 
@@ -35,6 +36,7 @@ export const migrations: Migration[] = [
   { name: '0009-reports', ...m0009 },
   { name: '0010-units', ...m0010 },
   { name: '0011-analogues', ...m0011 },
+  { name: '0012-segy', ...m0012 },
   { name: '0013-model-runs', ...m0013 },
   { name: '0014-depth-pyramids', ...m0014 },
 ];

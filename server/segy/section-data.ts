@@ -1,0 +1,189 @@
+/**
+ * Where a SEG-Y upload's data sits in the file store and how a section reads
+ * it: the traces a section shows (all of a 2D line in file order, or one
+ * inline / crossline of a 3D cube sorted by the other number), amplitude
+ * windows through ranged reads (`FileStore.get(key, range)`, so any driver
+ * serves them), and the render pass that feeds the tile pyramid.
+ */
+import fsp from 'node:fs/promises';
+import type { FileStore } from '../storage/fileStore';
+import { AMPLITUDES_FILE, GEOMETRY_FILE, GEOMETRY_STRIDE, HEADERS_FILE } from './ingest';
+import { AbsAmplitudeHistogram } from './stats';
+import { agcInto, agcWindowSamples, rampIndex, rampLut } from './render';
+import type { RenderSettings } from '../../shared/schemas/segy';
+import type { StripSource } from '../services/tiles.service';
+
+export const segyKeys = (storageKey: string) => ({
+  root: `segy/${storageKey}`,
+  amplitudes: `segy/${storageKey}/${AMPLITUDES_FILE}`,
+  headers: `segy/${storageKey}/${HEADERS_FILE}`,
+  geometry: `segy/${storageKey}/${GEOMETRY_FILE}`,
+});
+
+/** The file of a section's trace list (3D extractions; a 2D line shows every trace in order). */
+export const selectionKey = (sectionStorageKey: string) => `sections/${sectionStorageKey}/segy-traces.u32`;
+
+export async function readAll(store: FileStore, key: string, range?: { start: number; end: number }): Promise<Buffer> {
+  const obj = await store.get(key, range);
+  if (!obj) throw new Error(`file store: ${key} is missing`);
+  const parts: Buffer[] = [];
+  for await (const c of obj.stream) parts.push(c as Buffer);
+  return Buffer.concat(parts);
+}
+
+/** Float64 view of a little-endian buffer (copied so the view is aligned). */
+const f64 = (b: Buffer) => new Float64Array(new Uint8Array(b).buffer);
+const f32 = (b: Buffer) => new Float32Array(new Uint8Array(b).buffer);
+
+/** The geometry records (inline, crossline, cdp, x, y per trace). */
+export async function readGeometry(store: FileStore, storageKey: string): Promise<Float64Array> {
+  return f64(await readAll(store, segyKeys(storageKey).geometry));
+}
+
+/** File trace indices of an inline or crossline, sorted by the other number (then file order). */
+export function selectTraces(geo: Float64Array, kind: 'inline' | 'crossline', number: number): Uint32Array {
+  const n = geo.length / GEOMETRY_STRIDE;
+  const k = kind === 'inline' ? 0 : 1;
+  const other = 1 - k;
+  const out: number[] = [];
+  for (let i = 0; i < n; i++) if (geo[i * GEOMETRY_STRIDE + k] === number) out.push(i);
+  out.sort((a, b) => geo[a * GEOMETRY_STRIDE + other] - geo[b * GEOMETRY_STRIDE + other] || a - b);
+  return Uint32Array.from(out);
+}
+
+/** Positions (file units) of the chosen traces, in section order. */
+export function positionsOf(geo: Float64Array, traces: Uint32Array | null): Array<[number, number]> {
+  const n = traces ? traces.length : geo.length / GEOMETRY_STRIDE;
+  const out: Array<[number, number]> = new Array(n);
+  for (let i = 0; i < n; i++) {
+    const t = traces ? traces[i] : i;
+    out[i] = [geo[t * GEOMETRY_STRIDE + 3], geo[t * GEOMETRY_STRIDE + 4]];
+  }
+  return out;
+}
+
+export async function readSelection(store: FileStore, sectionStorageKey: string, selected: boolean): Promise<Uint32Array | null> {
+  if (!selected) return null;
+  const b = await readAll(store, selectionKey(sectionStorageKey));
+  return new Uint32Array(new Uint8Array(b).buffer);
+}
+
+/**
+ * Amplitudes of traces [trace, trace + traces) and samples [sample, sample +
+ * samples) of a section (indices already checked against its size): one
+ * ranged read per trace, a few at a time.
+ */
+export async function readWindow(
+  store: FileStore,
+  uploadKey: string,
+  ns: number,
+  selection: Uint32Array | null,
+  w: { trace: number; sample: number; traces: number; samples: number },
+): Promise<number[][]> {
+  const key = segyKeys(uploadKey).amplitudes;
+  const rows: number[][] = new Array(w.traces);
+  const BATCH = 16;
+  for (let b = 0; b < w.traces; b += BATCH) {
+    await Promise.all(
+      Array.from({ length: Math.min(BATCH, w.traces - b) }, async (_, k) => {
+        const i = b + k;
+        const t = selection ? selection[w.trace + i] : w.trace + i;
+        const start = 4 * (t * ns + w.sample);
+        const buf = await readAll(store, key, { start, end: start + 4 * w.samples - 1 });
+        if (buf.length !== 4 * w.samples) throw new Error(`amplitudes: short read of trace ${t}`);
+        rows[i] = Array.from(f32(buf));
+      }),
+    );
+  }
+  return rows;
+}
+
+export interface RenderInput {
+  /** Local path of the upload's amplitudes (FileStore.localCopy). */
+  amplitudesPath: string;
+  ns: number;
+  selection: Uint32Array | null;
+  /** Traces in the section. */
+  width: number;
+  settings: RenderSettings;
+  /** Sample interval in ms (time data), for the AGC window; null for depth data. */
+  intervalMs: number | null;
+  onProgress?: (fraction: number) => void;
+}
+
+/**
+ * Open the amplitudes and give (1) the clip value, from a first pass over the
+ * section's samples (after AGC when on) into the |amplitude| histogram, and
+ * (2) a strip source that renders rows through the ramp. Close with `close()`.
+ * Memory: one trace (4·ns bytes plus its AGC copy), one strip of 8-bit pixels
+ * (width × 512 × channels) and the 2 MiB histogram.
+ */
+export async function openRender(input: RenderInput): Promise<{ clip: number; strips: StripSource; close(): Promise<void> }> {
+  const { ns, selection, width, settings } = input;
+  const fh = await fsp.open(input.amplitudesPath, 'r');
+  try {
+    const fileTrace = (i: number) => (selection ? selection[i] : i);
+    const win = settings.agcMs != null && input.intervalMs ? agcWindowSamples(settings.agcMs, input.intervalMs) : 0;
+    const half = win ? (win - 1) >> 1 : 0;
+    const traceBuf = Buffer.allocUnsafe(4 * ns);
+    const readTrace = async (t: number, from: number, to: number): Promise<Float32Array> => {
+      const n = to - from;
+      const { bytesRead } = await fh.read(traceBuf, 0, 4 * n, 4 * (t * ns + from));
+      if (bytesRead !== 4 * n) throw new Error(`amplitudes: short read of trace ${t}`);
+      return new Float32Array(traceBuf.buffer, traceBuf.byteOffset, n); // little-endian hosts (x86, arm64)
+    };
+
+    // pass 1: the clip value
+    const hist = new AbsAmplitudeHistogram();
+    const gained = new Float64Array(ns);
+    for (let i = 0; i < width; i++) {
+      const x = await readTrace(fileTrace(i), 0, ns);
+      if (win) {
+        agcInto(x, win, 0, ns, gained);
+        hist.add(gained);
+      } else hist.add(x);
+      if (i % 256 === 0) input.onProgress?.((0.3 * i) / width);
+    }
+    let clip = hist.percentile(settings.clipPercentile);
+    if (!(clip > 0)) clip = hist.max > 0 ? hist.max : 1;
+
+    // pass 2: strips of rows through the ramp
+    const { channels, lut } = rampLut(settings.ramp);
+    const seg = new Float64Array(ns);
+    const strips: StripSource = {
+      width,
+      height: ns,
+      channels,
+      async readStrip(y, rows) {
+        const out = Buffer.allocUnsafe(width * rows * channels);
+        const a = Math.max(0, y - half);
+        const b = Math.min(ns, y + rows + half);
+        for (let i = 0; i < width; i++) {
+          const x = await readTrace(fileTrace(i), a, b);
+          let vals: ArrayLike<number> = x;
+          let off = y - a;
+          if (win) {
+            agcInto(x, win, y - a, y - a + rows, seg);
+            vals = seg;
+            off = 0;
+          }
+          for (let j = 0; j < rows; j++) {
+            const idx = rampIndex(vals[off + j], clip);
+            const o = (j * width + i) * channels;
+            if (channels === 1) out[o] = lut[idx];
+            else {
+              out[o] = lut[3 * idx];
+              out[o + 1] = lut[3 * idx + 1];
+              out[o + 2] = lut[3 * idx + 2];
+            }
+          }
+        }
+        return out;
+      },
+    };
+    return { clip, strips, close: () => fh.close() };
+  } catch (e) {
+    await fh.close();
+    throw e;
+  }
+}
