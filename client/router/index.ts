@@ -132,6 +132,12 @@ export const router = createRouter({
           component: () => import('../pages/AccountPage.vue'),
           meta: { title: 'Account settings' },
         },
+        {
+          path: 'api-reference',
+          name: 'api-reference',
+          component: () => import('../pages/ApiReferencePage.vue'),
+          meta: { title: 'API reference' },
+        },
       ],
     },
     {

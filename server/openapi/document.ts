@@ -43,9 +43,9 @@ export function openApiPath(expressPath: string): string {
 
 const paramNames = (expressPath: string) => [...expressPath.matchAll(/:([A-Za-z0-9_]+)/g)].map((m) => m[1]);
 
-/** The tag of a route: the first path segment after /api (`projects`, `sections`, `health`…). */
+/** The tag of a route: the first path segment after /api without any extension (`projects`, `sections`, `health`, `openapi`…). */
 export function tagOf(expressPath: string): string {
-  return expressPath.split('/')[2] ?? 'api';
+  return (expressPath.split('/')[2] ?? 'api').replace(/\..*$/, '');
 }
 
 function roles(handlers: unknown[]): string[] | null {
