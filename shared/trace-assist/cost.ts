@@ -97,3 +97,25 @@ export function subpixelOffset(col: (y: number) => number, y: number, phase: Pha
   }
   return Math.max(-0.5, Math.min(0.5, off));
 }
+
+/**
+ * Position (row units, relative to the image row index) of the phase's crest
+ * around row `y`: when the crest is clipped (a run of equal values, as on a
+ * display-clipped grey image) the middle of the run, otherwise the
+ * sub-pixel offset. The wavelet is symmetric, so the middle of a clipped
+ * plateau is where the unclipped crest was.
+ */
+export function crestPosition(col: (y: number) => number, y: number, phase: Phase): number {
+  if (phase !== 'zero') {
+    const a = col(y);
+    if (a === a) {
+      const eq = (b: number) => b === b && Math.abs(b - a) <= 1e-6;
+      let lo = y;
+      let hi = y;
+      while (hi - lo < 64 && eq(col(lo - 1))) lo--;
+      while (hi - lo < 64 && eq(col(hi + 1))) hi++;
+      if (hi > lo) return (lo + hi) / 2;
+    }
+  }
+  return y + subpixelOffset(col, y, phase);
+}

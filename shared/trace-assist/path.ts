@@ -14,7 +14,7 @@
  * Work: steps × (2·corridor + 1) × (2·maxStep + 1) — about 0.2 M operations
  * for a 1,000-pixel segment with the defaults.
  */
-import { patchReference, phaseScoreAt, subpixelOffset } from './cost';
+import { crestPosition, patchReference, phaseScoreAt } from './cost';
 import type { AmplitudeSource, Phase } from './source';
 
 export type Pt = [number, number];
@@ -191,7 +191,7 @@ export function leastCostPath(src: AmplitudeSource, from: Pt, to: Pt, opts: Path
         c += 1;
       } else break;
     }
-    return c + subpixelOffset(col, c, phase);
+    return crestPosition(col, c, phase);
   };
   // Pass 1: the crest of each column on its own.
   const first = new Float64Array(n + 1);
@@ -265,6 +265,6 @@ export function snapToPhase(src: AmplitudeSource, p: Pt, opts: { phase?: Phase; 
     }
   }
   if (best <= (opts.minScore ?? 0.05)) return [p[0], p[1]];
-  const off = subpixelOffset((y) => (y < 0 || y >= h ? NaN : patch[y]), bestY, phase);
-  return [p[0], y0 + bestY + off + 0.5];
+  const y = crestPosition((yy) => (yy < 0 || yy >= h ? NaN : patch[yy]), bestY, phase);
+  return [p[0], y0 + y + 0.5];
 }
