@@ -23,6 +23,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { ROLE_EMAIL, bearer, createTestApp, type DemoRole, type TestApp } from '../helpers/app';
 import { DEMO_PASSWORD } from '../../server/db/seeders/demo';
 import { FIELDS, makeImage } from '../helpers/sections';
+import { asciiSegyLine, cube3d, matrixSegy, uploadSegyVia } from '../helpers/segy-fixtures';
 import { SMALL_GEOMETRY, SMALL_TIES, failedSection, readyCalibratedSection, savedBuildup, signIn } from '../helpers/api-fixtures';
 import { routeTable } from '../../server/openapi/route-table';
 
@@ -313,6 +314,16 @@ const MATRIX: Record<string, Row> = {
   'GET /api/sections/:id/calibrations': { req: (f) => ({ path: `/api/sections/${f.section}/calibrations` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
   'PUT /api/sections/:id/calibration': { req: (f) => ({ path: `/api/sections/${f.section}/calibration`, body: { ties: SMALL_TIES } }), refused: { as: 'reviewer', status: 403 }, allowed: { as: 'interpreter', status: 201 } },
   'POST /api/sections/:id/calibration/preview': { req: (f) => ({ path: `/api/sections/${f.section}/calibration/preview`, body: { ties: SMALL_TIES } }), refused: { as: 'curator', status: 403 }, allowed: { as: 'admin', status: 200 } },
+  // SEG-Y uploads and sections (tests/helpers/segy-fixtures.ts)
+  'POST /api/projects/:projectId/segy': { req: (f) => ({ path: `/api/projects/${f.demoId}/segy`, csv: { text: asciiSegyLine(), fields: { title: 'Matrix SEG-Y' } } }), refused: { as: 'curator', status: 403 }, allowed: { as: 'interpreter', status: 202 } },
+  'GET /api/projects/:projectId/segy': { req: (f) => ({ path: `/api/projects/${f.privateId}/segy` }), refused: { as: 'curator', status: 404 }, allowed: { as: 'interpreter', status: 200 } },
+  'GET /api/segy-uploads/:id': { req: async (f) => ({ path: `/api/segy-uploads/${(await matrixSegy(t.app, await interp(), f.demoId)).cube}` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  'DELETE /api/segy-uploads/:id': { req: async (f) => ({ path: `/api/segy-uploads/${(await uploadSegyVia(t.app, await interp(), f.demoId, cube3d())).uploadId}` }), refused: { as: 'reviewer', status: 403 }, allowed: { as: 'interpreter', status: 204 } },
+  'POST /api/segy-uploads/:id/sections': { req: async (f) => ({ path: `/api/segy-uploads/${(await matrixSegy(t.app, await interp(), f.demoId)).cube}/sections`, body: { kind: 'inline', number: 11, title: 'Matrix inline' } }), refused: { as: 'curator', status: 403 }, allowed: { as: 'interpreter', status: 202 } },
+  'GET /api/sections/:id/segy': { req: async (f) => ({ path: `/api/sections/${(await matrixSegy(t.app, await interp(), f.demoId)).section}/segy` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'curator', status: 200 } },
+  'GET /api/sections/:id/segy/trace-headers': { req: async (f) => ({ path: `/api/sections/${(await matrixSegy(t.app, await interp(), f.demoId)).section}/segy/trace-headers?pageSize=5` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  'GET /api/sections/:id/amplitudes': { req: async (f) => ({ path: `/api/sections/${(await matrixSegy(t.app, await interp(), f.demoId)).section}/amplitudes?trace=0&sample=0&traces=2&samples=3` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  'POST /api/sections/:id/render': { req: async (f) => ({ path: `/api/sections/${(await matrixSegy(t.app, await interp(), f.demoId)).section}/render`, body: { ramp: 'diverging' } }), refused: { as: 'reviewer', status: 403 }, allowed: { as: 'interpreter', status: 202 } },
   // depth view: members look at and ask for it
   'GET /api/sections/:id/depth': { req: (f) => ({ path: `/api/sections/${f.section}/depth` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
   'POST /api/sections/:id/depth': { req: async (f) => ({ path: `/api/sections/${await readyCalibratedSection(t, await interp(), f.demoId)}/depth` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 202 } },

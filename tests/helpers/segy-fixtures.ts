@@ -3,6 +3,7 @@
  * names), written with tests/helpers/segy-writer.ts, with their known
  * geometry and samples so tests can compare exact numbers.
  */
+import request from 'supertest';
 import { writeSegy, type Field } from './segy-writer';
 
 /** A 2D line: 40 traces × 100 samples, IEEE float (format 5), 4 ms from a 100 ms delay, CDP X/Y 12.5 m apart (scalar −10). */
@@ -66,4 +67,56 @@ export function cube3d(opts: { ilXlAt?: 'standard' | 'elsewhere' | 'none' } = {}
     }
   }
   return writeSegy({ format: 1, sampleInterval: CUBE.intervalUs, samplesPerTrace: CUBE.samples, binary: [[3255, 2, 1]], traces });
+}
+
+/**
+ * A tiny 2D line whose every byte is below 0x80 (ASCII textual header, int16
+ * samples, small numbers), so it survives being sent as text (the
+ * authorization matrix's multipart helper sends text files).
+ */
+export function asciiSegyLine(): string {
+  const b = writeSegy({
+    format: 3,
+    ebcdic: false,
+    text: 'C 1 TESSEL BASIN TB-2024 MATRIX LINE',
+    sampleInterval: 256,
+    samplesPerTrace: 4,
+    traces: [0, 1, 2, 3].map((i) => ({ fields: [[21, 4, 1 + i], [71, 2, 1], [181, 4, 10 + 5 * i], [185, 4, 20]] as Field[], samples: [i, 2 * i, 3, 4] })),
+  });
+  if (b.some((v) => v >= 0x80)) throw new Error('asciiSegyLine: a byte is not ASCII');
+  return b.toString('latin1');
+}
+
+type App = Parameters<typeof request>[0];
+
+/** Upload a SEG-Y file through the API; returns the upload id and the 2D section id (null for 3D). */
+export async function uploadSegyVia(app: App, token: string, projectId: number, file: Buffer, fields: Record<string, string> = {}): Promise<{ uploadId: number; sectionId: number | null }> {
+  let r = request(app).post(`/api/projects/${projectId}/segy`).set({ Authorization: `Bearer ${token}` });
+  for (const [k, v] of Object.entries({ title: 'TB-11 SEG-Y', lineName: 'TB-11', survey: 'TB-2024', ...fields })) r = r.field(k, v);
+  const res = await r.attach('file', file, 'tb.sgy');
+  if (res.status !== 202) throw new Error(`SEG-Y upload failed: ${res.status} ${JSON.stringify(res.body)}`);
+  return { uploadId: res.body.upload.id, sectionId: res.body.section?.id ?? null };
+}
+
+/** Wait until a section leaves `processing`. */
+export async function sectionSettled(app: App, token: string, id: number, timeoutMs = 45_000) {
+  const until = Date.now() + timeoutMs;
+  for (;;) {
+    const r = await request(app).get(`/api/sections/${id}`).set({ Authorization: `Bearer ${token}` });
+    if (r.body.status !== 'processing') return r.body;
+    if (Date.now() > until) throw new Error(`section ${id} still processing`);
+    await new Promise((res) => setTimeout(res, 200));
+  }
+}
+
+let matrixMemo: Promise<{ cube: number; section: number }> | null = null;
+/** For the authorization matrix: one 3D upload and one ready 2D SEG-Y section in a project (made once per app). */
+export function matrixSegy(app: App, token: string, projectId: number): Promise<{ cube: number; section: number }> {
+  matrixMemo ??= (async () => {
+    const cube = (await uploadSegyVia(app, token, projectId, cube3d())).uploadId;
+    const { sectionId } = await uploadSegyVia(app, token, projectId, line2d());
+    await sectionSettled(app, token, sectionId!);
+    return { cube, section: sectionId! };
+  })();
+  return matrixMemo;
 }
