@@ -25,8 +25,7 @@ import type {
   SavedSearchInput,
 } from '../../shared/schemas/analogues';
 import { searchQueryToUrl } from '../../shared/schemas/analogues';
-import { useSessionStore } from '../stores/session';
-import { API_BASE, ApiError, apiFetch } from './http';
+import { API_BASE, apiFetch, apiRequest } from './http';
 
 /** The search's URL form as a plain query object for apiFetch. */
 function queryObject(q: AnalogueSearchInput): Record<string, string> {
@@ -117,39 +116,11 @@ export function deleteSavedSearch(id: number): Promise<void> {
 }
 
 // ---------------------------------------------------------------------------
-// Plain fetches with the Bearer token
+// Files and multipart bodies, through the one request path (http.ts
+// `apiRequest`: the Bearer token, ApiError, a 401 signs the person out)
 
-function authHeaders(): Record<string, string> {
-  const token = useSessionStore().token;
-  return token ? { Authorization: `Bearer ${token}` } : {};
-}
-
-async function errorFrom(res: Response, fallback: string): Promise<ApiError> {
-  let body: { code?: unknown; message?: unknown; details?: unknown } = {};
-  try {
-    body = (await res.json()) as typeof body;
-  } catch {
-    /* not JSON */
-  }
-  const msg =
-    typeof body.message === 'string' && body.message
-      ? body.message
-      : res.status === 413
-        ? 'The file is larger than the server accepts.'
-        : `${fallback} (${res.status})`;
-  return new ApiError(res.status, typeof body.code === 'string' ? body.code : `http_${res.status}`, msg, body.details);
-}
-
-async function send(url: string, init: RequestInit, fallback: string): Promise<Response> {
-  let res: Response;
-  try {
-    res = await fetch(url, { ...init, headers: { Accept: 'application/json', ...authHeaders(), ...(init.headers ?? {}) } });
-  } catch (e) {
-    if (e instanceof DOMException && e.name === 'AbortError') throw e;
-    throw new ApiError(0, 'network_error', 'Cannot reach the Cayline server. Check your connection and try again.');
-  }
-  if (!res.ok) throw await errorFrom(res, fallback);
-  return res;
+function send(url: string, init: { method?: 'POST'; body?: FormData; signal?: AbortSignal }, fallback: string): Promise<Response> {
+  return apiRequest(url, { ...init, fallback: (status) => (status === 413 ? 'The file is larger than the server accepts.' : `${fallback} (${status})`) });
 }
 
 /** GET /api/analogues/:id/crop as an object URL (the caller revokes it). */

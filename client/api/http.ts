@@ -76,7 +76,7 @@ export function configureAuth(next: AuthHooks): void {
 export const API_BASE = '/api';
 
 function buildUrl(path: string, query?: Record<string, QueryValue>): string {
-  const url = path.startsWith('/api') ? path : `${API_BASE}${path.startsWith('/') ? '' : '/'}${path}`;
+  const url = path.startsWith('/api') || /^https?:\/\//.test(path) ? path : `${API_BASE}${path.startsWith('/') ? '' : '/'}${path}`;
   if (!query) return url;
   const params = new URLSearchParams();
   for (const [k, v] of Object.entries(query)) {
@@ -115,43 +115,155 @@ const STATUS_TEXT: Record<number, string> = {
   429: 'Too many requests; wait a moment and try again',
 };
 
+const NETWORK_MESSAGE = 'Cannot reach the Cayline server. Check your connection and try again.';
+
+/** The Bearer token of the session now (null when signed out). */
+export function currentToken(): string | null {
+  return hooks.getToken();
+}
+
+/** `Authorization` for the session's token, or nothing when signed out. */
+export function authHeaders(): Record<string, string> {
+  const token = hooks.getToken();
+  return token ? { Authorization: `Bearer ${token}` } : {};
+}
+
+export interface AnswerErrorOptions {
+  /** The token the request carried: only a refused token ends the session. */
+  token: string | null;
+  /** When false, a 401 does not sign the person out. Default true. */
+  authRedirect?: boolean;
+  /** Message when the answer carries none (else the status's house text). */
+  fallback?: (status: number) => string | undefined;
+}
+
 /**
- * The one fetch client: JSON in and out, Bearer token from the session,
- * throws `ApiError { status, code, message, details }` on any non-2xx answer.
+ * A non-2xx answer as `ApiError { status, code, message, details, retryAfter }`.
+ * A 401 for a token that was sent ends the session (`onUnauthorized`): every
+ * request path — JSON, files, images, uploads — comes through here.
  */
-export async function apiFetch<T>(path: string, options: ApiFetchOptions = {}): Promise<T> {
+export function answerError(status: number, data: unknown, retryAfter: string | null, o: AnswerErrorOptions): ApiError {
+  const err = asErrorBody(data);
+  const retry = Number(retryAfter);
+  const error = new ApiError(
+    status,
+    typeof err.code === 'string' ? err.code : `http_${status}`,
+    typeof err.message === 'string' && err.message ? err.message : (o.fallback?.(status) ?? STATUS_TEXT[status] ?? `Request failed (${status})`),
+    err.details,
+    retryAfter !== null && Number.isFinite(retry) && retry > 0 ? retry : undefined,
+  );
+  // A token that stops working (expired, logged out elsewhere) ends the session.
+  if (status === 401 && o.token && (o.authRedirect ?? true)) hooks.onUnauthorized();
+  return error;
+}
+
+export interface ApiRequestOptions extends Omit<ApiFetchOptions, 'body'> {
+  /** JSON (any value) or a ready body (FormData, Blob, URLSearchParams). */
+  body?: unknown;
+  headers?: Record<string, string>;
+  /** Message of a failed answer that carries none. */
+  fallback?: (status: number) => string | undefined;
+  /** Message when the server cannot be reached. */
+  networkMessage?: string;
+}
+
+const isRawBody = (b: unknown): b is BodyInit =>
+  (typeof FormData !== 'undefined' && b instanceof FormData) || (typeof Blob !== 'undefined' && b instanceof Blob) || b instanceof URLSearchParams;
+
+/**
+ * The one request path: adds the Bearer token, turns a failed connection into
+ * `ApiError(0, 'network_error')` and any non-2xx answer into `ApiError` (a
+ * 401 signs the person out). Resolves with the successful `Response`, body
+ * unread: for files and images (`.blob()`); JSON callers use `apiFetch`.
+ */
+export async function apiRequest(path: string, options: ApiRequestOptions = {}): Promise<Response> {
   const { method = 'GET', body, query, signal, authRedirect = true } = options;
-  const headers: Record<string, string> = { Accept: 'application/json' };
+  const headers: Record<string, string> = { Accept: 'application/json', ...(options.headers ?? {}) };
   const token = hooks.getToken();
   if (token) headers.Authorization = `Bearer ${token}`;
-  if (body !== undefined) headers['Content-Type'] = 'application/json';
+  const raw = body === undefined || isRawBody(body);
+  if (!raw) headers['Content-Type'] = 'application/json';
 
   let res: Response;
   try {
     res = await fetch(buildUrl(path, query), {
       method,
       headers,
-      body: body === undefined ? undefined : JSON.stringify(body),
+      body: body === undefined ? undefined : raw ? (body as BodyInit) : JSON.stringify(body),
       signal,
     });
   } catch (e) {
     if (e instanceof DOMException && e.name === 'AbortError') throw e;
-    throw new ApiError(0, 'network_error', 'Cannot reach the Cayline server. Check your connection and try again.');
+    throw new ApiError(0, 'network_error', options.networkMessage ?? NETWORK_MESSAGE);
   }
+  if (res.ok) return res;
+  throw answerError(res.status, await readBody(res), res.headers.get('retry-after'), { token, authRedirect, fallback: options.fallback });
+}
 
-  const data = await readBody(res);
-  if (res.ok) return data as T;
+/**
+ * The one JSON client: JSON in and out, Bearer token from the session,
+ * throws `ApiError { status, code, message, details }` on any non-2xx answer.
+ */
+export async function apiFetch<T>(path: string, options: ApiFetchOptions = {}): Promise<T> {
+  const res = await apiRequest(path, options);
+  return (await readBody(res)) as T;
+}
 
-  const err = asErrorBody(data);
-  const retryHeader = Number(res.headers.get('retry-after'));
-  const error = new ApiError(
-    res.status,
-    typeof err.code === 'string' ? err.code : `http_${res.status}`,
-    typeof err.message === 'string' && err.message ? err.message : (STATUS_TEXT[res.status] ?? `Request failed (${res.status})`),
-    err.details,
-    Number.isFinite(retryHeader) && retryHeader > 0 ? retryHeader : undefined,
-  );
-  // A token that stops working (expired, logged out elsewhere) ends the session.
-  if (res.status === 401 && token && authRedirect) hooks.onUnauthorized();
-  throw error;
+export interface UploadProgress {
+  loaded: number;
+  total: number;
+  /** 0..1 */
+  fraction: number;
+}
+
+export interface ApiUploadOptions {
+  method?: 'POST' | 'PUT';
+  onProgress?: (p: UploadProgress) => void;
+  signal?: AbortSignal;
+  fallback?: (status: number) => string | undefined;
+}
+
+/**
+ * A multipart upload with progress (XMLHttpRequest: fetch reports none), on
+ * the same terms as `apiRequest`: Bearer token, `ApiError` on failure, a 401
+ * signs the person out; aborting `signal` rejects with an `AbortError`.
+ */
+export function apiUpload<T>(path: string, form: FormData, options: ApiUploadOptions = {}): Promise<T> {
+  return new Promise<T>((resolve, reject) => {
+    const abortError = () => new DOMException('The upload was cancelled', 'AbortError');
+    if (options.signal?.aborted) {
+      reject(abortError());
+      return;
+    }
+    const xhr = new XMLHttpRequest();
+    xhr.open(options.method ?? 'POST', buildUrl(path));
+    xhr.setRequestHeader('Accept', 'application/json');
+    const token = hooks.getToken();
+    if (token) xhr.setRequestHeader('Authorization', `Bearer ${token}`);
+    xhr.upload.onprogress = (e) => {
+      const total = e.lengthComputable ? e.total : 0;
+      options.onProgress?.({ loaded: e.loaded, total, fraction: total > 0 ? Math.min(1, e.loaded / total) : 0 });
+    };
+    xhr.onload = () => {
+      let data: unknown = undefined;
+      const text = xhr.responseText;
+      if (text) {
+        try {
+          data = JSON.parse(text);
+        } catch {
+          data = text;
+        }
+      }
+      if (xhr.status >= 200 && xhr.status < 300) {
+        if (typeof data === 'string') reject(new ApiError(xhr.status, 'bad_response', 'The server answered the upload with something unreadable.'));
+        else resolve(data as T);
+        return;
+      }
+      reject(answerError(xhr.status, data, xhr.getResponseHeader('retry-after'), { token, fallback: options.fallback }));
+    };
+    xhr.onerror = () => reject(new ApiError(0, 'network_error', 'The upload was interrupted. Check your connection and try again.'));
+    xhr.onabort = () => reject(abortError());
+    options.signal?.addEventListener('abort', () => xhr.abort(), { once: true });
+    xhr.send(form);
+  });
 }

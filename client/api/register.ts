@@ -6,8 +6,7 @@
  */
 import type { BatchReportJob, Preferences, RegisterPage, RegisterQuery } from '../../shared/schemas/register';
 import type { LengthUnit } from '../../shared/units';
-import { useSessionStore } from '../stores/session';
-import { ApiError, apiFetch } from './http';
+import { apiFetch, apiRequest } from './http';
 
 export type RegisterParams = Partial<Omit<RegisterQuery, 'classification' | 'reviewState'>> & { classification?: string[]; reviewState?: string[] };
 
@@ -45,24 +44,11 @@ export async function fetchRegisterExport(
 ): Promise<{ blob: Blob; fileName: string }> {
   const { page: _page, pageSize: _size, ...filters } = params;
   const q = new URLSearchParams(Object.entries(queryOf(filters)).map(([k, v]) => [k, String(v)]));
-  const token = useSessionStore().token;
-  let res: Response;
-  try {
-    res = await fetch(`/api/projects/${projectId}/buildups/export.${format}${q.toString() ? `?${q}` : ''}`, {
-      headers: token ? { Authorization: `Bearer ${token}` } : {},
-    });
-  } catch {
-    throw new ApiError(0, 'network_error', 'Cannot reach the Cayline server.');
-  }
-  if (!res.ok) {
-    let body: { code?: string; message?: string; details?: unknown } = {};
-    try {
-      body = await res.json();
-    } catch {
-      /* not JSON */
-    }
-    throw new ApiError(res.status, body.code ?? `http_${res.status}`, body.message ?? `The export failed (${res.status})`, body.details);
-  }
+  const res = await apiRequest(`/api/projects/${projectId}/buildups/export.${format}${q.toString() ? `?${q}` : ''}`, {
+    headers: { Accept: '*/*' },
+    networkMessage: 'Cannot reach the Cayline server.',
+    fallback: (status) => `The export failed (${status})`,
+  });
   const m = /filename="([^"]+)"/.exec(res.headers.get('content-disposition') ?? '');
   return { blob: await res.blob(), fileName: m ? m[1] : `buildups.${format}` };
 }
@@ -78,14 +64,11 @@ export function getReportBatch(id: string, signal?: AbortSignal): Promise<BatchR
 
 /** The finished batch's archive. */
 export async function fetchReportBatchFile(id: string): Promise<{ blob: Blob; fileName: string }> {
-  const token = useSessionStore().token;
-  const res = await fetch(`/api/report-batches/${encodeURIComponent(id)}/file`, { headers: token ? { Authorization: `Bearer ${token}` } : {} }).catch(() => {
-    throw new ApiError(0, 'network_error', 'Cannot reach the Cayline server.');
+  const res = await apiRequest(`/api/report-batches/${encodeURIComponent(id)}/file`, {
+    headers: { Accept: '*/*' },
+    networkMessage: 'Cannot reach the Cayline server.',
+    fallback: (status) => `The download failed (${status})`,
   });
-  if (!res.ok) {
-    const body = (await res.json().catch(() => ({}))) as { code?: string; message?: string };
-    throw new ApiError(res.status, body.code ?? `http_${res.status}`, body.message ?? `The download failed (${res.status})`);
-  }
   const m = /filename="([^"]+)"/.exec(res.headers.get('content-disposition') ?? '');
   return { blob: await res.blob(), fileName: m ? m[1] : 'signed-off-reports.zip' };
 }

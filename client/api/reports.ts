@@ -5,8 +5,7 @@
  */
 import type { BuildupReport, ExportFormat, Paper } from '../../shared/report/report';
 import type { LengthUnit } from '../../shared/units';
-import { useSessionStore } from '../stores/session';
-import { ApiError, apiFetch } from './http';
+import { apiFetch, apiRequest } from './http';
 
 export interface ReportStatus {
   id: number;
@@ -61,23 +60,12 @@ export type ExportResult = { kind: 'file'; blob: Blob; fileName: string } | { ki
 
 /** Fetch an export: the file, or (202) the report job that is making it. */
 export async function fetchExport(buildupId: number, format: ExportFormat, choices: ReportChoices & { bom?: boolean } = {}): Promise<ExportResult> {
-  const token = useSessionStore().token;
-  let res: Response;
-  try {
-    res = await fetch(exportUrl(buildupId, format, choices), { headers: token ? { Authorization: `Bearer ${token}` } : {} });
-  } catch {
-    throw new ApiError(0, 'network_error', 'Cannot reach the Cayline server.');
-  }
+  const res = await apiRequest(exportUrl(buildupId, format, choices), {
+    headers: { Accept: '*/*' },
+    networkMessage: 'Cannot reach the Cayline server.',
+    fallback: (status) => `The export failed (${status})`,
+  });
   if (res.status === 202) return { kind: 'preparing', report: ((await res.json()) as { report: ReportStatus }).report };
-  if (!res.ok) {
-    let body: { code?: string; message?: string; details?: unknown } = {};
-    try {
-      body = await res.json();
-    } catch {
-      /* not JSON */
-    }
-    throw new ApiError(res.status, body.code ?? `http_${res.status}`, body.message ?? `The export failed (${res.status})`, body.details);
-  }
   return { kind: 'file', blob: await res.blob(), fileName: fileNameFrom(res.headers.get('Content-Disposition'), `export.${format}`) };
 }
 
@@ -95,8 +83,6 @@ export function saveBlob(blob: Blob, fileName: string): void {
 
 /** The section's preview (fits 2048 px) as an object URL for the report's crop; the caller revokes it. */
 export async function loadPreviewUrl(sectionId: number): Promise<string> {
-  const token = useSessionStore().token;
-  const res = await fetch(`/api/sections/${sectionId}/preview`, { headers: token ? { Authorization: `Bearer ${token}` } : {} });
-  if (!res.ok) throw new ApiError(res.status, `http_${res.status}`, `The section preview could not be loaded (${res.status})`);
+  const res = await apiRequest(`/api/sections/${sectionId}/preview`, { headers: { Accept: 'image/*' }, fallback: (status) => `The section preview could not be loaded (${status})` });
   return URL.createObjectURL(await res.blob());
 }

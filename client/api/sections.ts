@@ -1,12 +1,11 @@
 /**
  * Sections API: typed calls over the one JSON client (`apiFetch`), plus the
  * two things JSON cannot do:
- * - `uploadSection`: multipart upload through XMLHttpRequest, which reports
- *   upload progress (fetch does not);
+ * - `uploadSection`: multipart upload with progress (`apiUpload`);
  * - `loadSectionImage`: tiles, previews and thumbnails need the Bearer token,
- *   which a plain `<img src>` cannot send, so they are fetched here, decoded
- *   to an `ImageBitmap` and kept in a small LRU cache. This is the only place
- *   besides http.ts that calls `fetch`.
+ *   which a plain `<img src>` cannot send, so they are fetched through
+ *   `apiRequest` (a 401 signs the person out like any other call), decoded
+ *   to an `ImageBitmap` and kept in a small LRU cache.
  */
 import type { Page } from '../../shared/schemas/projects';
 import type {
@@ -21,8 +20,7 @@ import type {
   UpdateSectionInput,
 } from '../../shared/schemas/sections';
 import type { CalibrationFit } from '../../shared/measure/calibration';
-import { useSessionStore } from '../stores/session';
-import { ApiError, apiFetch, API_BASE } from './http';
+import { apiFetch, apiRequest, apiUpload, currentToken, type UploadProgress } from './http';
 
 export type { SectionDetail, SectionSummary, CalibrationRecord, CalibrationPreview } from '../../shared/schemas/sections';
 
@@ -79,92 +77,43 @@ export function listCalibrations(id: number): Promise<CalibrationRecord[]> {
 // ---------------------------------------------------------------------------
 // Upload with progress
 
-export interface UploadProgress {
-  loaded: number;
-  total: number;
-  /** 0..1 */
-  fraction: number;
-}
+export type { UploadProgress };
 
 export interface UploadOptions {
   onProgress?: (p: UploadProgress) => void;
   signal?: AbortSignal;
 }
 
-function bearer(): string | null {
-  return useSessionStore().token;
-}
-
-function errorFromXhr(xhr: XMLHttpRequest): ApiError {
-  let body: { code?: unknown; message?: unknown; details?: unknown } = {};
-  try {
-    body = JSON.parse(xhr.responseText || '{}');
-  } catch {
-    /* not JSON */
-  }
-  const status = xhr.status;
-  const fallback =
-    status === 413
-      ? 'The file is larger than the server accepts.'
-      : status === 401
-        ? 'Please sign in again'
-        : status === 403
-          ? 'You do not have permission to upload to this project'
-          : `The upload failed (${status})`;
-  return new ApiError(
-    status,
-    typeof body.code === 'string' ? body.code : `http_${status}`,
-    typeof body.message === 'string' && body.message ? body.message : fallback,
-    body.details,
-  );
-}
+const UPLOAD_FALLBACK = (status: number): string =>
+  status === 413
+    ? 'The file is larger than the server accepts.'
+    : status === 401
+      ? 'Please sign in again'
+      : status === 403
+        ? 'You do not have permission to upload to this project'
+        : `The upload failed (${status})`;
 
 /**
  * POST /api/projects/:projectId/sections as multipart (`image` + metadata
- * fields). Resolves with `{ id, status: 'processing' }` once the server has
- * the file; the tile pyramid is built afterwards (poll `getSection`).
+ * fields) through `apiUpload` (progress, token, errors, a 401 signs out).
+ * Resolves with `{ id, status: 'processing' }` once the server has the file;
+ * the tile pyramid is built afterwards (poll `getSection`).
  */
-export function uploadSection(projectId: number, fields: CreateSectionInput, file: File, options: UploadOptions = {}): Promise<SectionAccepted> {
+export async function uploadSection(projectId: number, fields: CreateSectionInput, file: File, options: UploadOptions = {}): Promise<SectionAccepted> {
   const form = new FormData();
   for (const [k, v] of Object.entries(fields)) {
     if (v === undefined || v === null || v === '') continue;
     form.append(k, String(v));
   }
   form.append('image', file, file.name);
-
-  return new Promise<SectionAccepted>((resolve, reject) => {
-    const xhr = new XMLHttpRequest();
-    xhr.open('POST', `${API_BASE}/projects/${projectId}/sections`);
-    xhr.setRequestHeader('Accept', 'application/json');
-    const token = bearer();
-    if (token) xhr.setRequestHeader('Authorization', `Bearer ${token}`);
-    xhr.upload.onprogress = (e) => {
-      const total = e.lengthComputable ? e.total : file.size;
-      options.onProgress?.({ loaded: e.loaded, total, fraction: total > 0 ? Math.min(1, e.loaded / total) : 0 });
-    };
-    xhr.onload = () => {
-      if (xhr.status >= 200 && xhr.status < 300) {
-        options.onProgress?.({ loaded: file.size, total: file.size, fraction: 1 });
-        try {
-          resolve(JSON.parse(xhr.responseText) as SectionAccepted);
-        } catch {
-          reject(new ApiError(xhr.status, 'bad_response', 'The server answered the upload with something unreadable.'));
-        }
-      } else {
-        reject(errorFromXhr(xhr));
-      }
-    };
-    xhr.onerror = () => reject(new ApiError(0, 'network_error', 'The upload was interrupted. Check your connection and try again.'));
-    xhr.onabort = () => reject(new DOMException('The upload was cancelled', 'AbortError'));
-    if (options.signal) {
-      if (options.signal.aborted) {
-        reject(new DOMException('The upload was cancelled', 'AbortError'));
-        return;
-      }
-      options.signal.addEventListener('abort', () => xhr.abort(), { once: true });
-    }
-    xhr.send(form);
+  const report = (loaded: number, total: number) => options.onProgress?.({ loaded, total, fraction: total > 0 ? Math.min(1, loaded / total) : 0 });
+  const accepted = await apiUpload<SectionAccepted>(`/projects/${projectId}/sections`, form, {
+    signal: options.signal,
+    fallback: UPLOAD_FALLBACK,
+    onProgress: (p) => report(p.loaded, p.total || file.size),
   });
+  report(file.size, file.size);
+  return accepted;
 }
 
 // ---------------------------------------------------------------------------
@@ -191,7 +140,7 @@ let cacheToken: string | null = null;
 
 /** Images fetched under another sign-in are not shown to this one: drop them when the token changes. */
 function forgetOtherSessions(): void {
-  const token = bearer();
+  const token = currentToken();
   if (token === cacheToken) return;
   cacheToken = token;
   clearSectionImageCache();
@@ -220,28 +169,13 @@ export function peekSectionImage(url: string): SectionBitmap | undefined {
 }
 
 async function fetchBitmap(url: string, signal: AbortSignal): Promise<SectionBitmap> {
-  const headers: Record<string, string> = {};
-  const token = bearer();
-  if (token) headers.Authorization = `Bearer ${token}`;
-  let res: Response;
-  try {
-    res = await fetch(url, { headers, signal });
-  } catch (e) {
-    if (e instanceof DOMException && e.name === 'AbortError') throw e;
-    throw new ApiError(0, 'network_error', 'Cannot reach the Cayline server to load the image.');
-  }
-  if (!res.ok) {
-    let code = `http_${res.status}`;
-    let msg = `The image could not be loaded (${res.status})`;
-    try {
-      const body = (await res.json()) as { code?: string; message?: string };
-      if (body.code) code = body.code;
-      if (body.message) msg = body.message;
-    } catch {
-      /* not JSON */
-    }
-    throw new ApiError(res.status, code, msg);
-  }
+  // Through the one request path: the token, the errors, and a 401 signs the person out.
+  const res = await apiRequest(url, {
+    signal,
+    headers: { Accept: 'image/*, application/json' },
+    networkMessage: 'Cannot reach the Cayline server to load the image.',
+    fallback: (status) => `The image could not be loaded (${status})`,
+  });
   const blob = await res.blob();
   return createImageBitmap(blob);
 }
