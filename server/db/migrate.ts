@@ -18,6 +18,18 @@ export function migrator(sequelize: Sequelize) {
   });
 }
 
+/** The advisory-lock key migrations hold (any constant no other code uses). */
+const MIGRATE_LOCK = 4_815_162_342;
+
+/**
+ * Apply pending migrations. Several processes may boot at once (web and worker
+ * processes on one database): each waits for a PostgreSQL advisory lock, held
+ * by a transaction on its own connection while umzug runs, so one migrates at
+ * a time and the others then find nothing left to do.
+ */
 export async function migrate(sequelize: Sequelize) {
-  return migrator(sequelize).up();
+  return sequelize.transaction(async (transaction) => {
+    await sequelize.query('SELECT pg_advisory_xact_lock(:k)', { replacements: { k: MIGRATE_LOCK }, transaction });
+    return migrator(sequelize).up();
+  });
 }

@@ -9,11 +9,13 @@ import * as c from '../controllers/auth.controller';
 import * as account from '../controllers/notification.controller';
 import { forgotPasswordSchema, setPasswordSchema } from '../../shared/schemas/account';
 import type { Config } from '../config';
+import { PgRateLimitStore } from '../middlewares/rate-limit-store';
 
 export function authRoutes(config: Config) {
   const limiter = rateLimit({
     windowMs: config.loginRateLimit.windowMs,
     limit: config.loginRateLimit.max,
+    store: new PgRateLimitStore('login:'), // counters shared by every web process (PostgreSQL)
     standardHeaders: 'draft-8',
     legacyHeaders: false,
     handler: (_req, _res, next) => next(new AppError(429, 'rate_limited', 'Too many sign-in attempts; wait a few minutes and try again')),
@@ -22,6 +24,7 @@ export function authRoutes(config: Config) {
   const forgotLimiter = rateLimit({
     windowMs: config.accountLinks.forgotRateLimit.windowMs,
     limit: config.accountLinks.forgotRateLimit.max,
+    store: new PgRateLimitStore('forgot:'),
     standardHeaders: 'draft-8',
     legacyHeaders: false,
     handler: (_req, _res, next) => next(new AppError(429, 'rate_limited', 'Too many password reset requests; wait a few minutes and try again')),
@@ -29,6 +32,7 @@ export function authRoutes(config: Config) {
   const linkLimiter = rateLimit({
     windowMs: config.loginRateLimit.windowMs,
     limit: config.loginRateLimit.max,
+    store: new PgRateLimitStore('link:'),
     standardHeaders: 'draft-8',
     legacyHeaders: false,
     handler: (_req, _res, next) => next(new AppError(429, 'rate_limited', 'Too many attempts; wait a few minutes and try again')),

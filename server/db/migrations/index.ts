@@ -17,6 +17,7 @@ import * as m0011 from './0011-analogues';
 import * as m0012 from './0012-segy';
 import * as m0013 from './0013-model-runs';
 import * as m0014 from './0014-depth-pyramids';
+import * as m0015 from './0015-rate-limits';
 
 export interface Migration {
   name: string;
@@ -39,4 +40,5 @@ export const migrations: Migration[] = [
   { name: '0012-segy', ...m0012 },
   { name: '0013-model-runs', ...m0013 },
   { name: '0014-depth-pyramids', ...m0014 },
+  { name: '0015-rate-limits', ...m0015 },
 ];
