@@ -9,6 +9,9 @@
  * ~200 invented demo analogues besides. Screenshots 60-… in tests/e2e/screenshots/.
  */
 import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import sharp from 'sharp';
 import type { Page } from 'playwright-core';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -298,10 +301,55 @@ describe('Analogue library in the browser', () => {
     expect(await page.textContent('[data-test="hand-entry-error"]')).toContain('basisVelocityMs');
     await page.fill('[data-test="hand-velocity"] input', '4200');
     await page.locator('[data-test="hand-velocity"] input').press('Tab');
+
+    // The profile traced on the publication's figure: an invented 600 × 300 px drawing of a mound on a flat base,
+    // distance scale 0–3000 m between u = 100 and u = 500, depth scale 1000–1400 m between v = 50 and v = 250.
+    const figure = path.join(fs.mkdtempSync(path.join(os.tmpdir(), 'cay-fig-')), 'quillon-figure.png');
+    await sharp(
+      Buffer.from(
+        `<svg xmlns="http://www.w3.org/2000/svg" width="600" height="300"><rect width="600" height="300" fill="#fff"/>` +
+          `<path d="M100 250 L500 250" stroke="#000" stroke-width="3"/><path d="M150 250 L300 110 L450 250" stroke="#444" stroke-width="3" fill="none"/>` +
+          `<path d="M100 290 v-10 M500 290 v-10 M10 50 h10 M10 250 h10" stroke="#000" stroke-width="2"/></svg>`,
+      ),
+    )
+      .png()
+      .toFile(figure);
+    await page.setInputFiles('[data-test="figure-file"]', figure);
+    const stage = page.locator('[data-test="figure-stage"] .konvajs-content');
+    await stage.waitFor();
+    // the figure is fitted into the 900 × 460 stage: scale 1.5, centred vertically (5 px margin)
+    const at = async (u: number, v: number) => {
+      await stage.scrollIntoViewIfNeeded();
+      const box = (await stage.boundingBox())!;
+      await page.mouse.click(box.x + u * 1.5, box.y + 5 + v * 1.5);
+    };
+    await at(100, 285);
+    await at(500, 285);
+    await page.fill('[data-test="figure-x1"] input', '0');
+    await page.fill('[data-test="figure-x2"] input', '3000');
+    await page.click('[data-test="figure-target-scale-z"]');
+    await at(15, 50);
+    await at(15, 250);
+    await page.fill('[data-test="figure-z1"] input', '1000');
+    await page.fill('[data-test="figure-z2"] input', '1400');
+    await page.click('[data-test="figure-target-base"]');
+    await at(100, 250);
+    await at(500, 250);
+    await page.click('[data-test="figure-add-top"]');
+    await at(150, 250);
+    await at(300, 110);
+    await at(300, 60); // a slip of the mouse, undone by keyboard
+    await page.keyboard.press('Control+z');
+    await at(450, 250);
+    await page.waitForSelector('[data-test="figure-profile-ready"]');
+    // crest at v = 110 → 1000 + 60/200 × 400 = 1120 m over a base at 1400 m: 280 m high, 3000 m across
+    expect(await page.textContent('[data-test="figure-profile-ready"]')).toContain('3,000 m across');
+    await page.locator('[data-test="figure-profile-ready"]').scrollIntoViewIfNeeded();
     await curatorBrowser.shot('68-library-hand-entry');
     await page.click('[data-test="hand-save"]');
     await page.waitForURL(/\/library\/\d+$/);
     expect(await page.textContent('[data-test="analogue-name"]')).toBe('Quillon Bank TB-P1');
+    expect(await page.textContent('[data-test="analogue-profile"]')).toContain('1 cycle top');
     expect(await page.textContent('[data-test="analogue-citation"]')).toContain('Arvane, T.; Selk, M. (2019)');
     expect(await page.textContent('[data-test="metric-heightM"]')).toContain('820');
   });
