@@ -16,6 +16,7 @@ import { mailSettled } from './services/notify.service';
 import { logger } from './logger';
 import { startBackgroundJobs } from './jobs/pyramid.job';
 import { closeMeasurePool } from './measure/pool';
+import { fileStoreFor } from './storage/fileStore';
 import { closeReportPdfThread } from './reports/pdf-thread';
 
 export interface Running {
@@ -44,13 +45,13 @@ export async function boot(opts: BootOptions): Promise<Running> {
   let smtpHost = process.env.SMTP_HOST;
   let smtpPort = config.mail.port;
   if (!smtpHost) {
-    sink = await startMailSink(path.join(config.storageDir, 'mail'), smtpPort, onSinkMessage);
+    sink = await startMailSink(path.join(config.storageDir, 'mail'), smtpPort, onSinkMessage, fileStoreFor(config.storageDir));
     smtpHost = '127.0.0.1';
     smtpPort = sink.port;
   }
   const mailer = createMailer({ host: smtpHost, port: smtpPort, from: config.mail.from });
   const app = createApp({ config, sequelize, mailer });
-  if (sink) await importSinkBacklog(sink.dir);
+  if (sink) await importSinkBacklog(fileStoreFor(config.storageDir));
   const jobs = await startBackgroundJobs({ databaseUrl: opts.databaseUrl, config, sequelize });
   if (opts.afterMigrate) await opts.afterMigrate({ sequelize, config });
 

@@ -13,6 +13,7 @@ import { MailMessage } from '../models/notification';
 import { logger } from '../logger';
 import { notFound } from '../errors';
 import type { ReceivedMail } from './sink';
+import type { FileStore } from '../storage/fileStore';
 import type { OutboxMessage, OutboxPage, OutboxSummary } from '../../shared/schemas/notifications';
 
 /** http(s) links in plain text, without trailing punctuation of the sentence around them. */
@@ -56,18 +57,40 @@ export async function onSinkMessage(m: ReceivedMail): Promise<void> {
   }
 }
 
-/** Import sink files that are not in the Outbox yet (received time: the file's). */
-export async function importSinkBacklog(dir: string): Promise<number> {
-  if (!fs.existsSync(dir)) return 0;
-  const files = fs.readdirSync(dir).filter((f) => f.endsWith('.eml'));
+async function readAll(stream: NodeJS.ReadableStream): Promise<Buffer> {
+  const chunks: Buffer[] = [];
+  for await (const c of stream) chunks.push(c as Buffer);
+  return Buffer.concat(chunks);
+}
+
+/**
+ * Import sink files that are not in the Outbox yet (received time: the
+ * file's): from a folder, or from the file store's `mail/` (where the sink
+ * keeps them when it has a store).
+ */
+export async function importSinkBacklog(from: string | FileStore): Promise<number> {
+  const listed =
+    typeof from === 'string'
+      ? fs.existsSync(from)
+        ? fs.readdirSync(from).map((f) => ({ name: f, modifiedAt: () => fs.statSync(path.join(from, f)).mtime }))
+        : []
+      : (await from.list('mail')).map((e) => ({ name: e.name, modifiedAt: () => e.modifiedAt }));
+  const entries = listed.filter((e) => e.name.endsWith('.eml'));
+  const files = entries.map((e) => e.name);
   if (!files.length) return 0;
   const known = new Set((await MailMessage.findAll({ attributes: ['file'], where: { file: files } })).map((r) => r.file));
   let n = 0;
-  for (const file of files) {
+  for (const { name: file, modifiedAt } of entries) {
     if (known.has(file)) continue;
     try {
-      const p = path.join(dir, file);
-      await storeReceivedMail({ file, raw: fs.readFileSync(p), envelopeTo: [] }, fs.statSync(p).mtime);
+      let raw: Buffer;
+      if (typeof from === 'string') raw = fs.readFileSync(path.join(from, file));
+      else {
+        const obj = await from.get(`mail/${file}`);
+        if (!obj) continue; // removed meanwhile
+        raw = await readAll(obj.stream);
+      }
+      await storeReceivedMail({ file, raw, envelopeTo: [] }, modifiedAt());
       n++;
     } catch (err) {
       logger.warn({ err, file }, 'a mail file could not be imported into the Outbox');

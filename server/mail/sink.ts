@@ -6,12 +6,15 @@
  * before the SMTP answer, so a sent message is readable at /api/admin/mail as
  * soon as the send returns. Messages hold single-use account links, so the
  * folder is 0700 and each file 0600 (written to a temporary name, then renamed
- * into place).
+ * into place). Given a file store, the files are kept through it under
+ * `mail/<name>.eml` instead (the local driver writes the same private files in
+ * `<storage>/mail`; the S3 driver keeps them in the shared bucket).
  */
 import fs from 'node:fs';
 import path from 'node:path';
 import crypto from 'node:crypto';
 import { SMTPServer } from 'smtp-server';
+import type { FileStore } from '../storage/fileStore';
 
 export interface MailSink {
   port: number;
@@ -36,7 +39,7 @@ export interface ReceivedMail {
   envelopeTo: string[];
 }
 
-export function startMailSink(dir: string, port = 0, onMessage?: (m: ReceivedMail) => Promise<void>): Promise<MailSink> {
+export function startMailSink(dir: string, port = 0, onMessage?: (m: ReceivedMail) => Promise<void>, store?: FileStore): Promise<MailSink> {
   tightenSink(dir);
   const server = new SMTPServer({
     authOptional: true,
@@ -47,22 +50,28 @@ export function startMailSink(dir: string, port = 0, onMessage?: (m: ReceivedMai
       stream.on('data', (c: Buffer) => chunks.push(c));
       stream.on('end', () => {
         const name = `${new Date().toISOString().replace(/[:.]/g, '-')}-${crypto.randomBytes(4).toString('hex')}.eml`;
-        const tmp = path.join(dir, `.${name}.part`);
         const raw = Buffer.concat(chunks);
-        try {
-          // 'wx': never reuse or follow an existing file; the mode is set at creation, before any byte is written.
-          fs.writeFileSync(tmp, raw, { mode: 0o600, flag: 'wx' });
-          fs.renameSync(tmp, path.join(dir, name));
-        } catch (err) {
-          fs.rmSync(tmp, { force: true });
-          callback(err as Error);
-          return;
-        }
-        // the file is kept whatever happens next; a failed hand-over is the hook's to log
+        const keep = async () => {
+          if (store) return store.put(`mail/${name}`, raw, { private: true });
+          const tmp = path.join(dir, `.${name}.part`);
+          try {
+            // 'wx': never reuse or follow an existing file; the mode is set at creation, before any byte is written.
+            fs.writeFileSync(tmp, raw, { mode: 0o600, flag: 'wx' });
+            fs.renameSync(tmp, path.join(dir, name));
+          } catch (err) {
+            fs.rmSync(tmp, { force: true });
+            throw err;
+          }
+        };
         const envelopeTo = session.envelope.rcptTo.map((r) => r.address);
-        Promise.resolve(onMessage?.({ file: name, raw, envelopeTo })).then(
-          () => callback(),
-          () => callback(),
+        keep().then(
+          // the file is kept whatever happens next; a failed hand-over is the hook's to log
+          () =>
+            Promise.resolve(onMessage?.({ file: name, raw, envelopeTo })).then(
+              () => callback(),
+              () => callback(),
+            ),
+          (err: Error) => callback(err),
         );
       });
     },

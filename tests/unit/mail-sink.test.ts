@@ -5,6 +5,8 @@ import path from 'node:path';
 import nodemailer from 'nodemailer';
 import { afterEach, describe, expect, it } from 'vitest';
 import { readSink, startMailSink, type MailSink } from '../../server/mail/sink';
+import { createFileStore } from '../../server/storage/fileStore';
+import { startS3Fake } from '../helpers/s3-fake';
 
 let sink: MailSink | null = null;
 let dir = '';
@@ -66,5 +68,37 @@ describe('mail sink', () => {
     sink = await startMailSink(mailDir);
     expect(mode(mailDir)).toBe(0o700);
     expect(mode(old)).toBe(0o600);
+  });
+
+  it('keeps messages through the file store: private files with the local driver, objects in the bucket with S3', async () => {
+    dir = fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-sink-'));
+    const mailDir = path.join(dir, 'mail');
+    const local = createFileStore(dir, { driver: 'local' });
+    sink = await startMailSink(mailDir, 0, undefined, local);
+    await sendOne(sink.port, 'new.hand@tessel.example');
+    const files = fs.readdirSync(mailDir);
+    expect(files).toHaveLength(1); // no temporary file left behind
+    expect(mode(path.join(mailDir, files[0]))).toBe(0o600);
+    expect(mode(mailDir)).toBe(0o700);
+    expect((await local.list('mail')).map((e) => e.name)).toEqual(files);
+    await sink.close();
+
+    const fake = await startS3Fake();
+    try {
+      const s3 = createFileStore(dir, fake.settings);
+      sink = await startMailSink(path.join(dir, 'mail-s3'), 0, undefined, s3);
+      await sendOne(sink.port, 'other.hand@tessel.example');
+      const kept = await s3.list('mail');
+      expect(kept).toHaveLength(1);
+      expect(fs.readdirSync(path.join(dir, 'mail-s3'))).toEqual([]); // nothing on this machine's disk
+      const obj = await s3.get(`mail/${kept[0].name}`);
+      const chunks: Buffer[] = [];
+      for await (const c of obj!.stream) chunks.push(c as Buffer);
+      expect(Buffer.concat(chunks).toString('utf8')).toContain('To: other.hand@tessel.example');
+    } finally {
+      await sink?.close();
+      sink = null;
+      await fake.close();
+    }
   });
 });
