@@ -334,9 +334,9 @@ export function integrateProfile(env: Envelope, baseXs: ArrayLike<number>, baseZ
         const hb = sz0 + (b - sx0) * slope - (z0 + (b - x0) * dz);
         if (a < xc && xc < b) {
           const hc = sz0 + (xc - sx0) * slope - (z0 + (xc - x0) * dz);
-          addTrap(acc, a, xc, ha, hc, xc);
-          addTrap(acc, xc, b, hc, hb, xc);
-        } else addTrap(acc, a, b, ha, hb, xc);
+          addTrapezoid(acc, a, xc, ha, hc, xc);
+          addTrapezoid(acc, xc, b, hc, hb, xc);
+        } else addTrapezoid(acc, a, b, ha, hb, xc);
       }
       if (!atBase) break;
       a = b;
@@ -346,8 +346,13 @@ export function integrateProfile(env: Envelope, baseXs: ArrayLike<number>, baseZ
   return { area: acc[0] + acc[1], areaLeft: acc[0], areaRight: acc[1], momentLeft: acc[2], momentRight: acc[3] };
 }
 
-/** Add the positive part of a trapezoid with linear height ha → hb over [a, b] to the left or right accumulators. */
-function addTrap(acc: Float64Array, a: number, b: number, ha: number, hb: number, xc: number): void {
+/**
+ * Add the positive part of a trapezoid with linear height ha → hb over [a, b]
+ * to the left or right accumulators (areaLeft, areaRight, momentLeft,
+ * momentRight; first moments about xc, both positive). Also used per draw by
+ * the linearised Monte Carlo (linear-ranges.ts).
+ */
+export function addTrapezoid(acc: Float64Array, a: number, b: number, ha: number, hb: number, xc: number): void {
   if (!(b > a)) return;
   if (ha <= 0 && hb <= 0) return;
   if (ha < 0) { a = a + ((b - a) * -ha) / (hb - ha); ha = 0; }

@@ -1,3 +1,4 @@
+// Over 500 lines: five named phases of one sampler whose hot loops (the sweep's pruning, the complex intervals) stay whole for speed; its flanks are in linear-flanks.ts.
 /**
  * Fast Monte Carlo sampler for one buildup, exploiting that every velocity
  * model of measurement-spec §3 is linear in its velocities: a vertex's
@@ -20,37 +21,19 @@
  * Exactness: in exact arithmetic the result equals the direct recomputation
  * (tests compare the two); if the model turns out not to be linear within
  * 1e-9 relative, the caller falls back to the direct sampler.
+ *
+ * Phases, each a named function below: `vertexCoefficients` (C_k of every
+ * vertex, with the linearity check), `crestCandidates`, `sweepIntervals`
+ * (the engine's envelope plan, pruned per interval into linear sums and
+ * complex intervals), then per draw `crestAndHeight`, `complexIntervalArea`
+ * (the engine's trapezoid rule, envelope.ts `addTrapezoid`) and
+ * `flankAngleOfDraw` (the engine's resampling and regression, flank.ts).
  */
-import { FLANK_SAMPLES } from './flank';
-import { DEG, segmentIndex } from './geometry';
-import { piecesOf, planEnvelope } from './envelope';
+import { flankAngleOfDraw, flankScratch } from './linear-flanks';
+import { segmentIndex } from './geometry';
+import { addTrapezoid, piecesOf, planEnvelope, type EnvelopePlan } from './envelope';
 import type { PreparedBuildup } from './prepare';
-import { isRange, makeTwtToDepth, resolveVelocityModel, type Range, type Speed, type VelocityModel } from './velocity';
-
-export interface VelocityParam {
-  path: string;
-  min: number;
-  mode: number;
-  max: number;
-  range: Range | null;
-}
-
-/** The velocities of a model in resolve order (fixed values have min = mode = max). */
-export function velocityParams(model: VelocityModel): VelocityParam[] {
-  const out: VelocityParam[] = [];
-  resolveVelocityModel(model, (s: Speed, path) => {
-    if (isRange(s)) out.push({ path, min: s.min, mode: s.mode, max: s.max, range: s });
-    else out.push({ path, min: s, mode: s, max: s, range: null });
-    return 0;
-  });
-  return out;
-}
-
-/** The model with its velocities taken from a vector (resolve order). */
-export function modelFromVector(model: VelocityModel, v: ArrayLike<number>) {
-  let i = 0;
-  return resolveVelocityModel(model, () => v[i++]);
-}
+import { makeTwtToDepth, modelFromVector, velocityParams, type VelocityModel } from './velocity';
 
 export interface LinearDraw {
   heightM: number;
@@ -82,67 +65,115 @@ export interface LinearSampler {
   complexIntervals: number;
 }
 
-/** Build the fast sampler, or null if the model is not linear in its velocities for this geometry. */
-export function linearSamplerFor(b: PreparedBuildup, model: VelocityModel): LinearSampler | null {
+// ---------------------------------------------------------------------------
+// phase 1: depth coefficients of every vertex
+
+/** z = Σ_k V_k · C[row·K + k] for every envelope-source vertex (C) and base vertex (CB). */
+interface Coefficients {
+  K: number;
+  lo: Float64Array;
+  hi: Float64Array;
+  mode: Float64Array;
+  C: Float64Array;
+  CB: Float64Array;
+  plan: EnvelopePlan;
+}
+
+/**
+ * Coefficients of one surface's vertices into `out` from row `row0`, each
+ * checked against the direct conversion at the modes; false when the model
+ * is not linear there (1e-9 relative).
+ */
+function surfaceCoefficients(
+  ys: ArrayLike<number>,
+  te: ArrayLike<number> | null,
+  convs: ((t: number, te: number) => number)[],
+  mode: Float64Array,
+  convMode: (t: number, te: number) => number,
+  out: Float64Array,
+  row0: number,
+): boolean {
+  const K = convs.length;
+  for (let i = 0; i < ys.length; i++) {
+    const tei = te ? te[i] : NaN;
+    const row = (row0 + i) * K;
+    let z = 0;
+    for (let k = 0; k < K; k++) {
+      out[row + k] = convs[k](ys[i], tei);
+      z += mode[k] * out[row + k];
+    }
+    const zd = convMode(ys[i], tei);
+    if (!(Math.abs(z - zd) <= 1e-9 * Math.max(1, Math.abs(zd)))) return false;
+  }
+  return true;
+}
+
+function vertexCoefficients(b: PreparedBuildup, model: VelocityModel): Coefficients | null {
   const params = velocityParams(model);
   const K = params.length;
   const lo = Float64Array.from(params, (p) => p.min);
   const hi = Float64Array.from(params, (p) => p.max);
   const mode = Float64Array.from(params, (p) => p.mode);
+  // conversion with velocity k set to 1 and the others to 0: the coefficient C_k
   const convs = params.map((_, k) => makeTwtToDepth(modelFromVector(model, params.map((__, j) => (j === k ? 1 : 0)))));
   const convMode = makeTwtToDepth(modelFromVector(model, mode));
   const sources = b.sources;
-  const ns = sources.length;
-  const plan = planEnvelope(piecesOf(sources), (s) => sources[s].xs, ns, b.base.xs);
-  const { xs, g0, g1, off, srcOff, a: ea, b: eb, w: ew, order } = plan;
-  const total = srcOff[ns];
-
-  // vertex coefficients, checked against the direct conversion at the modes
-  const C = new Float64Array(total * K);
-  for (let s = 0; s < ns; s++) {
-    const sf = sources[s];
-    for (let i = 0; i < sf.ys.length; i++) {
-      const te = sf.te ? sf.te[i] : NaN;
-      const row = (srcOff[s] + i) * K;
-      let z = 0;
-      for (let k = 0; k < K; k++) {
-        C[row + k] = convs[k](sf.ys[i], te);
-        z += mode[k] * C[row + k];
-      }
-      const zd = convMode(sf.ys[i], te);
-      if (!(Math.abs(z - zd) <= 1e-9 * Math.max(1, Math.abs(zd)))) return null;
-    }
+  const plan = planEnvelope(piecesOf(sources), (s) => sources[s].xs, sources.length, b.base.xs);
+  const C = new Float64Array(plan.srcOff[sources.length] * K);
+  for (let s = 0; s < sources.length; s++) {
+    if (!surfaceCoefficients(sources[s].ys, sources[s].te, convs, mode, convMode, C, plan.srcOff[s])) return null;
   }
-  const nb = b.base.ys.length;
-  const CB = new Float64Array(nb * K);
-  for (let i = 0; i < nb; i++) {
-    const te = b.base.te ? b.base.te[i] : NaN;
-    let z = 0;
-    for (let k = 0; k < K; k++) {
-      CB[i * K + k] = convs[k](b.base.ys[i], te);
-      z += mode[k] * CB[i * K + k];
-    }
-    const zd = convMode(b.base.ys[i], te);
-    if (!(Math.abs(z - zd) <= 1e-9 * Math.max(1, Math.abs(zd)))) return null;
-  }
+  const CB = new Float64Array(b.base.ys.length * K);
+  if (!surfaceCoefficients(b.base.ys, b.base.te, convs, mode, convMode, CB, 0)) return null;
+  return { K, lo, hi, mode, C, CB, plan };
+}
 
-  const minBox = (d: Float64Array, o = 0) => {
-    let s = 0;
-    for (let k = 0; k < K; k++) { const v = d[o + k]; s += v >= 0 ? v * lo[k] : v * hi[k]; }
-    return s;
+/** Smallest and largest value of the linear form d·V over the box lo ≤ V ≤ hi (corner-wise). */
+function boxBounds(lo: Float64Array, hi: Float64Array) {
+  const K = lo.length;
+  return {
+    min(d: Float64Array, o = 0) {
+      let s = 0;
+      for (let k = 0; k < K; k++) { const v = d[o + k]; s += v >= 0 ? v * lo[k] : v * hi[k]; }
+      return s;
+    },
+    max(d: Float64Array, o = 0) {
+      let s = 0;
+      for (let k = 0; k < K; k++) { const v = d[o + k]; s += v >= 0 ? v * hi[k] : v * lo[k]; }
+      return s;
+    },
   };
-  const maxBox = (d: Float64Array, o = 0) => {
-    let s = 0;
-    for (let k = 0; k < K; k++) { const v = d[o + k]; s += v >= 0 ? v * hi[k] : v * lo[k]; }
-    return s;
-  };
+}
+type Box = ReturnType<typeof boxBounds>;
+
+const dot = (arr: Float64Array, o: number, V: Float64Array, K: number) => {
+  let s = 0;
+  for (let k = 0; k < K; k++) s += arr[o + k] * V[k];
+  return s;
+};
+
+// ---------------------------------------------------------------------------
+// phase 2: crest candidates
+
+/** Vertices of the youngest top that can be the shallowest for some velocity set. */
+interface CrestCandidates {
+  /** Row offsets (vertex · K) in C, x and per-draw depth scratch. */
+  rows: Int32Array;
+  x: Float64Array;
+  z: Float64Array;
+  /** x range of the candidates: intervals outside it are wholly left or right of any crest. */
+  xMin: number;
+  xMax: number;
+  /** Crest x at the modes: the reference of the linear first moments. */
+  xref: number;
+}
+
+function crestCandidates(b: PreparedBuildup, co: Coefficients, box: Box): CrestCandidates {
+  const { K, C, mode, plan } = co;
   const tmp = new Float64Array(K);
-
-  // crest candidates: vertices of the youngest top not strictly deeper than the mode crest for every velocity set
-  const n = b.tops.length;
-  const ys = sources.indexOf(b.tops[n - 1]);
-  const yOff = srcOff[ys];
-  const yN = srcOff[ys + 1] - yOff;
+  const ys = b.sources.indexOf(b.tops[b.tops.length - 1]);
+  const yOff = plan.srcOff[ys];
+  const yN = plan.srcOff[ys + 1] - yOff;
   let c0 = 0;
   let c0z = Infinity;
   for (let i = 0; i < yN; i++) {
@@ -150,21 +181,59 @@ export function linearSamplerFor(b: PreparedBuildup, model: VelocityModel): Line
     for (let k = 0; k < K; k++) z += mode[k] * C[(yOff + i) * K + k];
     if (z < c0z) { c0z = z; c0 = i; }
   }
-  const crestIdx: number[] = [];
+  // keep the vertices not strictly deeper than the mode crest for every velocity set
+  const idx: number[] = [];
   for (let i = 0; i < yN; i++) {
     for (let k = 0; k < K; k++) tmp[k] = C[(yOff + i) * K + k] - C[(yOff + c0) * K + k];
-    if (!(minBox(tmp) > 0)) crestIdx.push(i);
+    if (!(box.min(tmp) > 0)) idx.push(i);
   }
-  const youngXs = sources[ys].xs;
-  let xcMin = Infinity;
-  let xcMax = -Infinity;
-  for (const i of crestIdx) { xcMin = Math.min(xcMin, youngXs[i]); xcMax = Math.max(xcMax, youngXs[i]); }
-  const xref = youngXs[c0];
-  const crestRows = Int32Array.from(crestIdx, (i) => (yOff + i) * K);
-  const crestX = Float64Array.from(crestIdx, (i) => youngXs[i]);
-  const crestZ = new Float64Array(crestIdx.length);
+  const youngXs = b.sources[ys].xs;
+  let xMin = Infinity;
+  let xMax = -Infinity;
+  for (const i of idx) { xMin = Math.min(xMin, youngXs[i]); xMax = Math.max(xMax, youngXs[i]); }
+  return {
+    rows: Int32Array.from(idx, (i) => (yOff + i) * K),
+    x: Float64Array.from(idx, (i) => youngXs[i]),
+    z: new Float64Array(idx.length),
+    xMin,
+    xMax,
+    xref: youngXs[c0],
+  };
+}
 
-  // sweep: linear sums for simple intervals, stored coefficients for complex ones
+// ---------------------------------------------------------------------------
+// phase 3: the envelope sweep, per grid interval
+
+/**
+ * Linear area and first-moment sums (about `xref`) of the simple intervals
+ * left and right of every possible crest, and the complex intervals: x pair,
+ * candidate count, then base coefficients at both ends and each candidate
+ * piece's coefficients at both ends.
+ */
+interface IntervalSums {
+  aL: Float64Array;
+  mL: Float64Array;
+  aR: Float64Array;
+  mR: Float64Array;
+  cxXs: Float64Array;
+  cxN: Int32Array;
+  cxC: Float64Array;
+  maxCandidates: number;
+}
+
+/**
+ * Walk the grid of the engine's envelope plan. Per interval: the base
+ * coefficients at both ends, each active piece's coefficients at both ends;
+ * drop a piece another is at least as shallow as at both ends for every
+ * velocity set; with one piece left and the base below it for every set, add
+ * the interval's area and moment to the linear sums; otherwise keep it as a
+ * complex interval, evaluated per draw.
+ */
+function sweepIntervals(b: PreparedBuildup, co: Coefficients, crest: CrestCandidates, box: Box): IntervalSums {
+  const { K, C, CB, mode, plan } = co;
+  const { xs, g0, g1, off, a: ea, b: eb, w: ew, order } = plan;
+  const { xMin: xcMin, xMax: xcMax, xref } = crest;
+  const tmp = new Float64Array(K);
   const aL = new Float64Array(K), mL = new Float64Array(K), aR = new Float64Array(K), mR = new Float64Array(K);
   const np = g0.length;
   const active = new Int32Array(np);
@@ -180,12 +249,13 @@ export function linearSamplerFor(b: PreparedBuildup, model: VelocityModel): Line
   const cxCount: number[] = [];
   const cxCoef: number[] = []; // per complex interval: BL, BR, then per candidate TL, TR
   const bx = b.base.xs;
+  const nb = bx.length;
   let bi = 0;
   const dominatedBoth = (p: number, q: number) => {
     for (let k = 0; k < K; k++) tmp[k] = TL[p * K + k] - TL[q * K + k];
-    if (!(minBox(tmp) >= 0)) return false;
+    if (!(box.min(tmp) >= 0)) return false;
     for (let k = 0; k < K; k++) tmp[k] = TR[p * K + k] - TR[q * K + k];
-    return minBox(tmp) >= 0;
+    return box.min(tmp) >= 0;
   };
   for (let j = 0; j < xs.length - 1; j++) {
     let m = 0;
@@ -216,6 +286,7 @@ export function linearSamplerFor(b: PreparedBuildup, model: VelocityModel): Line
         BR[k] = c0k + tb * d;
       }
     }
+    // active pieces at both ends; the shallowest at the modes on each side
     let qL = -1, qR = -1;
     for (let t = 0; t < na; t++) {
       const p = active[t];
@@ -250,8 +321,8 @@ export function linearSamplerFor(b: PreparedBuildup, model: VelocityModel): Line
     let simple = false;
     if (count === 1) {
       for (let k = 0; k < K; k++) { HL[k] = BL[k] - TL[only * K + k]; HR[k] = BR[k] - TR[only * K + k]; }
-      if (maxBox(HL) <= 0 && maxBox(HR) <= 0) continue; // base never below the envelope here: no area
-      if (minBox(HL) >= 0 && minBox(HR) >= 0 && (xb <= xcMin || xa >= xcMax)) {
+      if (box.max(HL) <= 0 && box.max(HR) <= 0) continue; // base never below the envelope here: no area
+      if (box.min(HL) >= 0 && box.min(HR) >= 0 && (xb <= xcMin || xa >= xcMax)) {
         simple = true;
         const d = xb - xa;
         const pa = xa - xref;
@@ -277,120 +348,150 @@ export function linearSamplerFor(b: PreparedBuildup, model: VelocityModel): Line
       }
     }
   }
-  const cxXs = Float64Array.from(cxX);
-  const cxN = Int32Array.from(cxCount);
-  const cxC = Float64Array.from(cxCoef);
-  const maxCand = cxCount.reduce((x, y) => Math.max(x, y), 1);
-  const cl = new Float64Array(maxCand);
-  const cr = new Float64Array(maxCand);
-  const flankSrc = [...b.flanksL, ...b.flanksR].map((f) => (f ? sources.indexOf(f) : -1));
-  const flanks = flankSrc.map((s) => (s >= 0 ? flankScratch(sources[s].xs, C, srcOff[s], K) : null));
-  const acc = new Float64Array(4);
-  const dot = (arr: Float64Array, o: number, V: Float64Array) => {
-    let s = 0;
-    for (let k = 0; k < K; k++) s += arr[o + k] * V[k];
-    return s;
+  return {
+    aL, mL, aR, mR,
+    cxXs: Float64Array.from(cxX),
+    cxN: Int32Array.from(cxCount),
+    cxC: Float64Array.from(cxCoef),
+    maxCandidates: cxCount.reduce((x, y) => Math.max(x, y), 1),
   };
-  const addTrap = (a: number, bb: number, ha: number, hb: number, xc: number) => {
-    if (!(bb > a) || (ha <= 0 && hb <= 0)) return;
-    if (ha < 0) { a = a + ((bb - a) * -ha) / (hb - ha); ha = 0; }
-    else if (hb < 0) { bb = a + ((bb - a) * ha) / (ha - hb); hb = 0; }
-    const d = bb - a;
-    const area = ((ha + hb) / 2) * d;
-    const mom = (d / 6) * ((a - xref) * (2 * ha + hb) + (bb - xref) * (ha + 2 * hb));
-    if (bb <= xc) { acc[0] += area; acc[2] += mom; }
-    else { acc[1] += area; acc[3] += mom; }
-  };
+}
 
-  /** `interpolateAt(base xs, base depths, x)`, forming only the depths it reads. */
-  const baseAt = (x: number, V: Float64Array) => {
-    if (x <= bx[0]) {
-      if (x < bx[0]) return dot(CB, 0, V);
-      let i = 0;
-      while (i + 1 < nb && bx[i + 1] === bx[0]) i++;
-      return dot(CB, i * K, V);
-    }
-    if (x >= bx[nb - 1]) return dot(CB, (nb - 1) * K, V);
-    const i = segmentIndex(bx, x);
-    const x0 = bx[i];
-    const x1 = bx[i + 1];
-    if (x1 === x0) return dot(CB, (i + 1) * K, V);
-    const w = (x - x0) / (x1 - x0);
-    const z0 = dot(CB, i * K, V);
-    return z0 + w * (dot(CB, (i + 1) * K, V) - z0);
-  };
+// ---------------------------------------------------------------------------
+// per draw: crest and height, complex intervals
 
-  const core = (V: Float64Array, out: { heightM: number; areaM2: number; volumeM3: number }) => {
-    // crest
-    let zmin = Infinity;
-    for (let c = 0; c < crestRows.length; c++) { const z = dot(C, crestRows[c], V); crestZ[c] = z; if (z < zmin) zmin = z; }
-    const eps = 1e-9 * Math.abs(zmin); // same rule as crestOf (buildup.ts)
-    let xlo = Infinity, xhi = -Infinity;
-    for (let c = 0; c < crestRows.length; c++) {
-      if (crestZ[c] <= zmin + eps) { if (crestX[c] < xlo) xlo = crestX[c]; if (crestX[c] > xhi) xhi = crestX[c]; }
-    }
-    const xc = (xlo + xhi) / 2;
-    out.heightM = baseAt(xc, V) - zmin;
-    // area and moments: linear sums plus complex intervals
-    acc[0] = dot(aL, 0, V); acc[1] = dot(aR, 0, V); acc[2] = dot(mL, 0, V); acc[3] = dot(mR, 0, V);
-    let o = 0;
-    for (let q = 0; q < cxN.length; q++) {
-      const xa = cxXs[2 * q];
-      const xb = cxXs[2 * q + 1];
-      const bl = dot(cxC, o, V);
-      const br = dot(cxC, o + K, V);
+/** Crest depth and x for velocities V (the same rule as crestOf in buildup.ts). */
+function crestOfDraw(co: Coefficients, crest: CrestCandidates, V: Float64Array): { zmin: number; xc: number } {
+  const { K, C } = co;
+  const { rows, x, z } = crest;
+  let zmin = Infinity;
+  for (let c = 0; c < rows.length; c++) { const zc = dot(C, rows[c], V, K); z[c] = zc; if (zc < zmin) zmin = zc; }
+  const eps = 1e-9 * Math.abs(zmin);
+  let xlo = Infinity, xhi = -Infinity;
+  for (let c = 0; c < rows.length; c++) {
+    if (z[c] <= zmin + eps) { if (x[c] < xlo) xlo = x[c]; if (x[c] > xhi) xhi = x[c]; }
+  }
+  return { zmin, xc: (xlo + xhi) / 2 };
+}
+
+/** Base depth at x for velocities V: `interpolateAt(base xs, base depths, x)`, forming only the depths it reads. */
+function baseDepthAt(bx: Float64Array, co: Coefficients, x: number, V: Float64Array): number {
+  const { K, CB } = co;
+  const nb = bx.length;
+  if (x <= bx[0]) {
+    if (x < bx[0]) return dot(CB, 0, V, K);
+    let i = 0;
+    while (i + 1 < nb && bx[i + 1] === bx[0]) i++;
+    return dot(CB, i * K, V, K);
+  }
+  if (x >= bx[nb - 1]) return dot(CB, (nb - 1) * K, V, K);
+  const i = segmentIndex(bx, x);
+  const x0 = bx[i];
+  const x1 = bx[i + 1];
+  if (x1 === x0) return dot(CB, (i + 1) * K, V, K);
+  const w = (x - x0) / (x1 - x0);
+  const z0 = dot(CB, i * K, V, K);
+  return z0 + w * (dot(CB, (i + 1) * K, V, K) - z0);
+}
+
+/**
+ * Area and first moments about xc of the complex intervals for velocities V,
+ * added into acc (areaLeft, areaRight, momentLeft, momentRight) by the
+ * engine's trapezoid rule: per interval, the lower envelope of the candidate
+ * pieces (straight lines on [xa, xb]) against the straight base.
+ */
+function complexIntervalArea(sums: IntervalSums, K: number, V: Float64Array, xc: number, cl: Float64Array, cr: Float64Array, acc: Float64Array): void {
+  const { cxXs, cxN, cxC } = sums;
+  let o = 0;
+  for (let q = 0; q < cxN.length; q++) {
+    const xa = cxXs[2 * q];
+    const xb = cxXs[2 * q + 1];
+    const bl = dot(cxC, o, V, K);
+    const br = dot(cxC, o + K, V, K);
+    o += 2 * K;
+    const m = cxN[q];
+    let argL = 0;
+    for (let c = 0; c < m; c++) {
+      cl[c] = dot(cxC, o, V, K);
+      cr[c] = dot(cxC, o + K, V, K);
       o += 2 * K;
-      const m = cxN[q];
-      let argL = 0;
-      for (let c = 0; c < m; c++) {
-        cl[c] = dot(cxC, o, V);
-        cr[c] = dot(cxC, o + K, V);
-        o += 2 * K;
-        if (cl[c] < cl[argL] || (cl[c] === cl[argL] && cr[c] < cr[argL])) argL = c;
-      }
-      // lower envelope of the candidate lines on [xa, xb], integrated against the straight base
-      let s = 0;
-      let cur = argL;
-      for (let guard = 0; guard <= m; guard++) {
-        let best = 1;
-        let nxt = -1;
-        for (let c = 0; c < m; c++) {
-          if (c === cur) continue;
-          const dR = cr[c] - cr[cur];
-          if (!(dR < 0)) continue;
-          const dL = cl[c] - cl[cur];
-          let t = dL / (dL - dR);
-          if (t < s) t = s;
-          if (t < best || (t === best && nxt >= 0 && cr[c] < cr[nxt])) { best = t; nxt = c; }
-        }
-        if (best > s) {
-          const x0 = xa + s * (xb - xa);
-          const x1 = best === 1 ? xb : xa + best * (xb - xa);
-          const h0 = bl + s * (br - bl) - (cl[cur] + s * (cr[cur] - cl[cur]));
-          const h1 = bl + best * (br - bl) - (cl[cur] + best * (cr[cur] - cl[cur]));
-          if (x0 < xc && xc < x1) {
-            const tc = (xc - x0) / (x1 - x0);
-            const hc = h0 + tc * (h1 - h0);
-            addTrap(x0, xc, h0, hc, xc);
-            addTrap(xc, x1, hc, h1, xc);
-          } else addTrap(x0, x1, h0, h1, xc);
-        }
-        if (nxt < 0 || best >= 1) break;
-        s = best;
-        cur = nxt;
-      }
+      if (cl[c] < cl[argL] || (cl[c] === cl[argL] && cr[c] < cr[argL])) argL = c;
     }
-    const dxc = xc - xref;
-    const momLeft = dxc * acc[0] - acc[2];
-    const momRight = acc[3] - dxc * acc[1];
-    out.areaM2 = acc[0] + acc[1];
+    // walk the lower envelope of the candidate lines from the left end
+    let s = 0;
+    let cur = argL;
+    for (let guard = 0; guard <= m; guard++) {
+      let best = 1;
+      let nxt = -1;
+      for (let c = 0; c < m; c++) {
+        if (c === cur) continue;
+        const dR = cr[c] - cr[cur];
+        if (!(dR < 0)) continue;
+        const dL = cl[c] - cl[cur];
+        let t = dL / (dL - dR);
+        if (t < s) t = s;
+        if (t < best || (t === best && nxt >= 0 && cr[c] < cr[nxt])) { best = t; nxt = c; }
+      }
+      if (best > s) {
+        const x0 = xa + s * (xb - xa);
+        const x1 = best === 1 ? xb : xa + best * (xb - xa);
+        const h0 = bl + s * (br - bl) - (cl[cur] + s * (cr[cur] - cl[cur]));
+        const h1 = bl + best * (br - bl) - (cl[cur] + best * (cr[cur] - cl[cur]));
+        if (x0 < xc && xc < x1) {
+          const tc = (xc - x0) / (x1 - x0);
+          const hc = h0 + tc * (h1 - h0);
+          addTrapezoid(acc, x0, xc, h0, hc, xc);
+          addTrapezoid(acc, xc, x1, hc, h1, xc);
+        } else addTrapezoid(acc, x0, x1, h0, h1, xc);
+      }
+      if (nxt < 0 || best >= 1) break;
+      s = best;
+      cur = nxt;
+    }
+  }
+}
+
+// ---------------------------------------------------------------------------
+// the sampler
+
+/** Build the fast sampler, or null if the model is not linear in its velocities for this geometry. */
+export function linearSamplerFor(b: PreparedBuildup, model: VelocityModel): LinearSampler | null {
+  const co = vertexCoefficients(b, model);
+  if (!co) return null;
+  const { K, C, plan } = co;
+  const box = boxBounds(co.lo, co.hi);
+  const crest = crestCandidates(b, co, box);
+  const sums = sweepIntervals(b, co, crest, box);
+  const n = b.tops.length;
+  const bx = b.base.xs;
+  const cl = new Float64Array(sums.maxCandidates);
+  const cr = new Float64Array(sums.maxCandidates);
+  const flanks = [...b.flanksL, ...b.flanksR].map((f) => {
+    const s = f ? b.sources.indexOf(f) : -1;
+    return s >= 0 ? flankScratch(b.sources[s].xs, C, plan.srcOff[s], K) : null;
+  });
+  const acc = new Float64Array(4);
+
+  /** Height, area and volume for velocities V. */
+  const core = (V: Float64Array, out: { heightM: number; areaM2: number; volumeM3: number }) => {
+    const { zmin, xc } = crestOfDraw(co, crest, V);
+    out.heightM = baseDepthAt(bx, co, xc, V) - zmin;
+    // linear sums (moments about xref, moved to xc) plus the complex intervals (about xc)
+    const dxc = xc - crest.xref;
+    const aLv = dot(sums.aL, 0, V, K);
+    const aRv = dot(sums.aR, 0, V, K);
+    acc.fill(0);
+    complexIntervalArea(sums, K, V, xc, cl, cr, acc);
+    const momLeft = dxc * aLv - dot(sums.mL, 0, V, K) + acc[2];
+    const momRight = dot(sums.mR, 0, V, K) - dxc * aRv + acc[3];
+    out.areaM2 = aLv + acc[0] + (aRv + acc[1]);
     out.volumeM3 = Math.PI * (momLeft + momRight);
   };
   const Vd = new Float64Array(K);
   const one = { heightM: 0, areaM2: 0, volumeM3: 0 };
 
   return {
-    complexIntervals: cxN.length,
+    complexIntervals: sums.cxN.length,
     draw(V, out) {
       core(V, out);
       for (let f = 0; f < flanks.length; f++) {
@@ -417,229 +518,4 @@ export function linearSamplerFor(b: PreparedBuildup, model: VelocityModel): Line
       }
     },
   };
-}
-
-/**
- * One flank's preallocated data for the per-draw angle: x, x steps squared,
- * the depth coefficients that vary along the flank (one array per velocity,
- * read sequentially), the ones that do not (e.g. the water layer above a
- * flank below the seafloor) as single numbers, and scratch for the
- * cumulative arc length and the resampled points.
- */
-interface FlankScratch {
-  n: number;
-  xs: Float64Array;
-  dxx: Float64Array;
-  /** Velocities with a constant coefficient along the flank, and that coefficient. */
-  constK: Int32Array;
-  constC: Float64Array;
-  /** Velocities whose coefficient varies, and the coefficient per vertex. */
-  varK: Int32Array;
-  varC: Float64Array[];
-  z: Float64Array;
-  cum: Float64Array;
-  /** Segment of each sample in the previous draw: the starting guess of the next. */
-  hint: Int32Array;
-  sx: Float64Array;
-  sz: Float64Array;
-}
-
-function flankScratch(xs: Float64Array, C: Float64Array, row0: number, K: number): FlankScratch {
-  const n = xs.length;
-  const dxx = new Float64Array(n);
-  for (let i = 1; i < n; i++) {
-    const dx = xs[i] - xs[i - 1];
-    dxx[i] = dx * dx;
-  }
-  const constK: number[] = [];
-  const constC: number[] = [];
-  const varK: number[] = [];
-  const varC: Float64Array[] = [];
-  for (let k = 0; k < K; k++) {
-    const col = new Float64Array(n);
-    let same = true;
-    for (let i = 0; i < n; i++) {
-      col[i] = C[(row0 + i) * K + k];
-      if (!Object.is(col[i], col[0])) same = false;
-    }
-    if (same) { constK.push(k); constC.push(col[0]); }
-    else { varK.push(k); varC.push(col); }
-  }
-  return {
-    n, xs, dxx,
-    constK: Int32Array.from(constK), constC: Float64Array.from(constC),
-    varK: Int32Array.from(varK), varC,
-    z: new Float64Array(n), cum: new Float64Array(n), hint: new Int32Array(FLANK_SAMPLES), sx: new Float64Array(FLANK_SAMPLES), sz: new Float64Array(FLANK_SAMPLES),
-  };
-}
-
-/** The constant part of the flank's depths for velocities V. */
-function constantDepth(f: FlankScratch, V: Float64Array): number {
-  let a = 0;
-  for (let j = 0; j < f.constK.length; j++) a += f.constC[j] * V[f.constK[j]];
-  return a;
-}
-
-/**
- * Depth of vertex i: the constant part plus the varying terms in velocity
- * order — the same sums as the arc-length loops below, so the same bits.
- */
-function depthAt(f: FlankScratch, a: number, V: Float64Array, i: number): number {
-  let z = a;
-  for (let j = 0; j < f.varK.length; j++) z += f.varC[j][i] * V[f.varK[j]];
-  return z;
-}
-
-/**
- * Cumulative arc length of the flank for velocities V (depths z = a + Σ
- * varying terms, summed like `depthAt`); returns the total. When the
- * constant coefficients come first in velocity order (as for the water
- * layer of the `buildup` model) the depths are bit-for-bit Σ_k C_k·V_k.
- */
-function arcLength(f: FlankScratch, a: number, V: Float64Array): number {
-  const n = f.n, z = f.z, cum = f.cum, dxx = f.dxx;
-  const nv = f.varK.length;
-  cum[0] = 0;
-  let c = 0;
-  if (nv === 1) {
-    const c0 = f.varC[0];
-    const v0 = V[f.varK[0]];
-    let zp = a + c0[0] * v0;
-    z[0] = zp;
-    for (let i = 1; i < n; i++) {
-      const zi = a + c0[i] * v0;
-      const dz = zi - zp;
-      c += Math.sqrt(dxx[i] + dz * dz);
-      z[i] = zi;
-      cum[i] = c;
-      zp = zi;
-    }
-  } else if (nv === 2) {
-    const c0 = f.varC[0], c1 = f.varC[1];
-    const v0 = V[f.varK[0]], v1 = V[f.varK[1]];
-    let zp = a + c0[0] * v0 + c1[0] * v1;
-    z[0] = zp;
-    for (let i = 1; i < n; i++) {
-      const zi = a + c0[i] * v0 + c1[i] * v1;
-      const dz = zi - zp;
-      c += Math.sqrt(dxx[i] + dz * dz);
-      z[i] = zi;
-      cum[i] = c;
-      zp = zi;
-    }
-  } else if (nv === 3) {
-    const c0 = f.varC[0], c1 = f.varC[1], c2 = f.varC[2];
-    const v0 = V[f.varK[0]], v1 = V[f.varK[1]], v2 = V[f.varK[2]];
-    let zp = a + c0[0] * v0 + c1[0] * v1 + c2[0] * v2;
-    z[0] = zp;
-    for (let i = 1; i < n; i++) {
-      const zi = a + c0[i] * v0 + c1[i] * v1 + c2[i] * v2;
-      const dz = zi - zp;
-      c += Math.sqrt(dxx[i] + dz * dz);
-      z[i] = zi;
-      cum[i] = c;
-      zp = zi;
-    }
-  } else {
-    let zp = depthAt(f, a, V, 0);
-    z[0] = zp;
-    for (let i = 1; i < n; i++) {
-      const zi = depthAt(f, a, V, i);
-      const dz = zi - zp;
-      c += Math.sqrt(dxx[i] + dz * dz);
-      z[i] = zi;
-      cum[i] = c;
-      zp = zi;
-    }
-  }
-  return c;
-}
-
-/**
- * The segment a sample at arc length s falls on: the smallest j in
- * [lo, last] with j = last or cum[j + 1] ≥ s (the one the forward scan of
- * `flankAngles` stops at; the condition is monotone in j because cum is
- * non-decreasing). Starts from a guess (the previous draw's segment, which
- * rarely moves between draws) and walks a few steps, then bisects.
- */
-function segmentOf(cum: Float64Array, s: number, lo: number, last: number, guess: number): number {
-  let j = guess < lo ? lo : guess > last ? last : guess;
-  if (j < last && cum[j + 1] < s) {
-    // condition false at j: move up
-    for (let step = 0; step < 8; step++) {
-      j++;
-      if (j === last || cum[j + 1] >= s) return j;
-    }
-    let a = j + 1; // false below a
-    let b = last; // true at b
-    while (a < b) {
-      const mid = (a + b) >> 1;
-      if (cum[mid + 1] < s) a = mid + 1;
-      else b = mid;
-    }
-    return b;
-  }
-  // condition true at j: move down while it holds at j − 1
-  for (let step = 0; step < 8; step++) {
-    if (j === lo || cum[j] < s) return j;
-    j--;
-  }
-  if (j === lo || cum[j] < s) return j;
-  let a = lo; // search [lo, j] for the first true
-  let b = j;
-  while (a < b) {
-    const mid = (a + b) >> 1;
-    if (mid === last || cum[mid + 1] >= s) b = mid;
-    else a = mid + 1;
-  }
-  return b;
-}
-
-/**
- * Flank angle for one velocity set V: the same arithmetic as `flankAngles`
- * (cumulative arc length, FLANK_SAMPLES equal-arc-length points, two-pass
- * orthogonal regression) on the depths above, so it equals
- * `flankAngles(xs, depths).flankAngleDeg` (bit for bit when the depths are);
- * NaN where that is null. The steepest segment is not computed (the ranges
- * do not report it), and each sample's segment is found by `segmentOf`
- * from the segment it fell on in the previous draw.
- */
-function flankAngleOfDraw(f: FlankScratch, V: Float64Array): number {
-  const n = f.n;
-  if (n < 2) return NaN;
-  const a = constantDepth(f, V);
-  const total = arcLength(f, a, V);
-  if (!(total > 0)) return NaN;
-  const xs = f.xs, z = f.z, cum = f.cum, hint = f.hint, sx = f.sx, sz = f.sz;
-  const m = FLANK_SAMPLES;
-  const last = n - 2;
-  let seg = 0;
-  let mx = 0;
-  let mz = 0;
-  for (let k = 0; k < m; k++) {
-    const s = k === m - 1 ? total : (total * k) / (m - 1);
-    seg = segmentOf(cum, s, seg, last, hint[k]);
-    hint[k] = seg;
-    const len = cum[seg + 1] - cum[seg];
-    const t = len > 0 ? (s - cum[seg]) / len : 0;
-    const x = xs[seg] + t * (xs[seg + 1] - xs[seg]);
-    const zz = z[seg] + t * (z[seg + 1] - z[seg]);
-    sx[k] = x;
-    sz[k] = zz;
-    mx += x;
-    mz += zz;
-  }
-  mx /= m;
-  mz /= m;
-  let sxx = 0, szz = 0, sxz = 0;
-  for (let k = 0; k < m; k++) {
-    const dx = sx[k] - mx;
-    const dz = sz[k] - mz;
-    sxx += dx * dx;
-    szz += dz * dz;
-    sxz += dx * dz;
-  }
-  // major axis of the covariance (orthogonal regression), folded to 0–90° below horizontal
-  const theta = Math.abs(0.5 * Math.atan2(2 * sxz, sxx - szz)) * DEG;
-  return theta > 90 ? 180 - theta : theta;
 }

@@ -21,8 +21,8 @@ import { interpolateAt } from './geometry';
 import { evaluateEnvelopeFlat, integrateProfile, type Envelope } from './envelope';
 import { crestOf } from './buildup';
 import { depthOf, type PreparedBuildup, type PreparedInterpretation, type Surface } from './prepare';
-import { hasRanges, makeTwtToDepth, triangularQuantile } from './velocity';
-import { linearSamplerFor, modelFromVector, velocityParams } from './linear-ranges';
+import { hasRanges, makeTwtToDepth, modelFromVector, triangularQuantile, velocityParams } from './velocity';
+import { linearSamplerFor } from './linear-ranges';
 
 export interface Percentiles {
   p90: number;

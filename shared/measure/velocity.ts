@@ -250,3 +250,30 @@ export function describeVelocityModel(model: VelocityModel): string {
       return `Buildup model along a vertical ray: water ${fmtV(model.water.v)} down to the seafloor at ${model.water.seafloorMs} ms, overburden ${fmtV(model.overburden.v)} down to the buildup's upper envelope (smallest TWT of its tops and flanks at each x), carbonate ${fmtV(model.carbonate.v)} below it, which undoes the velocity pull-up under the buildup.`;
   }
 }
+
+// ---- velocities as a vector (the Monte Carlo's draws) ----
+
+export interface VelocityParam {
+  path: string;
+  min: number;
+  mode: number;
+  max: number;
+  range: Range | null;
+}
+
+/** The velocities of a model in resolve order (fixed values have min = mode = max). */
+export function velocityParams(model: VelocityModel): VelocityParam[] {
+  const out: VelocityParam[] = [];
+  resolveVelocityModel(model, (s: Speed, path) => {
+    if (isRange(s)) out.push({ path, min: s.min, mode: s.mode, max: s.max, range: s });
+    else out.push({ path, min: s, mode: s, max: s, range: null });
+    return 0;
+  });
+  return out;
+}
+
+/** The model with its velocities taken from a vector (resolve order). */
+export function modelFromVector(model: VelocityModel, v: ArrayLike<number>) {
+  let i = 0;
+  return resolveVelocityModel(model, () => v[i++]);
+}
