@@ -38,6 +38,15 @@ export function calibratedXRange(fit: CalibrationFit, width: number, height: num
   return Math.abs(b[0] - a[0]);
 }
 
+/**
+ * The Ties a person placed: none for a calibration made from a SEG-Y file's
+ * headers (its stored points are the image corners mapped through the
+ * header geometry, not Ties; the stored fit drives the readout).
+ */
+function placedTies(record: CalibrationRecord | null): CalibrationRecord['ties'] {
+  return !record || record.source === 'segy_headers' ? [] : record.ties;
+}
+
 export function useTieEditor(image: Ref<{ width: number; height: number }>, lineLengthM: Ref<number | null | undefined>) {
   const ties = ref<EditorTie[]>([]);
   const mode = ref<CalibrationMode>('affine');
@@ -49,14 +58,14 @@ export function useTieEditor(image: Ref<{ width: number; height: number }>, line
   function load(record: CalibrationRecord | null): void {
     base.value = record;
     mode.value = record?.mode ?? 'affine';
-    ties.value = (record?.ties ?? []).map((t) => ({ id: newId(), px: [t.px[0], t.px[1]], x: t.world[0], y: t.world[1] }));
+    ties.value = placedTies(record).map((t) => ({ id: newId(), px: [t.px[0], t.px[1]], x: t.world[0], y: t.world[1] }));
     selectedId.value = null;
   }
 
   /** Take the Ties and mode of an older version into the working list; saving still builds on the latest. */
   function copyFrom(record: CalibrationRecord): void {
     mode.value = record.mode;
-    ties.value = record.ties.map((t) => ({ id: newId(), px: [t.px[0], t.px[1]], x: t.world[0], y: t.world[1] }));
+    ties.value = placedTies(record).map((t) => ({ id: newId(), px: [t.px[0], t.px[1]], x: t.world[0], y: t.world[1] }));
     selectedId.value = null;
   }
 
@@ -118,8 +127,10 @@ export function useTieEditor(image: Ref<{ width: number; height: number }>, line
     const now = payloadTies.value;
     if (ties.value.length !== complete.value.length) return true;
     if (!b) return now.length > 0;
-    if (b.mode !== mode.value || b.ties.length !== now.length) return true;
-    return b.ties.some((t, i) => t.px[0] !== now[i].px[0] || t.px[1] !== now[i].px[1] || t.world[0] !== now[i].world[0] || t.world[1] !== now[i].world[1]);
+    const bt = placedTies(b);
+    if ((bt.length || now.length) && b.mode !== mode.value) return true;
+    if (bt.length !== now.length) return true;
+    return bt.some((t, i) => t.px[0] !== now[i].px[0] || t.px[1] !== now[i].px[1] || t.world[0] !== now[i].world[0] || t.world[1] !== now[i].world[1]);
   });
 
   return { ties, mode, base, selectedId, load, copyFrom, add, update, remove, complete, payloadTies, result, fit, residuals, xRangeM, lengthCheck, dirty };

@@ -33,6 +33,22 @@ function record(ties: { px: [number, number]; world: [number, number] }[], mode:
 }
 
 describe('useTieEditor', () => {
+  it('starts with no Ties (and nothing unsaved) on a calibration made from SEG-Y headers', () => {
+    const corners: [number, number][] = [[0, 0], [4000, 0], [0, 1200], [4000, 1200]];
+    const rec = { ...record(corners.map((px) => ({ px, world: truth(px[0], px[1]) })), 'axes'), source: 'segy_headers' as const };
+    const e = editor();
+    e.load(rec);
+    expect(e.ties.value).toEqual([]);
+    expect(e.dirty.value).toBe(false);
+    e.add([100, 100], ...truth(100, 100));
+    expect(e.dirty.value).toBe(true);
+    // a calibration of placed Ties still loads them
+    const placed = editor();
+    placed.load({ ...rec, source: 'ties' });
+    expect(placed.ties.value).toHaveLength(4);
+    expect(placed.dirty.value).toBe(false);
+  });
+
   it('needs enough complete Ties before it fits, and says how many', () => {
     const e = editor();
     e.add([100, 100], ...truth(100, 100));

@@ -115,7 +115,26 @@ export abstract class BaseTool implements ToolController {
   keyDown(_e: ToolKey): boolean {
     return false;
   }
-  cancel(): void {
+  /**
+   * Abandon anything unfinished without dispatching (Esc and tool switches
+   * both come here through the Toolbox). Tools say what "unfinished" is with
+   * `hasUnfinished()` / `dropUnfinished()` and what they show when idle with
+   * `showIdle()`; they do not override `cancel()` itself.
+   */
+  cancel(): boolean {
+    const had = this.hasUnfinished();
+    this.dropUnfinished();
+    this.showIdle();
+    return had;
+  }
+  /** True while the tool holds something `cancel()` would drop. */
+  protected hasUnfinished(): boolean {
+    return false;
+  }
+  /** Forget the unfinished work (no dispatch). */
+  protected dropUnfinished(): void {}
+  /** The preview once nothing is unfinished. */
+  protected showIdle(): void {
     this.setPreview({ kind: 'none' });
   }
 }
@@ -147,6 +166,17 @@ export abstract class DragOrPlaceTool<D> extends BaseTool {
     this.swallowClick = true;
     this.env.endGesture();
     return true;
+  }
+
+  protected hasUnfinished(): boolean {
+    return this.drag !== null;
+  }
+
+  /** A drag cut short keeps what it moved so far (already dispatched) and ends its gesture. */
+  protected dropUnfinished(): void {
+    if (!this.drag) return;
+    this.drag = null;
+    this.env.endGesture();
   }
 
   /** True (once) when this click only ends a drag. */

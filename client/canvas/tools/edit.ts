@@ -113,11 +113,14 @@ export class EditTool extends BaseTool {
     return true;
   }
 
-  cancel(): void {
-    if (this.drag) {
-      this.drag = null;
-      this.env.endGesture();
-    }
-    this.setPreview({ kind: 'none' });
+  protected hasUnfinished(): boolean {
+    return this.drag !== null;
+  }
+
+  /** A drag cut short keeps what it moved so far (already dispatched) and ends its gesture. */
+  protected dropUnfinished(): void {
+    if (!this.drag) return;
+    this.drag = null;
+    this.env.endGesture();
   }
 }

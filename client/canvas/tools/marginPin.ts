@@ -131,12 +131,4 @@ export class MarginPinTool extends DragOrPlaceTool<{ buildupId: string; cycleId:
     this.setMode(MARGIN_SIDE_MODES[i]);
     return true;
   }
-
-  cancel(): void {
-    if (this.drag) {
-      this.drag = null;
-      this.env.endGesture();
-    }
-    this.setPreview({ kind: 'none' });
-  }
 }

@@ -134,17 +134,18 @@ export class RulerTool extends BaseTool {
     return false;
   }
 
-  keyDown(e: ToolKey): boolean {
-    if (e.key !== 'Escape' || !this.a) return false;
-    this.cancel();
-    return true;
+  protected hasUnfinished(): boolean {
+    return this.a !== null;
   }
 
-  cancel(): void {
+  protected dropUnfinished(): void {
     this.a = this.b = null;
     this.fixed = false;
     this.reading = null;
     this.message = undefined;
+  }
+
+  protected showIdle(): void {
     this.publish();
   }
 }

@@ -83,12 +83,4 @@ export class StampTool extends DragOrPlaceTool<{ buildupId: string; terminationI
     this.setType(TERMINATION_TYPES[i]);
     return true;
   }
-
-  cancel(): void {
-    if (this.drag) {
-      this.drag = null;
-      this.env.endGesture();
-    }
-    this.setPreview({ kind: 'none' });
-  }
 }

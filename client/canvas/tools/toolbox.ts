@@ -191,8 +191,14 @@ export class Toolbox {
     this.active.leave();
   }
 
-  /** The active tool first (its sub-keys, Enter, Esc…), then the tool letters. */
+  /**
+   * Esc first cancels the active tool's unfinished work (the same `cancel()`
+   * a tool switch runs); then the active tool's own keys (sub-keys, Enter,
+   * Esc with nothing unfinished, e.g. Select clearing the selection), then
+   * the tool letters.
+   */
   keyDown(e: ToolKey): boolean {
+    if (e.key === 'Escape' && !e.ctrl && !e.meta && !e.alt && this.active.cancel()) return true;
     if (this.active.keyDown(e)) return true;
     if (e.ctrl || e.meta || e.alt) return false;
     const k = e.key.toLowerCase();

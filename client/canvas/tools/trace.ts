@@ -116,10 +116,6 @@ export class TraceTool extends BaseTool {
         if (!this.points.length) return false;
         this.finish();
         return true;
-      case 'Escape':
-        if (!this.points.length && !this.message) return false;
-        this.cancel();
-        return true;
       case 'Backspace':
         if (!this.points.length) return false;
         this.points.pop();
@@ -137,9 +133,17 @@ export class TraceTool extends BaseTool {
     }
   }
 
-  cancel(): void {
+  /** Placed vertices, or a refusal message still showing. */
+  protected hasUnfinished(): boolean {
+    return this.points.length > 0 || !!this.message;
+  }
+
+  protected dropUnfinished(): void {
     this.points = [];
     this.message = undefined;
+  }
+
+  protected showIdle(): void {
     this.publish();
   }
 

@@ -93,8 +93,12 @@ export interface ToolController {
   /** Pointer left the canvas. */
   leave(): void;
   keyDown(e: ToolKey): boolean;
-  /** Abandon anything unfinished without dispatching (tool switch, Esc). */
-  cancel(): void;
+  /**
+   * Abandon anything unfinished without dispatching. The one path for Esc
+   * (Toolbox.keyDown) and for switching tools (Toolbox.setTool); true when
+   * something was dropped (then Esc is used up).
+   */
+  cancel(): boolean;
   /** Called with the new preview whenever it changes. */
   onPreview(fn: (p: ToolPreview) => void): () => void;
 }

@@ -61,9 +61,9 @@ describe('Ruler tool', () => {
     expect(t.preview.kind === 'ruler' && t.preview.message).toMatch(/Tie the section/);
     t.click(at(50, 50));
     expect(t.preview).toMatchObject({ a: [50, 50], b: null, fixed: false });
-    expect(t.keyDown({ key: 'Escape' })).toBe(true);
+    expect(t.cancel()).toBe(true);
     expect(t.preview).toMatchObject({ a: null, b: null });
-    expect(t.keyDown({ key: 'Escape' })).toBe(false);
+    expect(t.cancel()).toBe(false);
   });
 
   it('includes measurable buildups in the context only for the buildup velocity model', () => {

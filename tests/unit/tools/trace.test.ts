@@ -69,12 +69,12 @@ describe('Trace tool', () => {
       [10, 10],
       [50, 20],
     ]);
-    expect(t.keyDown({ key: 'Escape' })).toBe(true);
+    expect(t.cancel()).toBe(true);
     expect(t.pending).toEqual([]);
     expect(s.dispatched).toEqual([]);
     expect(s.store.canUndo).toBe(false);
-    // With nothing in progress Esc is not used (it can clear the selection instead).
-    expect(t.keyDown({ key: 'Escape' })).toBe(false);
+    // With nothing in progress cancel() drops nothing, so Esc is not used (it can clear the selection instead).
+    expect(t.cancel()).toBe(false);
   });
 
   it('refuses a one-point trace and a flank without a selected cycle, keeping the vertices', () => {
