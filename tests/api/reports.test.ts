@@ -21,7 +21,7 @@ import { needReference, pythonReference, runPython } from '../helpers/python-ref
 import { ctx } from '../../server/context';
 import { seedDemoSections } from '../../server/db/seeders/sections';
 import { seedDemoInterpretation } from '../../server/db/seeders/interpretations';
-import { DEMO_SECTIONS, sectionGeometry } from '../../server/scripts/synth/demo';
+import { DEMO_SECTIONS, sectionGeometry } from '../../server/synth/demo';
 import { BuildupReportRow } from '../../server/models/report';
 import { Buildup } from '../../server/models/buildup';
 import { recoverReports } from '../../server/jobs/report.job';

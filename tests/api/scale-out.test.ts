@@ -6,7 +6,7 @@
  * through a shared disk.
  *
  * - all three boot at once on an empty database: migrations run once (advisory lock);
- * - a session made by web process 1 is accepted by web process 2;
+ * - a session made by web process 1 is accepted by web process 2, and one ended there is refused;
  * - an upload through web 1 is built by the worker and its tiles are served by web 2;
  * - a save through web 1 and a stale save through web 2: one 200, one 409;
  * - the sign-in limit per address is counted across both web processes;
@@ -215,8 +215,14 @@ describe('two web processes and a worker on one database and one S3 store', () =
     expect(projects.status).toBe(200);
     projectId = projects.body.items.find((p: { name: string }) => p.name === 'Tessel Basin screening').id;
 
+    // a session ended through web 1 is refused by web 2 (sessions are rows, not process memory)
+    const other = await login(w2, 'reviewer@tessel.example');
+    expect(other.status).toBe(200);
+    expect((await api(w1, 'POST', '/api/auth/logout', { token: other.body.token })).status).toBeLessThan(300);
+    expect((await api(w2, 'GET', '/api/auth/me', { token: other.body.token })).status).toBe(401);
+
     // per-address sign-in limit: attempts alternate between the processes and are counted together
-    let n = 1; // the sign-in above
+    let n = 2; // the two sign-ins above
     let refusedAt = 0;
     for (let i = 0; i < LOGIN_RATE_MAX + 2 && !refusedAt; i++) {
       const web = i % 2 ? w1 : w2;
