@@ -11,6 +11,8 @@ export const STAGE_VIEWPORT: InjectionKey<Viewport> = Symbol('cayline.stageViewp
 export interface StagePointerEvent {
   /** Image pixels `[u, v]` under the pointer (may be outside the image). */
   image: Pt;
+  /** The drawn tiles' pixels under the pointer: the image's own, or the depth view's `[u, w]` (SectionStage `pixelMap`). */
+  view?: Pt;
   /** Stage CSS pixels `[x, y]` from the stage's top-left corner. */
   screen: Pt;
   /** Whether `image` lies on the image. */

@@ -65,7 +65,7 @@ const zAt = (conv: DepthConverter, u: number, v: number) => conv.toDepth([u, v])
  * px), into `out` (height + 1 values). Refuses a column where depth does not
  * grow downwards (a calibration with TWT growing upwards).
  */
-export function columnEdgeDepths(conv: DepthConverter, u: number, height: number, out = new Float64Array(height + 1)): Float64Array {
+export function columnEdgeDepths(conv: DepthConverter, u: number, height: number, out: Float64Array = new Float64Array(height + 1)): Float64Array {
   for (let k = 0; k <= height; k++) out[k] = zAt(conv, u, k);
   for (let k = 1; k <= height; k++) {
     if (!(out[k] > out[k - 1])) {
@@ -116,7 +116,7 @@ function columnCentres(width: number): number[] {
  * NaN where the column has no data at that depth. `edges` are the column's
  * edge depths (columnEdgeDepths).
  */
-export function sourceRowsOf(edges: Float64Array, axis: DepthAxis, out = new Float64Array(axis.height)): Float64Array {
+export function sourceRowsOf(edges: Float64Array, axis: DepthAxis, out: Float64Array = new Float64Array(axis.height)): Float64Array {
   const n = edges.length - 1; // source rows
   let k = 0;
   for (let j = 0; j < axis.height; j++) {

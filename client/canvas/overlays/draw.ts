@@ -234,6 +234,39 @@ export function drawStamp(
   c.restore();
 }
 
+/**
+ * Several Termination stamps merged at this zoom: a white rounded square with
+ * a dark outline, a small half-arrow and the count (zoom in to see them apart).
+ */
+export function drawStampCluster(c: CanvasRenderingContext2D, x: number, y: number, count: number): void {
+  const S = TERMINATION_STAMP;
+  const text = String(count);
+  c.save();
+  c.font = `700 11px ${FONT}`;
+  const w = Math.max(24, c.measureText(text).width + 18);
+  const h = 16;
+  c.beginPath();
+  c.roundRect(x - w / 2, y - h / 2, w, h, 4);
+  c.fillStyle = S.fill;
+  c.fill();
+  c.strokeStyle = S.stroke;
+  c.lineWidth = 1.5;
+  c.stroke();
+  // the half-arrow of a stamp, small, left of the count
+  c.beginPath();
+  c.moveTo(x - w / 2 + 4, y);
+  c.lineTo(x - w / 2 + 11, y);
+  c.lineTo(x - w / 2 + 8, y + 3);
+  c.strokeStyle = S.stroke;
+  c.lineWidth = 1.4;
+  c.stroke();
+  c.fillStyle = S.stroke;
+  c.textAlign = 'left';
+  c.textBaseline = 'middle';
+  c.fillText(text, x - w / 2 + 13, y + 0.5);
+  c.restore();
+}
+
 /** A text label with a dark outline (readable on seismic). */
 export function drawLabel(c: CanvasRenderingContext2D, text: string, x: number, y: number, colour: string, opts: { align?: CanvasTextAlign; size?: number } = {}): void {
   c.save();
