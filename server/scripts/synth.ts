@@ -1,13 +1,13 @@
 /**
  * Writes the demo sections for inspection:
- *   npx tsx server/scripts/synth/cli.ts OUTDIR [--fixtures]
+ *   npx tsx server/scripts/synth.ts OUTDIR [--fixtures]
  * OUTDIR receives <key>.png and <key>.json (the true geometry). With --fixtures the geometry
  * JSON is also written to tests/fixtures/synthetic/.
  */
 import { mkdir, writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { DEMO_SECTIONS, fixtureOf, generateSection } from './demo';
+import { DEMO_SECTIONS, fixtureOf, generateSection } from '../synth/demo';
 
 /** Indented JSON with every array of numbers (points) on one line. */
 export function formatJson(value: unknown): string {
@@ -23,12 +23,12 @@ async function main(argv: string[]): Promise<void> {
   const writeFixtures = argv.includes('--fixtures');
   const outDir = args[0];
   if (!outDir) {
-    process.stderr.write('usage: npx tsx server/scripts/synth/cli.ts OUTDIR [--fixtures]\n');
+    process.stderr.write('usage: npx tsx server/scripts/synth.ts OUTDIR [--fixtures]\n');
     process.exit(1);
   }
   await mkdir(outDir, { recursive: true });
   const here = path.dirname(fileURLToPath(import.meta.url));
-  const fixtureDir = path.resolve(here, '../../../tests/fixtures/synthetic');
+  const fixtureDir = path.resolve(here, '../../tests/fixtures/synthetic');
   if (writeFixtures) await mkdir(fixtureDir, { recursive: true });
   for (const def of DEMO_SECTIONS) {
     const t = performance.now();

@@ -4,7 +4,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestApp, bearer, type TestApp } from '../helpers/app';
 import { waitForStatus } from '../helpers/sections';
 import { seedDemoSections } from '../../server/db/seeders/sections';
-import { DEMO_SECTIONS } from '../../server/scripts/synth/demo';
+import { DEMO_SECTIONS } from '../../server/synth/demo';
 import { ctx } from '../../server/context';
 import { seedDemoInterpretation } from '../../server/db/seeders/interpretations';
 
@@ -57,7 +57,7 @@ describe('demo sections seeder', () => {
     expect((await request(t.app).get(`/api/sections/${tb11.id}/buildups`).set(bearer(token))).body).toEqual([]);
     const m = await request(t.app).get(`/api/buildups/${bank[0].id}/measurements?draws=200`).set(bearer(token));
     expect(m.status).toBe(200);
-    // The generator built Marrow Bank as an aggrading bank (server/scripts/synth/demo.ts).
+    // The generator built Marrow Bank as an aggrading bank (server/synth/demo.ts).
     expect(m.body.buildups[0].classification).toBe('aggrading');
     const h = m.body.buildups[0].ranges.heightM;
     expect(h.p90).toBeLessThanOrEqual(h.p50);

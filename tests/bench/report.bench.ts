@@ -30,7 +30,7 @@ import { sectionKeys } from '../../server/jobs/pyramid.job';
 import { measureBuildup } from '../../server/services/buildup.service';
 import { requestReport } from '../../server/services/report.service';
 import { renderReportFiles } from '../../server/reports/render';
-import { DEMO_SECTIONS, sectionGeometry } from '../../server/scripts/synth/demo';
+import { DEMO_SECTIONS, sectionGeometry } from '../../server/synth/demo';
 import type { BuildupGeometry } from '../../shared/editor/model';
 import { benchDatabase, benchTmp } from './bench-db';
 import { median } from './stats';

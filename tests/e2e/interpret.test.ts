@@ -181,7 +181,7 @@ describe('interpretation canvas', () => {
 
     // Readings while drawing: two cycles measured, backstepping with its reasons.
     await expect.poll(() => page.locator('[data-test="readings-cycle-table"] tbody tr').count()).toBe(2);
-    // The generator built Kestrel Knoll's cycles to step back (server/scripts/synth/demo.ts).
+    // The generator built Kestrel Knoll's cycles to step back (server/synth/demo.ts).
     await expect.poll(() => classOf(page)).toBe('backstepping');
     expect(await page.locator('[data-test="readings-evidence"] li').count()).toBeGreaterThan(0);
     expect(await page.locator('[data-test="readings-evidence"]').textContent()).toMatch(/backstep/i);

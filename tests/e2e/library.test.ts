@@ -16,7 +16,7 @@ import type { Page } from 'playwright-core';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { BuildupGeometry } from '../../shared/editor/model';
-import { DEMO_SECTIONS, sectionGeometry } from '../../server/scripts/synth/demo';
+import { DEMO_SECTIONS, sectionGeometry } from '../../server/synth/demo';
 import { bearer, createTestApp, type TestApp } from '../helpers/app';
 import { openBrowser, type Browser } from '../helpers/browser';
 import { seedDemoLines, signIn } from '../helpers/e2e-demo';

@@ -9,7 +9,7 @@
 import { AppMeta, Project, User } from '../../models/index';
 import { Section } from '../../models/section';
 import { Buildup, SectionVelocity } from '../../models/buildup';
-import { DEMO_SECTIONS, sectionGeometry } from '../../scripts/synth/demo';
+import { DEMO_SECTIONS, sectionGeometry } from '../../synth/demo';
 import { DEMO_PROJECT } from './demo';
 import type { SeedDeps } from './index';
 import { recordVersion } from '../../services/review.service';

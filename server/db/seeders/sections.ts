@@ -1,6 +1,6 @@
 /**
  * Demo sections, seeded once (app_meta `demo_sections_seeded`): the two
- * synthetic sections of the invented Tessel Basin (server/scripts/synth),
+ * synthetic sections of the invented Tessel Basin (server/synth),
  * stored in the project "Tessel Basin screening" as uploaded by the demo
  * interpreter, with their ties as calibration version 1, and their pyramids
  * queued like any upload.
@@ -11,7 +11,7 @@ import { AppMeta, Project, User } from '../../models/index';
 import { Section } from '../../models/section';
 import { storeNewSection } from '../../services/section.service';
 import { fileStoreFor } from '../../storage/fileStore';
-import { DEMO_SECTIONS, generateSection } from '../../scripts/synth/demo';
+import { DEMO_SECTIONS, generateSection } from '../../synth/demo';
 import { DEMO_PROJECT } from './demo';
 import type { SeedDeps } from './index';
 import type { CreateSectionFields } from '../../../shared/schemas/sections';

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import seedrandom from 'seedrandom';
 import { needReference, pythonReference, runPython } from '../../helpers/python-ref';
-import { convolveSame, ricker, rickerSampled, rickerTable, stampSpike } from '../../../server/scripts/synth/ricker';
+import { convolveSame, ricker, rickerSampled, rickerTable, stampSpike } from '../../../server/synth/ricker';
 
 // Ricker (1953), Geophysics 18 — w(t) = (1 − 2π²f²t²)·exp(−π²f²t²); computed checks as listed
 // in references.md: w(0) = 1 and zero crossings at t = ±1/(π f √2).

@@ -6,7 +6,7 @@ import {
   generateSection,
   sectionGeometry,
   type DemoSectionDef,
-} from '../../../server/scripts/synth/demo';
+} from '../../../server/synth/demo';
 import {
   EarthModel,
   renderModel,
@@ -15,7 +15,7 @@ import {
   type EarthModelDef,
   type Interpretation,
   type Pt,
-} from '../../../server/scripts/synth/model';
+} from '../../../server/synth/model';
 
 const fixture = (key: string) =>
   JSON.parse(readFileSync(new URL(`../../fixtures/synthetic/${key}.json`, import.meta.url), 'utf8'));

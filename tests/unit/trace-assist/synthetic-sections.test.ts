@@ -1,15 +1,15 @@
 /**
  * Quality check of auto-extend against known truth: the demo sections TB-11
  * (Kestrel Knoll) and TB-14 (Marrow Bank) are rendered in memory from their
- * geometric model (server/scripts/synth), and every cycle top is
+ * geometric model (server/synth), and every cycle top is
  * auto-extended from one point at its middle. The tops must match the true
  * surfaces within 2 px RMS where the event is continuous (the columns the
  * tracker covered inside the true top's extent), and the engine's numbers
  * from auto-traced youngest tops must match those from the true geometry.
  */
 import { beforeAll, describe, expect, it } from 'vitest';
-import { DEMO_SECTIONS, sectionGeometry, type DemoSectionDef } from '../../../server/scripts/synth/demo';
-import { EarthModel, renderModel, type Interpretation, type Pt } from '../../../server/scripts/synth/model';
+import { DEMO_SECTIONS, sectionGeometry, type DemoSectionDef } from '../../../server/synth/demo';
+import { EarthModel, renderModel, type Interpretation, type Pt } from '../../../server/synth/model';
 import { measure } from '../../../shared/measure/index';
 import { autoExtend } from '../../../shared/trace-assist/extend';
 import { GreySource, type Phase } from '../../../shared/trace-assist/source';

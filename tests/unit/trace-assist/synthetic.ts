@@ -5,7 +5,7 @@
  * sections' polarity), plus optional seeded band-limited noise (RMS `noise`).
  */
 import seedrandom from 'seedrandom';
-import { convolveSame, ricker, rickerSampled } from '../../../server/scripts/synth/ricker';
+import { convolveSame, ricker, rickerSampled } from '../../../server/synth/ricker';
 import { GreySource } from '../../../shared/trace-assist/source';
 
 export interface SynthEvent {
