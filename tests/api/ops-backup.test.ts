@@ -16,7 +16,8 @@ import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { bearer, createDatabase, createTestApp } from '../helpers/app';
 import { readyCalibratedSection, savedBuildup } from '../helpers/api-fixtures';
-import { LocalFileStore, type FileStore } from '../../server/storage/fileStore';
+import { LocalFileStore, createFileStore, type FileStore } from '../../server/storage/fileStore';
+import { startS3Fake } from '../helpers/s3-fake';
 import { backup, restore, STORE_PREFIXES, verifyBackup } from '../../server/ops/backup';
 
 const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-backup-test-'));
@@ -25,6 +26,7 @@ const targetDir = path.join(tmp, 'target-storage');
 let sourceUrl: string;
 let sectionId: number;
 let backupDir: string;
+let targetUrl: string; // restored by the round trip, restored over again by the next test
 
 beforeAll(async () => {
   fs.mkdirSync(sourceDir);
@@ -84,7 +86,7 @@ describe('backup and restore', () => {
     expect(b.manifest.files.some((f) => f.key.startsWith(`sections/`) && f.key.includes('/pyramid/'))).toBe(true);
     expect(b.manifest.migrations.length).toBeGreaterThan(5);
 
-    const targetUrl = await createDatabase();
+    targetUrl = await createDatabase();
     const m = await restore({ databaseUrl: targetUrl, store: new LocalFileStore(targetDir), from: b.dir });
     expect(m.files.length).toBe(b.manifest.files.length);
 
@@ -111,10 +113,9 @@ describe('backup and restore', () => {
     }
   }, 120_000);
 
-  it('restoring over a database that has rows and extra tables replaces it (schemas dropped and recreated)', async () => {
-    const url = await createDatabase();
-    const store = new LocalFileStore(path.join(tmp, 'again'));
-    await restore({ databaseUrl: url, store, from: backupDir });
+  it('restoring over a copy that has been used (the app ran on it, rows changed, a stray table and schema) gives the backup back exactly', async () => {
+    const url = targetUrl;
+    const store = new LocalFileStore(targetDir);
     const c = new pg.Client({ connectionString: url });
     await c.connect();
     await c.query(`UPDATE users SET name = 'Changed after the backup'`);
@@ -131,6 +132,23 @@ describe('backup and restore', () => {
     await c2.end();
     expect(digests).toEqual(await tableDigests(sourceUrl));
     expect(await store.exists('sections/stray-object')).toBe(false);
+  }, 60_000);
+
+  it('the S3 driver: restore into a bucket, back up from it again, the same files and hashes', async () => {
+    const fake = await startS3Fake();
+    try {
+      const s3 = createFileStore(path.join(tmp, 's3-scratch'), { ...fake.settings, prefix: 'restore-run' });
+      const url = await createDatabase();
+      const first = await verifyBackup(backupDir);
+      await restore({ databaseUrl: url, store: s3, from: backupDir });
+      const again = await backup({ databaseUrl: url, store: s3, outDir: path.join(tmp, 's3-backups') });
+      const byKey = (files: { key: string; sha256: string }[]) => Object.fromEntries(files.map((f) => [f.key, f.sha256]));
+      expect(Object.keys(byKey(again.manifest.files)).length).toBe(first.files.length);
+      expect(byKey(again.manifest.files)).toEqual(byKey(first.files));
+      expect(again.manifest.migrations).toEqual(first.migrations);
+    } finally {
+      await fake.close();
+    }
   }, 60_000);
 
   it('a corrupted file is refused before anything is touched, naming the file', async () => {
