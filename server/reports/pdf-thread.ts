@@ -31,14 +31,15 @@ function thePool(): Tinypool {
   return pool;
 }
 
-export async function writeReportPdfOffLoop(input: PdfInput, file: string): Promise<{ pages: number }> {
+/** The PDF of `input` written to `file` on the PDF thread; resolves with its page count and the thread that made it. */
+export async function writeReportPdfOffLoop(input: PdfInput, file: string): Promise<{ pages: number; threadId: number }> {
   const { onProgress, ...data } = input;
   const { port1, port2 } = new MessageChannel();
   port1.on('message', (f: number) => onProgress?.(f));
   try {
-    const reply = (await thePool().run({ input: data, file, progress: port2 }, { transferList: [port2] })) as { pages?: number; error?: string };
+    const reply = (await thePool().run({ input: data, file, progress: port2 }, { transferList: [port2] })) as { pages?: number; threadId?: number; error?: string };
     if (reply.error !== undefined) throw new Error(`report PDF: ${reply.error}`);
-    return { pages: reply.pages! };
+    return { pages: reply.pages!, threadId: reply.threadId! };
   } finally {
     port1.close();
   }

@@ -25,6 +25,8 @@ import { DEMO_SECTIONS, sectionGeometry } from '../../server/synth/demo';
 import { BuildupReportRow } from '../../server/models/report';
 import { Buildup } from '../../server/models/buildup';
 import { recoverReports } from '../../server/jobs/report.job';
+import { writeReportPdfOffLoop } from '../../server/reports/pdf-thread';
+import { threadId } from 'node:worker_threads';
 import { CAUTION, type MeasurementOutput } from '../../shared/measure/index';
 import { ROOT_DIR } from '../../server/config';
 
@@ -363,6 +365,34 @@ describe('PDF, PNG and SVG through the report job', () => {
     expect(again.status).toBe(200);
     expect(again.body.id).toBe(a4.status.id);
   }, 120_000);
+
+  it('builds the PDF off the event loop: timers keep firing while it is made', async () => {
+    const r = await get(`/api/buildups/${knollId}/report`);
+    expect(r.status).toBe(200);
+    const input = { report: r.body, figures: [], paper: 'a4' as const };
+    // count event-loop turns (setImmediate re-arming itself) while one PDF is made
+    const turnsDuring = async (make: () => Promise<unknown>) => {
+      let turns = 0;
+      let on = true;
+      const spin = () => {
+        if (!on) return;
+        turns++;
+        setImmediate(spin);
+      };
+      setImmediate(spin);
+      await make();
+      on = false;
+      return turns;
+    };
+    let made = { pages: 0, threadId: 0 };
+    const turns = await turnsDuring(async () => (made = await writeReportPdfOffLoop(input, path.join(scratch, 'loop-b.pdf'))));
+    // made on another thread than this test's, and this thread kept turning meanwhile
+    // (building the document on this thread would hold the loop from its start to the final write)
+    expect(made.threadId).not.toBe(threadId);
+    expect(made.pages).toBeGreaterThan(0);
+    expect(turns).toBeGreaterThan(50);
+    expect(pdftotext(path.join(scratch, 'loop-b.pdf'))).toContain(CAUTION.slice(0, 40));
+  });
 
   it('feet in the PDF: the height divided by 0.3048', async () => {
     const m = ((await get(`/api/buildups/${knollId}/measurements`)).body as MeasurementOutput).buildups[0];
