@@ -8,7 +8,7 @@ import { MarginPinTool } from './marginPin';
 import { RulerTool, type RulerOptions } from './ruler';
 import { SelectTool } from './select';
 import { StampTool } from './stamp';
-import { TraceTool } from './trace';
+import { AssistedTraceTool } from '../assist/assistedTrace';
 import { TOOL_IDS, type ToolController, type ToolEnv, type ToolId, type ToolKey, type ToolPointer, type ToolPreview } from './types';
 
 /** Single-key tool shortcuts (our own choice of keys). */
@@ -60,6 +60,10 @@ export const SHORTCUT_GROUPS: readonly ShortcutGroup[] = Object.freeze([
       { keys: ['Double-click', 'Enter'], what: 'Finish the trace' },
       { keys: ['Backspace'], what: 'Remove the last unfinished vertex' },
       { keys: ['Esc'], what: 'Drop the unfinished trace' },
+      { keys: ['G'], what: 'Follow mode: the segment to the cursor follows the event; click commits it' },
+      { keys: ['X'], what: 'Auto-extend: one click follows the event both ways (one undo step)' },
+      { keys: ['P'], what: 'Phase followed: peak · trough · zero crossing' },
+      { keys: ['H'], what: 'Snap the selected line onto the event (±4 px)' },
     ],
   },
   {
@@ -117,7 +121,7 @@ export interface ToolboxOptions {
 export type Tools = {
   select: SelectTool;
   edit: EditTool;
-  trace: TraceTool;
+  trace: AssistedTraceTool;
   marginPin: MarginPinTool;
   stamp: StampTool;
   ruler: RulerTool;
@@ -132,7 +136,7 @@ export class Toolbox {
     this.tools = {
       select: new SelectTool(env),
       edit: new EditTool(env),
-      trace: new TraceTool(env),
+      trace: new AssistedTraceTool(env),
       marginPin: new MarginPinTool(env),
       stamp: new StampTool(env),
       ruler: new RulerTool(env, opts.ruler),

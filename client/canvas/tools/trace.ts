@@ -28,10 +28,10 @@ export const TRACE_TARGET_LABEL: Record<TraceTarget, string> = {
 
 export class TraceTool extends BaseTool {
   readonly id = 'trace' as const;
-  private points: Pt[] = [];
-  private hover: Pt | null = null;
-  private hoverSnap: import('../snapping').SnapHit | null = null;
-  private message: string | undefined;
+  protected points: Pt[] = [];
+  protected hover: Pt | null = null;
+  protected hoverSnap: import('../snapping').SnapHit | null = null;
+  protected message: string | undefined;
   private _target: TraceTarget;
 
   constructor(env: ConstructorParameters<typeof BaseTool>[0], opts: { target?: TraceTarget } = {}) {
@@ -56,14 +56,14 @@ export class TraceTool extends BaseTool {
     this.publish();
   }
 
-  private cycleIndex(): number | null {
+  protected cycleIndex(): number | null {
     if (this._target === 'base') return null;
     const b = this.targetBuildup(this.points[0]?.[0]);
     const sel = this.selectedCycle(b);
     return sel ? sel.index : b ? b.cycles.length : 0;
   }
 
-  private publish(): void {
+  protected publish(): void {
     this.setPreview({
       kind: 'trace',
       target: this._target,
