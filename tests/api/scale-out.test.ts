@@ -126,7 +126,7 @@ async function login(web: WebProcess, email: string, password = DEMO_PASSWORD) {
 async function uploadVia(web: WebProcess, token: string, projectId: number, png: Buffer, name: string) {
   const form = new FormData();
   for (const [k, v] of Object.entries({ title: `${name} (scale-out)`, lineName: name, survey: 'TB-2024', verticalDomain: 'twt_ms' })) form.append(k, v);
-  form.append('image', new Blob([png], { type: 'image/png' }), `${name}.png`);
+  form.append('image', new Blob([new Uint8Array(png)], { type: 'image/png' }), `${name}.png`);
   return api(web, 'POST', `/api/projects/${projectId}/sections`, { token, form });
 }
 
