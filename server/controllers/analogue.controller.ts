@@ -6,6 +6,7 @@ import * as io from '../services/analogue-import.service';
 import { idParam } from '../middlewares/params';
 import { AppError, validationError } from '../errors';
 import { analogueSearchSchema, importMappingSchema, IMPORT_MAX_BYTES, listNameSchema, searchQueryFromUrl, type ListName } from '../../shared/schemas/analogues';
+import { multipartBody } from '../openapi/marks';
 
 function listParam(req: Request): ListName {
   const r = listNameSchema.safeParse(req.params.list);
@@ -100,6 +101,7 @@ export const csvUpload: RequestHandler = (req, res, next) => {
     next();
   });
 };
+multipartBody(csvUpload, 'file', 'one CSV file of analogues');
 
 function mappingOf(req: Request, required: boolean) {
   const raw = (req.body ?? {}).mapping;

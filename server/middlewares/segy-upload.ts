@@ -17,6 +17,7 @@ import path from 'node:path';
 import multer, { MulterError } from 'multer';
 import type { Readable } from 'node:stream';
 import type { RequestHandler } from 'express';
+import { multipartBody } from '../openapi/marks';
 import type { Config } from '../config';
 import { AppError, validationError } from '../errors';
 import { fileStoreFor } from '../storage/fileStore';
@@ -85,7 +86,7 @@ function translate(err: unknown, config: Config): unknown {
 
 /** Parse the SEG-Y upload form; puts the text fields in req.body and the ingested file in res.locals.segy. */
 export function uploadSegy(config: Config): RequestHandler {
-  return async (req, res, next) => {
+  const handler: RequestHandler = async (req, res, next) => {
     const dir = await fileStoreFor(config.storageDir).scratchDir('upload');
     res.once('close', () => fs.rm(dir, { recursive: true, force: true }, () => {}));
     let received: SegyUploadedFile | null = null;
@@ -139,4 +140,5 @@ export function uploadSegy(config: Config): RequestHandler {
       next();
     });
   };
+  return multipartBody(handler, SEGY_FIELD, 'the SEG-Y file (rev 0, 1 or 2)');
 }

@@ -8,6 +8,7 @@
 import fs from 'node:fs';
 import multer, { MulterError } from 'multer';
 import type { RequestHandler } from 'express';
+import { multipartBody } from '../openapi/marks';
 import type { Config } from '../config';
 import { AppError } from '../errors';
 import { fileStoreFor, randomName } from '../storage/fileStore';
@@ -57,7 +58,7 @@ function translate(err: unknown, config: Config): unknown {
 
 /** Parse `multipart/form-data` with the section image; puts the text fields in req.body and the file in req.file. */
 export function uploadSectionImage(config: Config): RequestHandler {
-  return async (req, res, next) => {
+  const handler: RequestHandler = async (req, res, next) => {
     const dir = await fileStoreFor(config.storageDir).scratchDir('upload');
     res.once('close', () => fs.rm(dir, { recursive: true, force: true }, () => {}));
     const parse = multer({
@@ -82,4 +83,5 @@ export function uploadSectionImage(config: Config): RequestHandler {
       next();
     });
   };
+  return multipartBody(handler, UPLOAD_FIELD, 'the section image: one PNG, JPEG or TIFF file');
 }

@@ -7,7 +7,9 @@
  *   after `/api`;
  * - path, query and body schemas come from the route's `validate()` handlers
  *   (server/middlewares/validate.ts); path parameters without a schema are
- *   plain strings;
+ *   plain strings; a multipart parser marked with `multipartBody()`
+ *   (marks.ts) makes the body `multipart/form-data`: its file field plus the
+ *   text fields the route validates;
  * - `requireAuth` anywhere in the chain means bearer-token security and a 401
  *   answer; `requireRole(...)` adds a 403 and `x-cayline-roles`;
  * - every operation answers the one error shape `{ code, message, details? }`
@@ -22,6 +24,7 @@ import { OpenAPIRegistry, OpenApiGeneratorV31, extendZodWithOpenApi, type RouteC
 import { routeEntries, type RouteEntry } from './route-table';
 import { validatedBy } from '../middlewares/validate';
 import { REQUIRED_ROLES, requireAuth } from '../middlewares/auth';
+import { multipartOf } from './marks';
 
 extendZodWithOpenApi(z);
 
@@ -103,7 +106,14 @@ function operation(route: RouteEntry, usedIds: Set<string>): RouteConfig {
   const request: RouteConfig['request'] = {};
   if (names.length) request.params = pathParams;
   if (queryObject) request.query = z.object(Object.fromEntries(Object.entries(queryObject.shape).map(([k, v]) => [k, renderable(v as ZodType)])));
-  if (body) request.body = { required: true, content: { 'application/json': { schema: renderable(body.schema) } } };
+  const multipart = route.handlers.map(multipartOf).find((m) => m !== null);
+  if (multipart) {
+    // a file plus text fields; the text fields are what the route's validate() checks after the parser
+    const fields = body ? asObject(body.schema) : null;
+    const shape = Object.fromEntries(Object.entries(fields?.shape ?? {}).map(([k, v]) => [k, renderable(v as ZodType)]));
+    const file = z.string().meta({ format: 'binary', description: multipart.description });
+    request.body = { required: true, content: { 'multipart/form-data': { schema: z.object({ [multipart.fileField]: file, ...shape }) } } };
+  } else if (body) request.body = { required: true, content: { 'application/json': { schema: renderable(body.schema) } } };
 
   const error = (description: string) => ({ description, content: { 'application/json': { schema: apiErrorSchema } } });
   const responses: RouteConfig['responses'] = { '2XX': { description: 'Success' } };

@@ -71,7 +71,8 @@ describe('OpenAPI document', () => {
         if (!v) continue;
         if (v.where === 'body') {
           bodies++;
-          expect(op.requestBody?.content['application/json'].schema, `${r.method} ${r.path}`).toBeTruthy();
+          const content = op.requestBody?.content ?? {};
+          expect(content['application/json']?.schema ?? content['multipart/form-data']?.schema, `${r.method} ${r.path}`).toBeTruthy();
         } else {
           const shape = (v.schema as z.ZodObject).shape as Record<string, unknown> | undefined;
           if (!shape) continue;
@@ -99,6 +100,19 @@ describe('OpenAPI document', () => {
     expect(schema.properties.name.minLength).toBe(own.properties.name.minLength);
     expect(opOf('POST', '/api/projects')['x-cayline-roles']).toEqual(['admin', 'interpreter']);
     expect(Object.keys(opOf('POST', '/api/projects').responses)).toContain('403');
+  });
+
+  it('uploads are multipart/form-data: the file field plus the validated text fields', () => {
+    const upload = opOf('POST', '/api/projects/:projectId/sections').requestBody!.content;
+    expect(Object.keys(upload)).toEqual(['multipart/form-data']);
+    const schema = upload['multipart/form-data'].schema as { properties: Record<string, { type?: string; format?: string }>; required: string[] };
+    expect(schema.properties.image).toMatchObject({ type: 'string', format: 'binary' });
+    expect(schema.required).toContain('image');
+    expect(Object.keys(schema.properties).length).toBeGreaterThan(1); // the section's text fields (name, vertical domain…)
+    for (const path of ['/api/analogues/import', '/api/analogues/import/preview']) {
+      expect(Object.keys(opOf('POST', path).requestBody!.content), path).toEqual(['multipart/form-data']);
+    }
+    expect(Object.keys(opOf('POST', '/api/projects/:projectId/segy').requestBody!.content)).toEqual(['multipart/form-data']);
   });
 
   it('query parameters come from the query schema: GET /api/projects', () => {
