@@ -24,6 +24,7 @@ import { startBackgroundJobs } from '../jobs/pyramid.job';
 import { logger } from '../logger';
 import { setContext } from '../context';
 import { createMailer } from '../mail/mailer';
+import { fileStoreFor } from '../storage/fileStore';
 
 async function main() {
   const databaseUrl = process.env.DATABASE_URL;
@@ -37,7 +38,7 @@ async function main() {
   // the services jobs call (register summaries, reports) read the database and config from the app context
   setContext({ config, sequelize, mailer: createMailer({ host: process.env.SMTP_HOST ?? config.mail.host, port: config.mail.port, from: config.mail.from }) });
   const jobs = await startBackgroundJobs({ databaseUrl, config, sequelize });
-  logger.info({ storage: config.storageDir }, 'Cayline worker up');
+  logger.info({ storage: config.storageDir, store: fileStoreFor(config.storageDir).driver }, 'Cayline worker up');
   const stop = async () => {
     await jobs.stop();
     await sequelize.close();
