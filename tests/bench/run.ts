@@ -3,7 +3,7 @@ import { spawnSync } from 'node:child_process';
 import path from 'node:path';
 import { ROOT_DIR } from '../../server/config';
 
-const benches = ['measure.bench.ts', 'model.bench.ts', 'tiles.bench.ts', 'canvas.bench.ts', 'stall.bench.ts', 'library.bench.ts', 'report.bench.ts', 'segy.bench.ts'];
+const benches = ['measure.bench.ts', 'model.bench.ts', 'tiles.bench.ts', 'canvas.bench.ts', 'stall.bench.ts', 'library.bench.ts', 'report.bench.ts', 'segy.bench.ts', 'trace-assist.bench.ts'];
 const only = process.argv.slice(2);
 for (const b of benches) {
   if (only.length && !only.some((o) => b.startsWith(o))) continue;
