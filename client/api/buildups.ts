@@ -7,9 +7,11 @@
  * (shared/measure), so `getMeasurements` is the authoritative check of a
  * live preview.
  */
-import type { BuildupGeometry, VelocityModel } from '../../shared/editor/model';
+import type { z } from 'zod';
+import type { BuildupGeometry } from '../../shared/editor/model';
 import type { MeasurementOutput } from '../../shared/measure/index';
-import type { BuildupSummary } from '../../shared/schemas/buildups';
+import type { BuildupSummary, saveBuildupSchema } from '../../shared/schemas/buildups';
+import type { MeasureOptionsInput, VelocityModelInput as VelocityModel } from '../../shared/schemas/interpretation';
 import type { ReviewState } from '../../shared/schemas/review';
 import { ApiError, apiFetch, isApiError } from './http';
 
@@ -39,23 +41,16 @@ export interface BuildupConflictCurrent {
   updatedAt: string;
 }
 
-export interface SaveBuildupBody {
-  version: number;
-  name?: string;
-  geometry: BuildupGeometry;
-}
+/** `PUT /api/buildups/:id`: what `saveBuildupSchema` accepts (z.input, so defaults may be left out). */
+export type SaveBuildupBody = z.input<typeof saveBuildupSchema>;
 
 export interface SaveBuildupResult {
   version: number;
   updatedAt: string;
 }
 
-/** Thresholds a reader may change when asking for measurements (spec §5, §6, §8). */
-export interface MeasurementQuery {
-  aggradingToleranceDeg?: number;
-  drownedMinTerminations?: number;
-  draws?: number;
-}
+/** Thresholds a reader may change when asking for measurements (spec §5, §6, §8): those of `measureOptionsSchema`. */
+export type MeasurementQuery = Pick<MeasureOptionsInput, 'aggradingToleranceDeg' | 'drownedMinTerminations' | 'draws'>;
 
 /** `GET/PUT /api/sections/:id/velocity` */
 export interface VelocityInfo {

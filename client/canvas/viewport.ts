@@ -21,7 +21,8 @@
  */
 import { computed, reactive, readonly, ref, watch, type MaybeRefOrGetter, toValue } from 'vue';
 
-export type Pt = [number, number];
+export type { Pt } from './model';
+import type { Pt } from './model';
 
 export interface View {
   /** Screen pixels per image pixel. */

@@ -7,7 +7,7 @@
  */
 import { useMutation, useQuery, useQueryClient } from '@tanstack/vue-query';
 import { computed, toValue, type MaybeRefOrGetter } from 'vue';
-import type { VelocityModel } from '../../shared/editor/model';
+import type { VelocityModel } from '../canvas/model';
 import { getVelocity, listBuildups, putVelocity, type VelocityInfo } from '../api/buildups';
 
 export const buildupKeys = {

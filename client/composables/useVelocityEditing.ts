@@ -4,7 +4,7 @@
  */
 import { ref, shallowRef, toValue, watch, computed, type MaybeRefOrGetter } from 'vue';
 import { errorMessage } from '../api/http';
-import type { VelocityModel } from '../../shared/editor/model';
+import type { VelocityModel } from '../canvas/model';
 import { message } from './feedback';
 import { usePutVelocity, useSectionVelocity } from './useBuildups';
 

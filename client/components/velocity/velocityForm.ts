@@ -10,7 +10,7 @@
  * `layers[1].topMs`, `water.v.mode`, …).
  */
 import { toDisplayVelocity, velocityLabel, type LengthUnit } from '../../../shared/units';
-import type { VelocityModel, VelocityValue } from '../../../shared/editor/model';
+import type { VelocityModel, VelocityValue } from '../../canvas/model';
 import { describeIssues, velocityModelSchema } from '../../../shared/schemas/interpretation';
 import { DEFAULT_VELOCITY } from '../../../shared/schemas/buildups';
 
