@@ -35,7 +35,18 @@ describe('API reference page', () => {
     await body.waitFor();
     expect(await body.textContent()).toMatch(/name\*\s*string/);
     expect(await create.textContent()).toMatch(/admin/);
+    await page.waitForTimeout(400); // the opening animation, for the screenshot only
     await b.shot('60-api-reference');
+
+    // an upload is a form body: the file field and the text fields
+    await page.fill('[data-test="api-reference-filter"] input', 'post /api/projects/{projectId}/sections');
+    await expect.poll(() => page.locator('[data-test="api-operation"]').count()).toBe(1);
+    await page.locator('[data-test="api-operation"] .n-collapse-item__header').click();
+    const form = page.locator('[data-test="api-body"]');
+    await form.waitFor();
+    expect(await form.textContent()).toMatch(/multipart\/form-data[\s\S]*image\*\s*string[\s\S]*binary/);
+    await page.waitForTimeout(400); // the opening animation, for the screenshot only
+    await b.shot('62-api-reference-upload');
 
     await page.fill('[data-test="api-reference-filter"] input', 'health');
     await expect.poll(() => page.locator('[data-test="api-operation"]').count()).toBe(3);
