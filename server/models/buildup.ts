@@ -1,7 +1,6 @@
 /** Buildup (traced geometry in pixels, optimistic locking) and SectionVelocity. Bound from initModels. */
 import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from 'sequelize';
-import { User } from './index';
-import { Section } from './section';
+import type { User } from './core';
 import type { BuildupGeometry } from '../../shared/editor/model';
 import type { ReviewState } from '../../shared/schemas/review';
 
@@ -58,7 +57,4 @@ export function initBuildupModels(sequelize: Sequelize) {
     },
     { sequelize, tableName: 'section_velocities', createdAt: false },
   );
-  Buildup.belongsTo(Section, { foreignKey: 'sectionId', as: 'section' });
-  Buildup.belongsTo(User, { foreignKey: 'updatedById', as: 'updatedBy' });
-  Section.hasMany(Buildup, { foreignKey: 'sectionId', as: 'buildups' });
 }

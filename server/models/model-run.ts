@@ -1,7 +1,6 @@
 /** ModelRun: a saved run of the growth forward model (migration 0013). Bound from initModels. */
 import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from 'sequelize';
-import { User } from './index';
-import { Buildup } from './buildup';
+import type { User } from './core';
 import type { ModelRunSummary, ProfileSource } from '../../shared/schemas/model-runs';
 
 export class ModelRun extends Model<InferAttributes<ModelRun>, InferCreationAttributes<ModelRun>> {
@@ -32,6 +31,4 @@ export function initModelRunModels(sequelize: Sequelize) {
     },
     { sequelize, tableName: 'model_runs', updatedAt: false },
   );
-  ModelRun.belongsTo(User, { foreignKey: 'createdById', as: 'createdBy' });
-  ModelRun.belongsTo(Buildup, { foreignKey: 'buildupId', as: 'buildup' });
 }

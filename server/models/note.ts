@@ -1,7 +1,5 @@
 /** NoteThread (a Note pin and its thread on a section) and NoteMessage. Bound from initModels. */
 import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from 'sequelize';
-import { User } from './index';
-import { Section } from './section';
 import type { NoteObjectRef } from '../../shared/notes/anchor';
 
 export class NoteThread extends Model<InferAttributes<NoteThread>, InferCreationAttributes<NoteThread>> {
@@ -70,8 +68,4 @@ export function initNoteModels(sequelize: Sequelize) {
     },
     { sequelize, tableName: 'note_messages', version: true },
   );
-  NoteThread.belongsTo(Section, { foreignKey: 'sectionId', as: 'section' });
-  NoteThread.hasMany(NoteMessage, { foreignKey: 'threadId', as: 'messages' });
-  NoteMessage.belongsTo(NoteThread, { foreignKey: 'threadId', as: 'thread' });
-  NoteMessage.belongsTo(User, { foreignKey: 'authorId', as: 'author' });
 }

@@ -1,6 +1,6 @@
 /** Notification (the bell), AccountToken (single-use account links) and MailMessage (the Outbox). Bound from initModels. */
 import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type Sequelize } from 'sequelize';
-import type { NotifyKind } from '../services/notify.service';
+import type { NotifyKind } from '../../shared/schemas/notifications';
 
 export type EmailState = 'pending' | 'sent' | 'skipped';
 

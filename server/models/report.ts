@@ -1,6 +1,5 @@
 /** BuildupReport: a report job and its cached files (migration 0009). Bound from initModels. */
 import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type Sequelize } from 'sequelize';
-import { Buildup } from './buildup';
 
 export type ReportStatus = 'queued' | 'running' | 'ready' | 'failed';
 
@@ -50,5 +49,4 @@ export function initReportModels(sequelize: Sequelize) {
     },
     { sequelize, tableName: 'buildup_reports' },
   );
-  BuildupReportRow.belongsTo(Buildup, { foreignKey: 'buildupId', as: 'buildup' });
 }

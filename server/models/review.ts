@@ -4,8 +4,7 @@
  * review transitions (`review_transitions`). Bound from initModels.
  */
 import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from 'sequelize';
-import { User } from './index';
-import { Buildup } from './buildup';
+import type { User } from './core';
 import type { BuildupGeometry, VelocityModel } from '../../shared/editor/model';
 import type { ReviewState } from '../../shared/schemas/review';
 
@@ -67,8 +66,4 @@ export function initReviewModels(sequelize: Sequelize) {
     },
     { sequelize, tableName: 'review_transitions', updatedAt: false },
   );
-  BuildupVersion.belongsTo(User, { foreignKey: 'savedById', as: 'savedBy' });
-  BuildupVersion.belongsTo(Buildup, { foreignKey: 'buildupId', as: 'buildup' });
-  ReviewTransition.belongsTo(User, { foreignKey: 'actorId', as: 'actor' });
-  ReviewTransition.belongsTo(Buildup, { foreignKey: 'buildupId', as: 'buildup' });
 }

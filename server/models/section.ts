@@ -11,10 +11,10 @@ import {
   type NonAttribute,
   type Sequelize,
 } from 'sequelize';
-import { Project, User } from './index';
+import type { User } from './core';
 import type { SectionStatus, Tie, VerticalDomain } from '../../shared/schemas/sections';
 import type { RenderSettings, SegySelection } from '../../shared/schemas/segy';
-import { SegyUpload, initSegyModels } from './segy';
+import { initSegyModels } from './segy';
 
 /** What the pyramid builder produced (stored in `sections.pyramid`). */
 export interface PyramidInfo {
@@ -141,11 +141,4 @@ export function initSectionModels(sequelize: Sequelize) {
     },
     { sequelize, tableName: 'section_calibrations', updatedAt: false },
   );
-
-  Section.belongsTo(Project, { foreignKey: 'projectId', as: 'project' });
-  Section.belongsTo(User, { foreignKey: 'uploadedById', as: 'uploadedBy' });
-  Section.belongsTo(SegyUpload, { foreignKey: 'segyUploadId', as: 'segyUpload' });
-  Section.hasMany(SectionCalibration, { foreignKey: 'sectionId', as: 'calibrations' });
-  SectionCalibration.belongsTo(Section, { foreignKey: 'sectionId', as: 'section' });
-  SectionCalibration.belongsTo(User, { foreignKey: 'createdBy', as: 'author' });
 }

@@ -17,8 +17,9 @@ import { Notification } from '../models/notification';
 import { User } from '../models/index';
 import { ctx } from '../context';
 import { logger } from '../logger';
+import { NOTIFY_KINDS, type NotifyKind } from '../../shared/schemas/notifications';
 
-export type NotifyKind = 'mention' | 'reply' | 'review_state';
+export type { NotifyKind };
 
 export interface NotifyEvent {
   kind: NotifyKind;
@@ -34,7 +35,7 @@ export interface NotifyEvent {
   link: string;
 }
 
-const KINDS: NotifyKind[] = ['mention', 'reply', 'review_state'];
+const KINDS: readonly NotifyKind[] = NOTIFY_KINDS;
 const SUBJECT_MAX = 200;
 const TEXT_MAX = 4000;
 /** Pending notifications of people on "immediate" older than this are mailed by the digest run (a failed send, a changed preference). */

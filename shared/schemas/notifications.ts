@@ -5,6 +5,10 @@ export const NOTIFY_MODES = ['immediate', 'digest', 'none'] as const;
 export const notifyModeSchema = z.enum(NOTIFY_MODES);
 export type NotifyMode = z.infer<typeof notifyModeSchema>;
 
+/** What a notification is about. */
+export const NOTIFY_KINDS = ['mention', 'reply', 'review_state'] as const;
+export type NotifyKind = (typeof NOTIFY_KINDS)[number];
+
 export const preferencesSchema = z.object({ notifyMode: notifyModeSchema });
 export type PreferencesInput = z.infer<typeof preferencesSchema>;
 
