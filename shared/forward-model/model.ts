@@ -140,9 +140,11 @@ export function columnsOf(profile: readonly (readonly number[])[], n: number): {
 /**
  * Move sediment down-flank wherever the slope between neighbours exceeds
  * `maxDz` per column spacing (the angle-of-repose rule, see the module doc).
- * Mass-conserving; returns the largest excess left (m).
+ * Mass-conserving; returns the largest excess left (m), or NaN when
+ * `reportExcess` is false (the model's own loop does not use it and skips
+ * that scan over every column).
  */
-export function relaxSlopes(top: Float64Array, base: Float64Array, maxDz: number, maxPasses = 50, tolM = 1e-4): number {
+export function relaxSlopes(top: Float64Array, base: Float64Array, maxDz: number, maxPasses = 50, tolM = 1e-4, reportExcess = true): number {
   const n = top.length;
   // pairs (i, i+1) scanned: only around those that moved in the pass before
   let lo = 0;
@@ -174,6 +176,7 @@ export function relaxSlopes(top: Float64Array, base: Float64Array, maxDz: number
     lo = Math.max(0, first - 1);
     hi = Math.min(n - 2, last + 1);
   }
+  if (!reportExcess) return Number.NaN;
   // largest excess left where the higher column still holds sediment
   let worst = 0;
   for (let i = 0; i + 1 < n; i++) {
@@ -271,7 +274,7 @@ export function runParsed(p: ForwardModelParams, options: RunOptions = {}): Mode
         top[i] = nz;
       }
     }
-    relaxSlopes(top, base, maxDz, RELAX_MAX_PASSES);
+    relaxSlopes(top, base, maxDz, RELAX_MAX_PASSES, 1e-4, false);
     seaStart = seaEnd;
     if (s + 1 === nextBoundary) {
       surfaces.push(Float64Array.from(top));
