@@ -1,3 +1,4 @@
+// Over 500 lines on purpose: the one registry of every named editor action (history, tools, the Ledger and tests all dispatch from this single table).
 /**
  * The action registry of the interpretation canvas.
  *

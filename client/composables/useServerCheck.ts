@@ -13,7 +13,8 @@ import { sameContent } from '../canvas/history';
 import type { EditorBuildup } from '../canvas/model';
 import type { ServerState } from '../components/readings/ReadingsPanel.vue';
 import type { useInterpretationStore } from '../stores/interpretation';
-import { compareWithServer, type LiveReadings } from './useLiveReadings';
+import { compareWithServer } from './serverCompare';
+import type { LiveReadings } from './useLiveReadings';
 
 export interface ServerCheckArgs {
   store: Pick<ReturnType<typeof useInterpretationStore>, 'buildupById' | 'selection' | 'dirtyBuildupIds'>;
