@@ -19,6 +19,8 @@
  */
 import seedrandom from 'seedrandom';
 import { convolveSame, rickerSampled, rickerTable, stampSpike } from './ricker';
+import type { ResolvedVelocityModel } from '../../shared/measure/velocity';
+import type { TieInput } from '../../shared/schemas/interpretation';
 
 export type Pt = [number, number];
 
@@ -464,16 +466,10 @@ export interface BuildupGeometry {
   terminations: { type: 'onlap' | 'downlap' | 'toplap' | 'truncation'; at: Pt }[];
   topIsDrowningSurface: boolean;
 }
-export interface BuildupVelocityModel {
-  kind: 'buildup';
-  water: { v: number; seafloorMs: number };
-  overburden: { v: number };
-  carbonate: { v: number };
-}
-export interface Tie {
-  px: Pt;
-  world: Pt;
-}
+/** The engine's `buildup` velocity model with plain velocities (shared/measure/velocity.ts). */
+export type BuildupVelocityModel = Extract<ResolvedVelocityModel, { kind: 'buildup' }>;
+/** A Tie as the interpretation schema gives it (shared/schemas/interpretation.ts). */
+export type Tie = TieInput;
 export interface Interpretation {
   format: 'cayline.interpretation/1';
   verticalDomain: 'twt_ms' | 'depth_m';

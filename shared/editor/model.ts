@@ -11,6 +11,7 @@ import { safeText } from '../schemas/text';
 import { formatIssuePath } from '../api-errors';
 import { applyCalibration, fitCalibration, type Affine } from '../measure/calibration';
 import { isPt, uRange, type Pt } from './geometry';
+import type { speedSchema, TieInput, VelocityModelInput } from '../schemas/interpretation';
 
 export type { Pt } from './geometry';
 
@@ -284,26 +285,14 @@ export function fromGeometry(record: unknown): EditorBuildup {
 
 export type VerticalDomain = 'twt_ms' | 'depth_m';
 
-/** A Tie: image pixel ↔ section coordinates (spec §2). */
-export interface CalibrationTie {
-  px: Pt;
-  world: [number, number];
-}
+/** A Tie: image pixel ↔ section coordinates (spec §2); the schema's type (shared/schemas/interpretation.ts). */
+export type CalibrationTie = TieInput;
 
-/** A velocity or a `{ min, mode, max }` range (spec §3). */
-export type VelocityValue = number | { min: number; mode: number; max: number };
+/** A velocity or a `{ min, mode, max }` range (spec §3), as the schema gives it. */
+export type VelocityValue = z.output<typeof speedSchema>;
 
-/** Velocity model (spec §3); passed through to the engine unchanged. */
-export type VelocityModel =
-  | { kind: 'constant'; v: VelocityValue }
-  | { kind: 'layers'; layers: { topMs: number; v: VelocityValue }[] }
-  | { kind: 'linear'; v0: VelocityValue; k: number }
-  | {
-      kind: 'buildup';
-      water: { v: VelocityValue; seafloorMs: number };
-      overburden: { v: VelocityValue };
-      carbonate: { v: VelocityValue };
-    };
+/** Velocity model (spec §3), as the schema gives it; passed through to the engine unchanged. */
+export type VelocityModel = VelocityModelInput;
 
 export interface InterpretationCycleInput {
   index: number;

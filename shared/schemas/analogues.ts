@@ -33,6 +33,7 @@
  * Search shows accepted analogues unless `status` says otherwise. Errors: `{ code, message, details }`.
  */
 import { z } from 'zod';
+import { NAME_MAX } from './limits';
 import { safeText } from './text';
 
 // ---------------------------------------------------------------------------
@@ -417,7 +418,7 @@ export function searchQueryFromUrl(params: Record<string, unknown> | URLSearchPa
 }
 
 export const savedSearchSchema = z.object({
-  name: safeText().trim().min(1, 'is required').max(120),
+  name: safeText().trim().min(1, 'is required').max(NAME_MAX),
   /** The URL form of the search (searchQueryToUrl(...).toString()). */
   query: safeText().max(4000),
 });

@@ -3,6 +3,7 @@
  * pixels, saved with optimistic locking, and the section's velocity model.
  */
 import { z } from 'zod';
+import { NAME_MAX } from './limits';
 import { buildupGeometrySchema, storedCycleId, storedTerminationId } from '../editor/model';
 import { velocityModelSchema } from './interpretation';
 import { safeText } from './text';
@@ -14,7 +15,7 @@ export { buildupGeometrySchema };
 export const MAX_VERTICES = 20_000;
 export const MAX_CYCLES = 60;
 
-const name = safeText().trim().min(1, 'is required').max(120, 'must be at most 120 characters');
+const name = safeText().trim().min(1, 'is required').max(NAME_MAX, `must be at most ${NAME_MAX} characters`);
 
 export const createBuildupSchema = z.object({ name });
 

@@ -19,6 +19,7 @@
  * silently), unknown interpretation fields are ignored.
  */
 import { z } from 'zod';
+import { DRAWS_DEFAULT, DRAWS_MAX, DRAWS_MIN } from './limits';
 import { formatIssuePath } from '../api-errors';
 import { fitCalibration, type Tie } from '../measure/calibration';
 import { safeText } from './text';
@@ -251,7 +252,7 @@ export const measureOptionsSchema = z.strictObject(
     /** Smallest left–right flank-angle difference (degrees) that earns a windward/leeward hint. */
     asymmetryMinDeg: num().min(0, 'must be ≥ 0°').default(2),
     /** Monte Carlo draws when any velocity is a range. */
-    draws: z.number({ error: req('must be an integer') }).int('must be an integer').min(10, 'must be ≥ 10').max(100000, 'must be ≤ 100000').default(1000),
+    draws: z.number({ error: req('must be an integer') }).int('must be an integer').min(DRAWS_MIN, `must be ≥ ${DRAWS_MIN}`).max(DRAWS_MAX, `must be ≤ ${DRAWS_MAX}`).default(DRAWS_DEFAULT),
     /** Seed of the Monte Carlo draws (same seed, same ranges). */
     seed: z.union([safeText().max(200, 'must be at most 200 characters'), num()], { error: req('must be a text or a number') }).default('cayline'),
   },

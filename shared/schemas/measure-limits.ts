@@ -15,15 +15,13 @@
  * 16 times the budget.
  */
 import { z } from 'zod';
+import { DRAWS_DEFAULT, DRAWS_MIN } from './limits';
 import { FLANK_SAMPLES } from '../measure/flank';
 
 /** Largest work (draws × (vertices + 257 per flank)) one request may ask for. */
 export const MEASURE_WORK_BUDGET = 200_000_000;
 /** Most buildups one `POST /api/measure` may carry. */
 export const MEASURE_MAX_BUILDUPS = 50;
-/** The engine's own default and smallest number of draws (shared/schemas/interpretation.ts). */
-const DEFAULT_DRAWS = 1000;
-const MIN_DRAWS = 10;
 
 const isObj = (v: unknown): v is Record<string, unknown> => typeof v === 'object' && v !== null && !Array.isArray(v);
 const len = (v: unknown) => (Array.isArray(v) ? v.length : 0);
@@ -86,7 +84,7 @@ export interface WorkProblem {
  */
 export function measureWorkProblem(input: unknown, draws: unknown, drawsPath: string, budget = MEASURE_WORK_BUDGET): WorkProblem | null {
   const w = measureWorkOf(input);
-  const d = draws === undefined ? DEFAULT_DRAWS : draws;
+  const d = draws === undefined ? DRAWS_DEFAULT : draws;
   if (typeof d !== 'number' || !Number.isFinite(d)) return null;
   const work = w.perDraw * (w.ranged ? Math.max(1, d) : 1);
   if (work <= budget) return null;
@@ -94,8 +92,8 @@ export function measureWorkProblem(input: unknown, draws: unknown, drawsPath: st
   const size = `${w.vertices.toLocaleString('en')} vertices + ${w.flanks} flanks × ${FLANK_SAMPLES} samples`;
   const message = !w.ranged
     ? `the input is too large to measure: ${size} exceeds the work budget of ${budget.toLocaleString('en')}`
-    : maxDraws < MIN_DRAWS
-      ? `the input is too large for velocity ranges (${size} per draw): even ${MIN_DRAWS} draws exceed the work budget of ${budget.toLocaleString('en')}; measure fewer or simpler buildups`
+    : maxDraws < DRAWS_MIN
+      ? `the input is too large for velocity ranges (${size} per draw): even ${DRAWS_MIN} draws exceed the work budget of ${budget.toLocaleString('en')}; measure fewer or simpler buildups`
       : `${d.toLocaleString('en')} draws ask for too much work for this input (${size} per draw); at most ${maxDraws.toLocaleString('en')} draws are allowed for it`;
   return { path: w.ranged ? drawsPath : 'interpretation', message, maxDraws };
 }

@@ -1,16 +1,17 @@
 import { z } from 'zod';
+import { NAME_MAX } from './limits';
 import type { PublicUser } from './auth';
 import { safeText } from './text';
 
 export const createProjectSchema = z.object({
-  name: safeText().trim().min(1, 'is required').max(120),
+  name: safeText().trim().min(1, 'is required').max(NAME_MAX),
   description: safeText({ multiline: true }).trim().max(2000).optional().default(''),
 });
 export type CreateProjectInput = z.input<typeof createProjectSchema>;
 
 export const updateProjectSchema = z
   .object({
-    name: safeText().trim().min(1, 'is required').max(120).optional(),
+    name: safeText().trim().min(1, 'is required').max(NAME_MAX).optional(),
     description: safeText({ multiline: true }).trim().max(2000).optional(),
   })
   .refine((v) => Object.keys(v).length > 0, { message: 'nothing to change' });

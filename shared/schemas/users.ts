@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { NAME_MAX } from './limits';
 import { roleSchema } from './auth';
 import { safeText } from './text';
 
@@ -6,7 +7,7 @@ export const PASSWORD_MIN = 10;
 
 export const createUserSchema = z.object({
   email: z.string().trim().toLowerCase().email('must be an e-mail address'),
-  name: safeText().trim().min(1, 'is required').max(120),
+  name: safeText().trim().min(1, 'is required').max(NAME_MAX),
   role: roleSchema,
   /** Optional: when absent, the person is invited by mail with a single-use link to choose their own password. */
   password: safeText().min(PASSWORD_MIN, `must be at least ${PASSWORD_MIN} characters`).max(200).optional(),
@@ -15,7 +16,7 @@ export type CreateUserInput = z.infer<typeof createUserSchema>;
 
 export const updateUserSchema = z
   .object({
-    name: safeText().trim().min(1, 'is required').max(120).optional(),
+    name: safeText().trim().min(1, 'is required').max(NAME_MAX).optional(),
     role: roleSchema.optional(),
     active: z.boolean().optional(),
   })
