@@ -2,7 +2,9 @@
  * The cursor over the section and the vertical exaggeration shown beside the
  * stretch control: the intrinsic VE of the section (from the depth
  * converter, at the cursor, else where the cursor last was, else the image
- * centre) times the on-screen stretch.
+ * centre) times the on-screen stretch. The VE is taken over the DRAWN pixels
+ * (`e.view`: the depth view's pixels when it is shown, with its converter),
+ * the cursor readout keeps image pixels (`cursor`).
  */
 import { computed, ref, type Ref } from 'vue';
 import type { Pt } from '../canvas/model';
@@ -14,10 +16,12 @@ export function useVerticalExaggeration(a: { size: () => { width: number; height
   const cursor = ref<Pt | null>(null);
   const cursorInside = ref(false);
   const lastCursor = ref<Pt | null>(null);
+  const drawnCursor = ref<Pt | null>(null);
   function track(e: StagePointerEvent): void {
     cursor.value = e.image;
+    drawnCursor.value = e.view ?? e.image;
     cursorInside.value = e.inside;
-    if (e.inside) lastCursor.value = e.image;
+    if (e.inside) lastCursor.value = drawnCursor.value;
   }
   function leave(): void {
     cursor.value = null;
@@ -25,7 +29,7 @@ export function useVerticalExaggeration(a: { size: () => { width: number; height
 
   const stretch = ref(1);
   const veAt = computed<Pt | null>(() => {
-    if (cursor.value && cursorInside.value) return cursor.value;
+    if (drawnCursor.value && cursor.value && cursorInside.value) return drawnCursor.value;
     if (lastCursor.value) return lastCursor.value;
     const s = a.size();
     return s ? [s.width / 2, s.height / 2] : null;
