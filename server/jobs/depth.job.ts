@@ -36,6 +36,7 @@ import { deadJobReason, type Liveness, type JobTimings, type WorkerRow } from '.
 import { ColumnResampler, depthAxisFor, FILL, type DepthViewBasis } from '../../shared/depth-view/index';
 import { DEFAULT_VELOCITY } from '../../shared/schemas/buildups';
 import { fromGeometry, isMeasurable, toInterpretationInput, type VelocityModel } from '../../shared/editor/model';
+import { segyImageCopy } from './segy-render';
 
 export const DEPTH_QUEUE = 'section-depth';
 export interface DepthJobData {
@@ -243,7 +244,8 @@ export async function runDepthJob(job: PgBoss.Job<DepthJobData>) {
     if (section.verticalDomain !== 'twt_ms') throw new Error('the section is already in depth');
     const versions = await currentDepthVersions(sectionId);
     const basis = await depthBasisOf(section);
-    const src = await d.store.localCopy(`sections/${section.storageKey}/original`);
+    // a SEG-Y section has no stored original: its rendered image stands in (segy-render.ts)
+    const src = section.sourceKind === 'segy' ? await segyImageCopy(d.store, section, work) : await d.store.localCopy(`sections/${section.storageKey}/original`);
     const decoded = path.join(work, 'decoded.v');
     const depthImage = path.join(work, 'depth.v');
     let axis;

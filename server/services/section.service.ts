@@ -264,7 +264,7 @@ export async function deleteSection(actor: Actor, id: number) {
   });
   await store().removePrefix(sectionKeys(s.storageKey).root);
   await store().removeScratch(buildScratchPrefix(s.storageKey));
-  await afterSegySectionDeleted(s); // a 2D SEG-Y upload no section uses any more goes too
+  await afterSegySectionDeleted(s, actor.id); // a 2D SEG-Y upload no section uses any more goes too
 }
 
 // ---- files ----------------------------------------------------------------------------------

@@ -344,13 +344,14 @@ export async function deleteUpload(actor: Actor, id: number) {
 }
 
 /** After a section is deleted: a 2D upload that no section uses any more goes too (a 3D one stays for more extractions). */
-export async function afterSectionDeleted(s: Pick<Section, 'segyUploadId'>) {
+export async function afterSectionDeleted(s: Pick<Section, 'segyUploadId'>, actorId: number | null = null) {
   if (!s.segyUploadId) return;
   const u = await SegyUpload.findByPk(s.segyUploadId);
   if (!u || u.dimension !== '2d') return;
   const gone = await ctx().sequelize.transaction(async (transaction) => {
     if (await Section.count({ where: { segyUploadId: u.id }, transaction })) return false;
     await SegyUpload.destroy({ where: { id: u.id }, transaction });
+    await audit(actorId, 'segy.delete', 'segy_upload', u.id, { projectId: u.projectId, reason: 'its 2D section was deleted' }, transaction);
     return true;
   });
   if (gone) await store().removePrefix(segyKeys(u.storageKey).root);

@@ -155,6 +155,21 @@ print(json.dumps([list(t.transform(x, y)) for x, y in a]))
     expect(data[15 * info.width]).toBeGreaterThan(215);
   });
 
+  it('builds the depth view from the rendered amplitudes (a SEG-Y section has no stored image)', async () => {
+    const r = await request(t.app).post(`/api/sections/${sectionId}/depth`).set(bearer(interp));
+    expect(r.status, JSON.stringify(r.body)).toBe(202);
+    const until = Date.now() + 40_000;
+    let s;
+    for (;;) {
+      s = (await request(t.app).get(`/api/sections/${sectionId}/depth`).set(bearer(interp))).body;
+      if (s.status === 'ready' || s.status === 'failed' || Date.now() > until) break;
+      await new Promise((res) => setTimeout(res, 200));
+    }
+    expect(s.failureReason ?? null).toBeNull();
+    expect(s.status).toBe('ready');
+    expect(s.ready.axis.width).toBe(LINE.traces);
+  });
+
   it('deleting the section removes its 2D upload and files', async () => {
     const key = (await SegyUpload.findByPk(uploadId))!.storageKey;
     expect(segyDirs()).toContain(key);
