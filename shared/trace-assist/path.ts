@@ -21,7 +21,7 @@ export type Pt = [number, number];
 
 export interface PathOptions {
   phase?: Phase;
-  /** Half-width of the corridor around the straight segment, px. Default: max(12, 6 % of the segment length), at most 96. */
+  /** Half-width of the corridor around the straight segment, px. Default: max(20, 20 % of the segment length), at most 96. */
   corridorPx?: number;
   /** Largest change of the offset from one step to the next, px (default 2). */
   maxStepPx?: number;
@@ -51,7 +51,9 @@ const LATERAL = 3;
 const SMOOTH = 6;
 
 export function defaultCorridor(lengthPx: number): number {
-  return Math.min(96, Math.max(12, Math.round(0.06 * lengthPx)));
+  // A curved event sags away from the chord between two clicks on it: a dome
+  // clicked on its flank and past its crest is ~15 % of the span off the chord.
+  return Math.min(96, Math.max(20, Math.round(0.2 * lengthPx)));
 }
 
 function check(name: string, v: number, lo: number, hi: number): number {

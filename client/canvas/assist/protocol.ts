@@ -5,7 +5,7 @@
  * in-memory image in tests).
  */
 import { autoExtend, type ExtendOptions, type ExtendStop } from '../../../shared/trace-assist/extend';
-import { leastCostPath, type PathOptions, type Pt } from '../../../shared/trace-assist/path';
+import { defaultCorridor, leastCostPath, type PathOptions, type Pt } from '../../../shared/trace-assist/path';
 import { snapPolyline } from '../../../shared/trace-assist/snap';
 import type { AmplitudeSource, Phase, Polarity } from '../../../shared/trace-assist/source';
 import { THIN_TOLERANCE_PX, thinPath, tidyPath } from '../../../shared/trace-assist/thin';
@@ -52,7 +52,7 @@ export function missingIn(src: AmplitudeSource, rect: PxRect): boolean {
 /** The pixels a task needs at least (the corridor of a path, the seed's neighbourhood, each vertex's reach). */
 export function taskRect(task: AssistTask): PxRect {
   if (task.kind === 'path') {
-    const c = (task.options?.corridorPx ?? Math.min(96, Math.max(12, 0.06 * Math.hypot(task.to[0] - task.from[0], task.to[1] - task.from[1])))) + 8;
+    const c = (task.options?.corridorPx ?? defaultCorridor(Math.hypot(task.to[0] - task.from[0], task.to[1] - task.from[1]))) + 8;
     return {
       x0: Math.min(task.from[0], task.to[0]) - c,
       x1: Math.max(task.from[0], task.to[0]) + c,

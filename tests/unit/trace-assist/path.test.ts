@@ -32,6 +32,14 @@ describe('least-cost path along an event', () => {
     expect(maxError(r.points.slice(1), f)).toBeLessThanOrEqual(1);
   });
 
+  it('follows a dome clicked on its flank and past its crest (24 px off the chord: the default corridor is wide enough)', () => {
+    const f = (u: number) => 100 + 0.006 * (u - 250) ** 2;
+    const img = synthImage(400, 300, [{ at: f }, { at: (u) => f(u) + 30, amp: 0.6 }]);
+    const r = leastCostPath(img.source, [150.5, f(150.5)], [290.5, f(290.5) + 1]);
+    expect(r.corridorPx).toBeGreaterThanOrEqual(28);
+    expect(maxError(r.points.slice(1), f)).toBeLessThanOrEqual(1);
+  });
+
   it('keeps to the event through band-limited noise (RMS 12 % of the event)', () => {
     const f = (u: number) => 120 + 0.1 * u + 4 * Math.sin(u / 60);
     const img = synthImage(500, 300, [{ at: f }, { at: (u) => f(u) + 30, amp: 0.5 }], { noise: 0.1, seed: 'noisy' });
