@@ -15,13 +15,13 @@ export function sweepOption(t: ThresholdResult) {
     { yAxis: t.drowningDepthM, name: 'Drowning depth', lineStyle: { color: palette.coral, type: 'dashed' }, label: { formatter: `drowning depth ${t.drowningDepthM.toFixed(1)} m`, position: 'insideEndTop', color: palette.coral } },
   ];
   if (t.value !== null)
-    mark.push({ xAxis: t.value, name: 'Threshold', lineStyle: { color: palette.ink, type: 'solid', width: 1.5 }, label: { formatter: `threshold ${t.value.toPrecision(3)}`, position: 'end', color: palette.ink } });
+    mark.push({ xAxis: t.value, name: 'Threshold', lineStyle: { color: palette.ink, type: 'solid', width: 1.5 }, label: { formatter: `threshold ${t.value.toPrecision(3)}`, position: 'insideStartBottom', color: palette.ink } });
   return {
     animation: false,
-    grid: { left: 52, right: 18, top: 22, bottom: 40 },
+    grid: { left: 52, right: 18, top: 30, bottom: 40 },
     tooltip: { trigger: 'item' },
     xAxis: { type: 'value', name: PARAMETER_LABEL[t.parameter], nameLocation: 'middle', nameGap: 26, scale: true },
-    yAxis: { type: 'value', name: 'Crest water depth (m)', inverse: true, nameTextStyle: { align: 'left' } },
+    yAxis: { type: 'value', name: 'Final crest water depth (m)', inverse: true, nameLocation: 'start', nameTextStyle: { align: 'left' } },
     series: [
       {
         type: 'line',

@@ -190,7 +190,7 @@ describe('overlay on the section', () => {
   });
 
   it('a depth section maps straight through the Ties', () => {
-    const ctx: MeasureContext = { calibrationTies: ties.map((t) => ({ px: t.px, world: [t.world[0], t.world[1] - 1000] as Pt })), verticalDomain: 'depth_m', velocity: null };
+    const ctx: MeasureContext = { calibrationTies: ties.map((t) => ({ px: t.px, world: [t.world[0], t.world[1] - 1000] as Pt })), verticalDomain: 'depth_m', velocity: { kind: 'constant', v: 2000 } };
     const { params, depthOffsetM } = draftToParams(small(), TRACED);
     const it = runToInterpretation(runForwardModel(params));
     const base = overlayLines(it, depthOffsetM, ctx).find((l) => l.kind === 'base')!.points;
