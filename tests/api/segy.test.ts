@@ -7,6 +7,7 @@
  */
 import fs from 'node:fs';
 import path from 'node:path';
+import pg from 'pg';
 import sharp from 'sharp';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -280,6 +281,30 @@ describe('refused files leave nothing behind', () => {
       expect(await tmpSettles(t)).toEqual([]);
     });
   }
+
+  it('a failure while storing (the audit line refused by a test trigger) leaves no row, no stored file, no job', async () => {
+    const db = new pg.Client({ connectionString: t.databaseUrl });
+    await db.connect();
+    try {
+      await db.query(`CREATE FUNCTION segy_audit_refuse() RETURNS trigger LANGUAGE plpgsql AS $$
+        BEGIN RAISE EXCEPTION 'audit insert refused for % (test trigger)', NEW.action; END $$`);
+      await db.query(`CREATE TRIGGER segy_audit_refuse BEFORE INSERT ON audit_events FOR EACH ROW WHEN (NEW.action = 'section.segy_create') EXECUTE FUNCTION segy_audit_refuse()`);
+      const uploads = await SegyUpload.count();
+      const sections = await Section.count();
+      const dirs = segyDirs().length;
+      const sectionDirs = fs.readdirSync(path.join(t.storageDir, 'sections')).length;
+      const r = await sendSegy(line2d());
+      expect(r.status).toBe(500);
+      expect(await SegyUpload.count()).toBe(uploads);
+      expect(await Section.count()).toBe(sections);
+      expect(segyDirs().length).toBe(dirs);
+      expect(fs.readdirSync(path.join(t.storageDir, 'sections')).length).toBe(sectionDirs);
+      expect(await tmpSettles(t)).toEqual([]);
+    } finally {
+      await db.query('DROP TRIGGER IF EXISTS segy_audit_refuse ON audit_events').catch(() => {});
+      await db.end();
+    }
+  });
 
   it('a curator may not upload (403 before the file is read)', async () => {
     const r = await sendSegy(line2d(), {}, await t.token('curator'));
