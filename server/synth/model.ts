@@ -1,3 +1,4 @@
+// Over 500 lines: one pipeline (earth model in depth, interpretation geometry, TWT conversion, rendering) whose stages share private helpers; split it only with its tests (tests/unit/synth).
 /**
  * Geometric earth model for the synthetic demo sections.
  *

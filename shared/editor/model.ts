@@ -1,3 +1,4 @@
+// Over 500 lines: the editor records, their zod schemas and the conversion to the engine input belong together (the browser and the server build identical input from this one file).
 /**
  * Plain, serialisable editor records for the interpretation canvas.
  *

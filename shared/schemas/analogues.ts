@@ -1,3 +1,4 @@
+// Over 500 lines: every schema and response shape of the Analogue library (records, lists, search, Look-alikes, import, export) in one file, so the server and the client forms read one contract.
 /**
  * Analogue library: records, search, Look-alikes, import/export (issue #9).
  *

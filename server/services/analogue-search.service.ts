@@ -1,0 +1,202 @@
+/**
+ * Analogue search and facet counts in PostgreSQL. Answers are cached in this
+ * process by query and library generation (`analogue_library_state.generation`,
+ * bumped by a trigger on every statement that changes analogues or the lists),
+ * so a repeated search costs one single-row read; any change anywhere makes
+ * every cached answer stale.
+ */
+import { QueryTypes } from 'sequelize';
+import {
+  FACETS,
+  type AnalogueSearchQuery,
+  type AnalogueSearchResponse,
+  type Facet,
+  type FacetCount,
+  type MetricKey,
+  type RangeField,
+} from '../../shared/schemas/analogues';
+import {
+  type Actor,
+  METRIC_COLUMN,
+  RANGE_COLUMN,
+  SUMMARY_COLUMNS,
+  type Row,
+  toSummary,
+  searchCache,
+  generation,
+  db,
+  normTags,
+} from './analogue-rows';
+
+// ---- search ---------------------------------------------------------------------------------------
+
+const FACET_COLUMN: Record<Exclude<Facet, 'tags'>, string> = { setting: 'setting', factory: 'factory', climate: 'climate', class: 'class', period: 'period' };
+
+export class Binds {
+  values: unknown[] = [];
+  add(v: unknown): string {
+    this.values.push(v);
+    return `$${this.values.length}`;
+  }
+}
+
+type Filter = AnalogueSearchQuery | Partial<AnalogueSearchQuery>;
+
+/** SQL conditions for everything but the OR-facets (setting, factory, climate, class, period). */
+function baseConditions(q: Filter, b: Binds): string[] {
+  const w: string[] = [];
+  const status = q.status ?? 'accepted';
+  if (status !== 'any') w.push(`status = ${b.add(status)}`);
+  if (q.source) w.push(`source = ${b.add(q.source)}`);
+  if (q.q) w.push(`tsv @@ websearch_to_tsquery('english', ${b.add(q.q)})`);
+  if (q.tags?.length) w.push(`tags @> ${b.add(normTags(q.tags))}::text[]`);
+  for (const [f, r] of Object.entries(q.ranges ?? {}) as [RangeField, { min?: number; max?: number }][]) {
+    const col = RANGE_COLUMN[f];
+    if (r.min !== undefined) w.push(`${col} >= ${b.add(r.min)}`);
+    if (r.max !== undefined) w.push(`${col} <= ${b.add(r.max)}`);
+  }
+  if (q.bbox) {
+    const [west, south, east, north] = q.bbox;
+    w.push(`latitude BETWEEN ${b.add(south)} AND ${b.add(north)}`);
+    if (west <= east) w.push(`longitude BETWEEN ${b.add(west)} AND ${b.add(east)}`);
+    else w.push(`(longitude >= ${b.add(west)} OR longitude <= ${b.add(east)})`); // across the antimeridian
+  }
+  if (q.near) {
+    // great-circle distance (haversine, mean Earth radius 6371.0 km), after a latitude band that an index can use
+    const { lat, lon, km } = q.near;
+    const dLat = (km / 6371.0) * (180 / Math.PI);
+    w.push(`latitude BETWEEN ${b.add(lat - dLat)} AND ${b.add(lat + dLat)}`);
+    const la = b.add(lat);
+    const lo = b.add(lon);
+    w.push(
+      `2 * 6371.0 * asin(sqrt(power(sin(radians(latitude - ${la}) / 2), 2) + cos(radians(${la})) * cos(radians(latitude)) * power(sin(radians(longitude - ${lo}) / 2), 2))) <= ${b.add(km)}`,
+    );
+  }
+  return w;
+}
+
+function facetCondition(f: Exclude<Facet, 'tags'>, values: string[], b: Binds): string {
+  return `${FACET_COLUMN[f]} = ANY(${b.add(values)}::text[])`;
+}
+
+const activeFacets = (q: Filter) => (['setting', 'factory', 'climate', 'class', 'period'] as const).filter((f) => (q[f]?.length ?? 0) > 0);
+
+/** All conditions of a search (for lists, exports and Look-alikes candidates). */
+export function whereOf(q: Filter, b: Binds): string {
+  const w = baseConditions(q, b);
+  for (const f of activeFacets(q)) w.push(facetCondition(f, q[f] as string[], b));
+  return w.length ? w.join(' AND ') : 'true';
+}
+
+const SORT_SQL = (q: AnalogueSearchQuery, b: Binds): string => {
+  const dir = q.dir === 'desc' ? 'DESC' : 'ASC';
+  switch (q.sort) {
+    case 'name':
+      return `lower(name) ${dir}, id`;
+    case 'updatedAt':
+      return `updated_at ${dir}, id`;
+    case 'ageMa':
+      return `age_ma ${dir} NULLS LAST, id`;
+    case 'relevance':
+      return q.q ? `ts_rank(tsv, websearch_to_tsquery('english', ${b.add(q.q)})) DESC, id` : 'lower(name), id';
+    default:
+      return `${METRIC_COLUMN[q.sort as MetricKey]} ${dir} NULLS LAST, id`;
+  }
+};
+
+/**
+ * Facet counts, tag counts and the total in ONE statement (one scan of the
+ * rows matching every non-facet filter). Each row carries one boolean per
+ * active facet; rows matching every facet also fan out into their tags
+ * (`unnest … WITH ORDINALITY`, so `o = 1` marks the first of a row's tags and
+ * a row without fan-out has `o` NULL). One hash aggregate builds two grouping
+ * sets:
+ * - the five list facets' values with the active-facet flags (a few thousand
+ *   groups at most), counting each row once; each facet's counts are then
+ *   summed here over the groups that match every *other* facet, so a value's
+ *   count is what the result would hold if it were added to that facet's
+ *   selection, and the total is the sum over groups matching every facet;
+ * - the free tags of the rows matching every filter (tags combine with AND:
+ *   how many of the current results also carry the tag).
+ * The list page is a separate LIMIT query (index order where one fits).
+ */
+const LIST_FACETS = ['setting', 'factory', 'climate', 'class', 'period'] as const;
+
+export function facetCountsSql(q: Filter): { sql: string; bind: unknown[] } {
+  const b = new Binds();
+  const base = baseConditions(q, b);
+  const active = activeFacets(q);
+  const flags = active.map((f) => `(${facetCondition(f, q[f] as string[], b)}) AS ok_${f}`);
+  const all = active.length ? active.map((f) => `a.ok_${f}`).join(' AND ') : 'true';
+  const keys = [...LIST_FACETS.map((f) => `a.${FACET_COLUMN[f]}`), ...active.map((f) => `a.ok_${f}`)];
+  const sql = `SELECT ${keys.join(', ')}, u.t AS tag, GROUPING(u.t) = 1 AS by_facets,
+         count(*) FILTER (WHERE u.o IS NULL OR u.o = 1)::int AS n, count(u.t)::int AS n_tag
+    FROM (SELECT ${LIST_FACETS.map((f) => FACET_COLUMN[f]).join(', ')}${flags.length ? ', ' + flags.join(', ') : ''}, tags
+            FROM analogues WHERE ${base.length ? base.join(' AND ') : 'true'}) a
+    LEFT JOIN LATERAL unnest(CASE WHEN ${all} THEN a.tags END) WITH ORDINALITY AS u(t, o) ON true
+   GROUP BY GROUPING SETS ((${keys.join(', ')}), (u.t))`;
+  return { sql, bind: b.values };
+}
+
+async function facetCounts(q: AnalogueSearchQuery): Promise<{ facets: Partial<Record<Facet, FacetCount[]>>; total: number }> {
+  const active = activeFacets(q);
+  const { sql, bind } = facetCountsSql(q);
+  const all = await db().query<Row>(sql, { bind, type: QueryTypes.SELECT });
+  const rows = all.filter((r) => r.by_facets);
+  const facets: Partial<Record<Facet, FacetCount[]>> = {};
+  const okBut = (r: Row, f: Facet | null) => active.every((a) => a === f || r[`ok_${a}`]);
+  let total = 0;
+  for (const f of LIST_FACETS) {
+    const m = new Map<string, number>();
+    for (const r of rows) {
+      const v = r[FACET_COLUMN[f]];
+      if (v != null && okBut(r, f)) m.set(v, (m.get(v) ?? 0) + r.n);
+    }
+    facets[f] = [...m].map(([value, count]) => ({ value, count }));
+  }
+  for (const r of rows) if (okBut(r, null)) total += r.n;
+  facets.tags = all
+    .filter((r) => !r.by_facets && r.tag != null && r.n_tag > 0)
+    .map((r) => ({ value: r.tag as string, count: r.n_tag as number }))
+    .sort((x, y) => y.count - x.count || x.value.localeCompare(y.value))
+    .slice(0, 50);
+  for (const f of FACETS) facets[f]!.sort((a, b) => b.count - a.count || a.value.localeCompare(b.value));
+  return { facets, total };
+}
+
+export async function search(_actor: Actor, q: AnalogueSearchQuery): Promise<AnalogueSearchResponse> {
+  const key = `${await generation()}|${JSON.stringify(q)}`;
+  const hit = searchCache.get(key);
+  if (hit) return hit;
+  const b = new Binds();
+  const where = whereOf(q, b);
+  const order = SORT_SQL(q, b);
+  const list = db().query<Row>(`SELECT ${SUMMARY_COLUMNS} FROM analogues WHERE ${where} ORDER BY ${order} LIMIT ${q.pageSize} OFFSET ${(q.page - 1) * q.pageSize}`, {
+    bind: b.values,
+    type: QueryTypes.SELECT,
+  });
+  let facets: Partial<Record<Facet, FacetCount[]>> = {};
+  let total: number;
+  if (q.facets) {
+    const [rows, fc] = await Promise.all([list, facetCounts(q)]);
+    facets = fc.facets;
+    total = fc.total;
+    const out = { total, page: q.page, pageSize: q.pageSize, items: rows.map(toSummary), facets };
+    searchCache.set(key, out);
+    return out;
+  }
+  const cb = new Binds();
+  const [rows, [{ n }]] = await Promise.all([list, db().query<{ n: number }>(`SELECT count(*)::int AS n FROM analogues WHERE ${whereOf(q, cb)}`, { bind: cb.values, type: QueryTypes.SELECT })]);
+  total = n;
+  const out = { total, page: q.page, pageSize: q.pageSize, items: rows.map(toSummary), facets };
+  searchCache.set(key, out);
+  return out;
+}
+
+/** Every row of a search (export), in the search's order, at most `limit`. */
+export async function searchAll(q: AnalogueSearchQuery, limit = 200_000): Promise<Row[]> {
+  const b = new Binds();
+  const where = whereOf(q, b);
+  const order = SORT_SQL(q, b);
+  return db().query<Row>(`SELECT ${SUMMARY_COLUMNS} FROM analogues WHERE ${where} ORDER BY ${order} LIMIT ${limit}`, { bind: b.values, type: QueryTypes.SELECT });
+}
