@@ -7,6 +7,7 @@ import { AppError, validationError } from '../errors';
 import { logger } from '../logger';
 import { MeasureInputError } from '../../shared/measure/errors';
 
+/** Re-exported for code written before server/errors.ts; import the error classes from '../errors'. */
 export { AppError, notFound, forbidden, validationError } from '../errors';
 
 /** Seconds a client is told to wait (Retry-After) when the database is unavailable. */
