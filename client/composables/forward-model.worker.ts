@@ -27,7 +27,7 @@ import { MeasureInputError } from '../../shared/measure/errors';
 
 export type ModelRequest =
   | { id: number; kind: 'run'; params: unknown }
-  | { id: number; kind: 'threshold'; params: unknown; parameter: ThresholdParameter; lo?: number; hi?: number; sweepPoints?: number }
+  | { id: number; kind: 'threshold'; params: unknown; parameter: ThresholdParameter; lo?: number; hi?: number; sweepPoints?: number; /** Bracket width at which the bisection stops, as a fraction of the range (default 1e-4). */ tolerance?: number }
   | { id: number; kind: 'fit'; params: unknown; tops: [number, number][][]; fitSubsidence?: boolean };
 
 /** A run as plain data (arrays instead of Float64Arrays), with its engine input and the engine's measurement of it. */
@@ -99,7 +99,7 @@ export function answerModelRequest(req: ModelRequest, post: (r: ModelReply) => v
     let result: ModelResult;
     if (req.kind === 'run') result = { kind: 'run', run: runOutcome(runForwardModel(req.params, { onProgress })) };
     else if (req.kind === 'threshold')
-      result = { kind: 'threshold', threshold: drowningThreshold(req.params, { parameter: req.parameter, lo: req.lo, hi: req.hi, sweepPoints: req.sweepPoints ?? 11, onProgress }) };
+      result = { kind: 'threshold', threshold: drowningThreshold(req.params, { parameter: req.parameter, lo: req.lo, hi: req.hi, sweepPoints: req.sweepPoints ?? 11, onProgress, relativeTolerance: req.tolerance }) };
     else {
       const { run, ...fit } = fitProductionFactors(req.params, req.tops, { fitSubsidence: req.fitSubsidence, onProgress });
       result = { kind: 'fit', fit: { ...fit, run: runOutcome(run) } };

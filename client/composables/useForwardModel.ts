@@ -183,7 +183,7 @@ export function useForwardModel(args: ForwardModelArgs) {
     const offset = b.depthOffsetM;
     let job: Job;
     if (kind === 'run') job = { kind, params };
-    else if (kind === 'threshold') job = { kind, params, parameter: extra.parameter ?? 'productionFactor', sweepPoints: 11 };
+    else if (kind === 'threshold') job = { kind, params, parameter: extra.parameter ?? 'productionFactor', sweepPoints: 11, tolerance: 1e-3 };
     else {
       const tops = tracedTops.value;
       if (!tops) {

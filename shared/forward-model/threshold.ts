@@ -18,8 +18,10 @@ export interface ThresholdOptions {
   /** Search range; defaults: factor 0–1, rise 0 to 2·Gm (m/Myr). */
   lo?: number;
   hi?: number;
-  /** Bracket width at which to stop (default: 1e-4 of the range). */
+  /** Bracket width at which to stop (default: `relativeTolerance` of the range). */
   tolerance?: number;
+  /** Bracket width at which to stop as a fraction of the range, when `tolerance` is not given (default 1e-4). */
+  relativeTolerance?: number;
   maxIterations?: number;
   /** Extra evenly spaced points for the plot (default 11, 0 for none). */
   sweepPoints?: number;
@@ -59,7 +61,7 @@ export function drowningThreshold(input: unknown, o: ThresholdOptions): Threshol
   const isFactor = o.parameter === 'productionFactor';
   const lo0 = o.lo ?? 0;
   const hi0 = o.hi ?? (isFactor ? 1 : 2 * p.growth.GmMmPerYr * 1000);
-  const tol = o.tolerance ?? 1e-4 * (hi0 - lo0);
+  const tol = o.tolerance ?? (o.relativeTolerance ?? 1e-4) * (hi0 - lo0);
   const maxIt = o.maxIterations ?? 60;
   const sweepN = o.sweepPoints ?? 11;
   const totalRuns = 2 + sweepN + Math.min(maxIt, Math.ceil(Math.log2(Math.max(2, (hi0 - lo0) / tol))));

@@ -44,6 +44,15 @@ describe('drowning threshold', () => {
     expect(r.value!).toBeCloseTo(70, 3);
   });
 
+  it('a relative tolerance stops the bisection once the bracket is that fraction of the range (default range of the rise: 0 to 2·Gm)', () => {
+    const r = drowningThreshold({ ...flatAtDrowningDepth, cycles: { productionFactors: [0.7] } }, { parameter: 'riseRate', relativeTolerance: 1e-3, sweepPoints: 0 });
+    const range = 2 * growth.GmMmPerYr * 1000;
+    expect(r.converged).toBe(true);
+    expect(r.bracket![1] - r.bracket![0]).toBeLessThanOrEqual(1e-3 * range);
+    expect(r.bracket![1] - r.bracket![0]).toBeGreaterThan(0.5e-3 * range); // stopped there, not at the default 1e-4
+    expect(Math.abs(r.value! - 70)).toBeLessThanOrEqual(1e-3 * range);
+  });
+
   it('says so when the range holds no switch', () => {
     const r = drowningThreshold(flatAtDrowningDepth, { parameter: 'riseRate', lo: 0, hi: 20, sweepPoints: 0 });
     expect(r.value).toBeNull();

@@ -40,6 +40,21 @@ describe('worker protocol', () => {
     expect(out.every((r) => r.id === 7)).toBe(true);
   });
 
+  it('a fit: the factors that made synthetic tops come back, with the fitted run measured', () => {
+    const d = small({ columns: 41, stepYr: 400, factors: '0.8, 0.5, 0.3, 0.2' });
+    const { params } = draftToParams(d, TRACED);
+    const truthRun = runForwardModel(params);
+    const tops = truthRun.surfaces.map((s) => Array.from(truthRun.xs, (x, i) => [x, s[i]] as Pt).filter((_, i) => i % 2 === 0));
+    const out: ModelReply[] = [];
+    answerModelRequest({ id: 3, kind: 'fit', params: { ...params, cycles: { ...params.cycles, productionFactors: [0.6] } }, tops }, (r) => out.push(r));
+    const last = out[out.length - 1];
+    if (last.type !== 'done' || last.result.kind !== 'fit') throw new Error(JSON.stringify(last).slice(0, 300));
+    [0.8, 0.5, 0.3, 0.2].forEach((f, i) => expect(Math.abs(last.result.kind === 'fit' ? last.result.fit.factors[i] - f : 1)).toBeLessThan(0.02));
+    expect(last.result.fit.rmsM).toBeLessThan(0.05);
+    expect(last.result.fit.run.measurement).not.toBeNull();
+    expect(out.filter((r) => r.type === 'progress').length).toBeGreaterThan(3);
+  }, 60_000);
+
   it('bad parameters come back as an error naming the field', () => {
     const out: ModelReply[] = [];
     answerModelRequest({ id: 1, kind: 'run', params: { ...draftToParams(small(), TRACED).params, stepYr: 1e7 } }, (r) => out.push(r));
