@@ -125,7 +125,8 @@ describe('interpretation canvas', () => {
     const centre: Pt = [((truth.base[0][0] + truth.base[truth.base.length - 1][0]) / 2) * sx, 480 * (H / 750)];
     const [c] = await screenOf(page, [centre]);
     await page.mouse.move(c[0], c[1]);
-    for (let i = 0; i < 3; i++) {
+    for (let i = 0; i < 6; i++) {
+      // one wheel notch is one gentle step (×1.15, viewport.ts)
       await page.mouse.wheel(0, -100);
       await page.waitForTimeout(60);
     }

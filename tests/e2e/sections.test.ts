@@ -144,7 +144,8 @@ describe('sections journey', () => {
     const cursor = { x: box.x + box.width * 0.55, y: box.y + box.height * 0.45 };
     await page.mouse.move(cursor.x, cursor.y);
     const before = numbers(await page.locator('[data-test="readout-px"]').textContent());
-    for (let i = 0; i < 4; i++) {
+    for (let i = 0; i < 11; i++) {
+      // one wheel notch is one gentle step (×1.15, viewport.ts): 11 notches ≈ ×4.7
       await page.mouse.wheel(0, -200);
       await page.waitForTimeout(60);
     }
