@@ -46,3 +46,4 @@ export const getAmplitudes = (sectionId: number, w: { trace: number; sample: num
   apiFetch<AmplitudeWindow>(`/sections/${sectionId}/amplitudes?trace=${w.trace}&sample=${w.sample}&traces=${w.traces ?? 1}&samples=${w.samples ?? 1}`, { signal });
 export const renderSection = (sectionId: number, settings: RenderSettings) =>
   apiFetch<{ id: number; status: 'processing' }>(`/sections/${sectionId}/render`, { method: 'POST', body: settings });
+export const listSegyUploads = (projectId: number) => apiFetch<{ items: SegyUploadInfo[] }>(`/projects/${projectId}/segy`);

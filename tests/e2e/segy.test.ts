@@ -142,5 +142,15 @@ describe('SEG-Y journey', () => {
     await page.locator('[data-test="section-upload-ready"]').waitFor({ timeout: 60_000 });
     expect(await page.locator('[data-test="section-upload-ready"]').textContent()).toMatch(/5 traces × 50 samples/);
     await b.shot('segy-08-inline-ready');
+    // the cube stays listed under the sections, ready for more lines without a new upload
+    await page.click('[data-test="section-upload-close"]');
+    const cube = page.locator('[data-test="segy-upload-row"]', { hasText: 'TB-14_cube.segy' });
+    await expect.poll(() => cube.textContent(), { timeout: 10_000 }).toMatch(/1 section made/);
+    await cube.locator('[data-test="segy-upload-extract"]').click();
+    await cube.locator('[data-test="segy-extract-crossline"]').click();
+    await page.click('[data-test="segy-extract-go"]');
+    await page.waitForURL(/\/sections\/\d+$/);
+    await page.locator('[data-test="segy-panel"]').waitFor({ timeout: 60_000 });
+    await b.shot('segy-09-crossline-section');
   });
 });
