@@ -14,7 +14,8 @@ import { sectionForViewer } from './section-access';
 import { audit } from './audit.service';
 import { pyramidLevels, tilesDescriptor, TILE_EXT } from './tiles.service';
 import { fileStoreFor, type StoredObject } from '../storage/fileStore';
-import { currentDepthVersions, depthPrefix, nudgeDepthWorkers, queueDepthBuild } from '../jobs/depth.job';
+import { currentDepthVersions, depthBasisOf, depthPrefix, nudgeDepthWorkers, queueDepthBuild } from '../jobs/depth.job';
+import { stableJson } from '../measure/cache';
 import type { DepthViewState } from '../../shared/schemas/depth-view';
 
 const store = () => fileStoreFor(ctx().config.storageDir);
@@ -61,9 +62,11 @@ export async function getDepthView(actor: Actor, sectionId: number): Promise<Dep
 }
 
 /**
- * Ask for the depth view: queues a build unless the stored one is current or
- * one for the current calibration and velocity model is already queued or
- * running. `queued` says whether a build was queued (202) or not (200).
+ * Ask for the depth view: queues a build unless the stored one is current
+ * (same calibration and velocity model, and for the `buildup` model the same
+ * traced buildups) or one for the current calibration and velocity model is
+ * already queued or running. `queued` says whether a build was queued (202)
+ * or not (200).
  */
 export async function requestDepthView(actor: Actor, sectionId: number): Promise<{ queued: boolean; state: DepthViewState }> {
   const s = await sectionForViewer(actor, sectionId);
@@ -75,7 +78,8 @@ export async function requestDepthView(actor: Actor, sectionId: number): Promise
     if (row) {
       const current = (cv: number | null, va: Date | null) => cv === now.calibrationVersion && sameTime(va, now.velocityAt);
       if ((row.status === 'queued' || row.status === 'running') && current(row.calibrationVersion, row.velocityAt)) return false;
-      if (row.status === 'ready' && current(row.readyCalibrationVersion, row.readyVelocityAt)) return false;
+      // ready and current; for the buildup model also with the same buildups' envelope (re-traced buildups: build again)
+      if (row.status === 'ready' && current(row.readyCalibrationVersion, row.readyVelocityAt) && stableJson(await depthBasisOf(s)) === stableJson(row.readyBasis)) return false;
     }
     const next = await queueDepthBuild(s.id, transaction, { create: true });
     await audit(actor.id, 'section.depth_view', 'section', s.id, { build: next!.build, calibrationVersion: now.calibrationVersion }, transaction);

@@ -7,7 +7,7 @@
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { bearer, createTestApp, type TestApp } from '../helpers/app';
-import { readyCalibratedSection, SMALL_TIES } from '../helpers/api-fixtures';
+import { readyCalibratedSection, savedBuildup, SMALL_TIES } from '../helpers/api-fixtures';
 import { makeImage, upload, waitForStatus } from '../helpers/sections';
 import type { DepthViewState } from '../../shared/schemas/depth-view';
 
@@ -120,6 +120,19 @@ describe('depth view', () => {
     expect(s3.ready!.calibrationVersion).toBe(2);
     expect(s3.ready!.axis.z0).toBeCloseTo((1800 / 0.5) * Math.expm1((0.5 * 1100) / 2000), 6);
   }, 90_000);
+
+  it('with the buildup velocity model, asking again after a buildup was traced builds again (the carbonate envelope moved)', async () => {
+    const model = { kind: 'buildup', water: { v: 1500, seafloorMs: 1200 }, overburden: { v: 2200 }, carbonate: { v: 4700 } };
+    expect((await request(t.app).put(`/api/sections/${sectionId}/velocity`).set(bearer(interp)).send({ velocity: model })).status).toBe(200);
+    const s4 = await readyBuild(4);
+    expect(s4.ready!.basis.buildups).toBeUndefined(); // nothing traced yet
+    expect((await request(t.app).post(`/api/sections/${sectionId}/depth`).set(bearer(reviewer))).status).toBe(200);
+    await savedBuildup(t, interp, sectionId);
+    const again = await request(t.app).post(`/api/sections/${sectionId}/depth`).set(bearer(reviewer));
+    expect(again.status).toBe(202);
+    const s5 = await readyBuild(5);
+    expect(s5.ready!.basis.buildups).toHaveLength(1);
+  }, 60_000);
 
   it('refuses a build number that is not a whole number, naming it', async () => {
     const r = await request(t.app).get(`/api/sections/${sectionId}/depth/x1/tiles/0/0_0.jpg`).set(bearer(reviewer));
