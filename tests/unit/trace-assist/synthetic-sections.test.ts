@@ -105,6 +105,9 @@ describe('auto-extend on the synthetic demo sections', () => {
       const widthM = (a.hi - a.lo) * ((r.def.model.xRangeM[1] - r.def.model.xRangeM[0]) / r.def.width);
       expect(Math.abs(m.areaM2 - t.areaM2), `${r.def.key} area`).toBeLessThanOrEqual(tolM * widthM);
       expect(m.classification, `${r.def.key} classification`).toBe(t.classification);
+      // Crest x: both tops are nearly flat at the crest (TB-14's rises 8 m over 2.9 km), so a
+      // sub-pixel vertical difference moves the highest point along by tens of metres; 100 m
+      // (50 px, under 2 % of either top's width) is Cayline's own bound. Seen: 30 m and 64 m.
       expect(Math.abs(m.crest[0] - t.crest[0]), `${r.def.key} crest x`).toBeLessThanOrEqual(100);
     }
   });
