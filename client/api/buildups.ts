@@ -41,8 +41,12 @@ export interface BuildupConflictCurrent {
   updatedAt: string;
 }
 
-/** `PUT /api/buildups/:id`: what `saveBuildupSchema` accepts (z.input, so defaults may be left out). */
-export type SaveBuildupBody = z.input<typeof saveBuildupSchema>;
+/**
+ * `PUT /api/buildups/:id`: the fields of `saveBuildupSchema` (z.input, so
+ * defaults may be left out), with the geometry as the editor writes it
+ * (`toGeometry`), which that schema accepts.
+ */
+export type SaveBuildupBody = Omit<z.input<typeof saveBuildupSchema>, 'geometry'> & { geometry: BuildupGeometry };
 
 export interface SaveBuildupResult {
   version: number;
