@@ -212,6 +212,18 @@ async function depthReady(f: Fx): Promise<number> {
   throw new Error('the depth view was not made in time');
 }
 
+/** A saved forward-model run body (small, valid) and a run saved by the interpreter on the matrix buildup. */
+const matrixModelRun = () => ({
+  name: 'Matrix run',
+  params: { profile: [[0, 40], [1000, 20], [2000, 40]], columns: 11, growth: { GmMmPerYr: 12, I0: 2000, Ik: 250, kPerM: 0.1 }, stepYr: 1000, durationYr: 10_000, cycles: { productionFactors: [1] } },
+  summary: { crestWaterDepthM: 0, drowningDepthM: 70, drowned: false, steps: 10, classification: null, heightM: null, baseWidthM: null, netBackstepM: null, netAggradationM: null, cycles: [] },
+});
+async function savedModelRun(f: Fx): Promise<number> {
+  const r = await request(t.app).post(`/api/buildups/${f.buildup}/model-runs`).set(bearer(await interp())).send(matrixModelRun());
+  expect(r.status, JSON.stringify(r.body)).toBe(201);
+  return r.body.id;
+}
+
 const MATRIX: Record<string, Row> = {
   // public
   'GET /api/health': { req: () => ({ path: '/api/health' }), anonymous: 200, refused: 'none: public health check', allowed: { as: 'reviewer', status: 200 } },
@@ -373,6 +385,11 @@ const MATRIX: Record<string, Row> = {
   'GET /api/buildups/:id/versions': { req: (f) => ({ path: `/api/buildups/${f.buildup}/versions` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
   'GET /api/buildups/:id/versions/:version': { req: (f) => ({ path: `/api/buildups/${f.buildup}/versions/1` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'curator', status: 200 } },
   'GET /api/buildups/:id/versions/:version/measurements': { req: (f) => ({ path: `/api/buildups/${f.buildup}/versions/1/measurements?draws=20` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  // saved forward-model runs: members read, interpreter members and admins write
+  'GET /api/buildups/:id/model-runs': { req: (f) => ({ path: `/api/buildups/${f.buildup}/model-runs` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'reviewer', status: 200 } },
+  'POST /api/buildups/:id/model-runs': { req: (f) => ({ path: `/api/buildups/${f.buildup}/model-runs`, body: matrixModelRun() }), refused: { as: 'reviewer', status: 403 }, allowed: { as: 'interpreter', status: 201 } },
+  'GET /api/model-runs/:id': { req: async (f) => ({ path: `/api/model-runs/${await savedModelRun(f)}` }), refused: { as: 'outsider', status: 404 }, allowed: { as: 'curator', status: 200 } },
+  'DELETE /api/model-runs/:id': { req: async (f) => ({ path: `/api/model-runs/${await savedModelRun(f)}` }), refused: { as: 'curator', status: 403 }, allowed: { as: 'interpreter', status: 204 } },
   'POST /api/measure': {
     req: () => ({
       path: '/api/measure',
