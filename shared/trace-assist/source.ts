@@ -113,18 +113,23 @@ export class FloatSource implements AmplitudeSource {
   }
 }
 
-/** One grey tile of the full-resolution level, placed in image pixels. */
+/**
+ * One tile of the full-resolution level, placed in image pixels: its grey
+ * bytes, or (a SEG-Y section) its true amplitudes, row-major, used as they
+ * are (the phase scores normalise by the patch, so no clip is needed).
+ */
 export interface GreyTile {
   x: number;
   y: number;
   width: number;
   height: number;
-  grey: Uint8Array | Uint8ClampedArray;
+  grey?: Uint8Array | Uint8ClampedArray;
+  amplitude?: Float32Array;
 }
 
 /**
  * The full-resolution tiles that are loaded, as one source (what the Web
- * Worker holds). Pixels of tiles not loaded read NaN. Tiles may overlap
+ * Worker holds): grey tiles of the image, or blocks of true amplitudes. Pixels of tiles not loaded read NaN. Tiles may overlap
  * (Deep Zoom overlap): the first tile holding a pixel answers.
  */
 export class TiledGreySource implements AmplitudeSource {
@@ -146,7 +151,9 @@ export class TiledGreySource implements AmplitudeSource {
 
   /** Add a tile; `col`, `row` are its grid position (tile span `tileSpan` px, overlap allowed). */
   put(col: number, row: number, tile: GreyTile): void {
-    if (tile.grey.length < tile.width * tile.height) throw new Error('TiledGreySource.put: grey must hold width × height bytes');
+    const n = tile.width * tile.height;
+    if (tile.amplitude ? tile.amplitude.length < n : !tile.grey || tile.grey.length < n)
+      throw new Error('TiledGreySource.put: a tile needs width × height grey bytes or amplitudes');
     this.tiles.set(TiledGreySource.key(col, row), tile);
   }
 
@@ -187,7 +194,8 @@ export class TiledGreySource implements AmplitudeSource {
         for (let v = vy0; v < vy1; v++) {
           const src = (v - t.y) * t.width - t.x;
           const dst = (v - y0) * w - x0;
-          for (let u = ux0; u < ux1; u++) o[dst + u] = this.lut[t.grey[src + u]];
+          if (t.amplitude) for (let u = ux0; u < ux1; u++) o[dst + u] = t.amplitude[src + u];
+          else for (let u = ux0; u < ux1; u++) o[dst + u] = this.lut[t.grey![src + u]];
         }
       }
     }

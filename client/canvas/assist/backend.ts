@@ -8,6 +8,8 @@
  *   handed to a Web Worker (traceAssist.worker.ts) that does the work. An
  *   auto-extend that ran into tiles not loaded yet is asked again after they
  *   arrive (at most 16 rounds).
+ *   A SEG-Y section reads true amplitudes instead (blocks of 256 traces ×
+ *   256 samples through GET /api/sections/:id/amplitudes).
  * - `LocalAssistBackend`: the same computation in-process over any
  *   AmplitudeSource (tests, or where `Worker` does not exist).
  *
@@ -51,9 +53,28 @@ export function polarityFromNote(note: string | null | undefined): Polarity {
 
 const MAX_ROUNDS = 16;
 
+/** Blocks of true amplitudes a SEG-Y section's assist reads (traces × samples ≤ the API's 65,536). */
+export const AMPLITUDE_TILE = 256;
+
+/** Reads a block of true amplitudes: `values[t][s]` for traces trace…trace+traces−1, samples sample…. */
+export type AmplitudeLoader = (w: { trace: number; sample: number; traces: number; samples: number }, signal?: AbortSignal) => Promise<number[][]>;
+
+export interface WorkerAssistOptions {
+  spawn?: () => AssistWorkerLike;
+  load?: (url: string, signal?: AbortSignal) => Promise<ImageBitmap>;
+  /**
+   * A SEG-Y section: read true amplitudes (image pixel [u, v] is trace ⌊u⌋,
+   * sample ⌊v⌋, as the section's amplitude readout) instead of the grey tiles.
+   */
+  amplitudes?: AmplitudeLoader;
+}
+
 export class WorkerAssistBackend implements AssistBackend {
   private worker: AssistWorkerLike | null = null;
   private readonly pyramid: Pyramid;
+  private readonly spawn: () => AssistWorkerLike;
+  private readonly load: (url: string, signal?: AbortSignal) => Promise<ImageBitmap>;
+  private readonly amplitudes: AmplitudeLoader | null;
   private readonly sent = new Set<string>();
   private readonly loading = new Map<string, Promise<void>>();
   private readonly pending = new Map<number, { resolve: (r: AssistReply) => void; reject: (e: Error) => void }>();
@@ -63,12 +84,18 @@ export class WorkerAssistBackend implements AssistBackend {
   constructor(
     private readonly tiles: TilesDescriptor,
     private readonly polarity: Polarity,
-    private readonly spawn: () => AssistWorkerLike = () =>
-      new Worker(new URL('./traceAssist.worker.ts', import.meta.url), { type: 'module' }) as unknown as AssistWorkerLike,
-    private readonly load: (url: string, signal?: AbortSignal) => Promise<ImageBitmap> = loadSectionImage,
+    opts: WorkerAssistOptions = {},
   ) {
+    this.spawn = opts.spawn ?? (() => new Worker(new URL('./traceAssist.worker.ts', import.meta.url), { type: 'module' }) as unknown as AssistWorkerLike);
+    this.load = opts.load ?? loadSectionImage;
+    this.amplitudes = opts.amplitudes ?? null;
     this.pyramid = pyramidOf(tiles);
-    this.key = `${tiles.urlTemplate}|${tiles.width}x${tiles.height}`;
+    this.key = `${tiles.urlTemplate}|${tiles.width}x${tiles.height}|${this.amplitudes ? 'amplitude' : 'grey'}`;
+  }
+
+  /** True amplitudes (SEG-Y) rather than grey tiles. */
+  get readsAmplitudes(): boolean {
+    return this.amplitudes !== null;
   }
 
   private start(): AssistWorkerLike {
@@ -89,13 +116,21 @@ export class WorkerAssistBackend implements AssistBackend {
       this.worker = null;
       this.sent.clear();
     };
-    w.postMessage({ type: 'section', key: this.key, width: this.tiles.width, height: this.tiles.height, tileSpan: this.tiles.tileSize, polarity: this.polarity });
+    w.postMessage({
+      type: 'section',
+      key: this.key,
+      width: this.tiles.width,
+      height: this.tiles.height,
+      tileSpan: this.amplitudes ? AMPLITUDE_TILE : this.tiles.tileSize,
+      polarity: this.polarity,
+    });
     this.worker = w;
     return w;
   }
 
   /** Fetch (through the client's tile cache) and send the full-resolution tiles covering `rect`. */
   async ensure(rect: PxRect, signal?: AbortSignal): Promise<void> {
+    if (this.amplitudes) return this.ensureAmplitudes(rect, signal);
     const w = this.start();
     const p = this.pyramid;
     const level = p.maxLevel;
@@ -118,6 +153,51 @@ export class WorkerAssistBackend implements AssistBackend {
             },
             () => {
               /* a missing tile reads as "no pixels": the path avoids it */
+            },
+          );
+          l.finally(() => this.loading.delete(k));
+          this.loading.set(k, l);
+        }
+        waits.push(l);
+      }
+    }
+    await Promise.all(waits);
+  }
+
+  /** Fetch and send the blocks of true amplitudes covering `rect`. */
+  private async ensureAmplitudes(rect: PxRect, signal?: AbortSignal): Promise<void> {
+    const w = this.start();
+    const load = this.amplitudes!;
+    const T = AMPLITUDE_TILE;
+    const { width, height } = this.tiles;
+    const c0 = Math.max(0, Math.floor(rect.x0 / T));
+    const c1 = Math.min(Math.ceil(width / T) - 1, Math.floor((rect.x1 - 1) / T));
+    const r0 = Math.max(0, Math.floor(rect.y0 / T));
+    const r1 = Math.min(Math.ceil(height / T) - 1, Math.floor((rect.y1 - 1) / T));
+    const waits: Promise<void>[] = [];
+    for (let row = r0; row <= r1; row++) {
+      for (let col = c0; col <= c1; col++) {
+        const k = `${col}/${row}`;
+        if (this.sent.has(k)) continue;
+        let l = this.loading.get(k);
+        if (!l) {
+          const x = col * T;
+          const y = row * T;
+          const traces = Math.min(T, width - x);
+          const samples = Math.min(T, height - y);
+          l = load({ trace: x, sample: y, traces, samples }, signal).then(
+            (v) => {
+              if (this.worker !== w) return;
+              const values = new Float32Array(traces * samples);
+              for (let t = 0; t < traces; t++) {
+                const tr = v[t] ?? [];
+                for (let s = 0; s < samples; s++) values[s * traces + t] = tr[s] ?? NaN;
+              }
+              w.postMessage({ type: 'amplitudes', key: this.key, col, row, x, y, width: traces, height: samples, values });
+              this.sent.add(k);
+            },
+            () => {
+              /* not loaded: those pixels read as missing */
             },
           );
           l.finally(() => this.loading.delete(k));

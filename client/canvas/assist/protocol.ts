@@ -31,6 +31,8 @@ export type AssistResult =
 export type AssistRequest =
   | { type: 'section'; key: string; width: number; height: number; tileSpan: number; polarity: Polarity }
   | { type: 'tile'; key: string; col: number; row: number; x: number; y: number; width: number; height: number; bitmap: ImageBitmap }
+  /** A block of a SEG-Y section's true amplitudes (row-major: rows are samples, columns traces). */
+  | { type: 'amplitudes'; key: string; col: number; row: number; x: number; y: number; width: number; height: number; values: Float32Array }
   | { type: 'task'; id: number; task: AssistTask };
 
 export type AssistReply =

@@ -1,7 +1,8 @@
 /**
  * Web Worker of trace assist: holds the grey pixels of the full-resolution
  * tiles the page sent for the open section and answers path / auto-extend /
- * snap tasks (protocol.ts) off the main thread. Tiles arrive as ImageBitmaps
+ * snap tasks (protocol.ts) off the main thread. For a SEG-Y section the page
+ * sends blocks of true amplitudes instead. Tiles arrive as ImageBitmaps
  * and are decoded once through an OffscreenCanvas (the red channel of the
  * grey JPEG); at most MAX_TILES are kept (oldest dropped first).
  */
@@ -35,6 +36,12 @@ export function handle(msg: AssistRequest): AssistReply | null {
     if (!source || msg.key !== sectionKey) return null;
     source.put(msg.col, msg.row, { x: msg.x, y: msg.y, width: msg.width, height: msg.height, grey: decode(msg.bitmap) });
     source.trim(MAX_TILES);
+    return null;
+  }
+  if (msg.type === 'amplitudes') {
+    if (!source || msg.key !== sectionKey) return null;
+    source.put(msg.col, msg.row, { x: msg.x, y: msg.y, width: msg.width, height: msg.height, amplitude: msg.values });
+    source.trim(MAX_TILES * 4);
     return null;
   }
   if (!source) return { type: 'result', id: msg.id, ok: false, message: 'No section is open for trace assist.' };

@@ -1,7 +1,8 @@
 /**
  * Vue glue of trace assist for the interpret page: gives the Trace tool a
  * backend (Web Worker + the section's full-resolution tiles) while the open
- * section has a tile pyramid, and exposes the mode and phase for the tool
+ * section has a tile pyramid (a SEG-Y section's true amplitudes when it is
+ * one), and exposes the mode and phase for the tool
  * strip.
  *
  *   const assist = useTraceAssist(tools, () => section.value);
@@ -13,9 +14,10 @@ import type { SectionDetail } from '../../../shared/schemas/sections';
 import type { Phase } from '../../../shared/trace-assist/source';
 import type { CanvasTools } from '../tools/useCanvasTools';
 import type { TraceMode } from './assistedTrace';
+import { getAmplitudes } from '../../api/segy';
 import { WorkerAssistBackend, polarityFromNote } from './backend';
 
-export function useTraceAssist(tools: CanvasTools, section: () => Pick<SectionDetail, 'tiles' | 'polarityNote'> | null | undefined) {
+export function useTraceAssist(tools: CanvasTools, section: () => Pick<SectionDetail, 'id' | 'tiles' | 'polarityNote' | 'segy'> | null | undefined) {
   const trace = tools.toolbox.tools.trace;
   const mode = ref<TraceMode | null>(null);
   const phase = ref<Phase>(trace.phase);
@@ -30,13 +32,18 @@ export function useTraceAssist(tools: CanvasTools, section: () => Pick<SectionDe
   watch(
     () => {
       const s = section();
-      return s?.tiles ? `${s.tiles.urlTemplate}|${s.tiles.width}|${s.polarityNote ?? ''}` : '';
+      return s?.tiles ? `${s.id}|${s.tiles.urlTemplate}|${s.tiles.width}|${s.polarityNote ?? ''}|${s.segy ? 'segy' : ''}` : '';
     },
     () => {
       const s = section();
       backend?.dispose();
       backend = null;
-      if (s?.tiles && typeof Worker !== 'undefined') backend = new WorkerAssistBackend(s.tiles, polarityFromNote(s.polarityNote));
+      if (s?.tiles && typeof Worker !== 'undefined') {
+        const id = s.id;
+        // A SEG-Y section: true amplitudes (positive = peak) instead of the grey picture.
+        const amplitudes = s.segy ? (w: { trace: number; sample: number; traces: number; samples: number }, signal?: AbortSignal) => getAmplitudes(id, w, signal).then((a) => a.values) : undefined;
+        backend = new WorkerAssistBackend(s.tiles, polarityFromNote(s.polarityNote), { amplitudes });
+      }
       trace.setAssist(backend);
       refresh();
     },
