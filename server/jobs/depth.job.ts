@@ -33,7 +33,7 @@ import { SectionDepthPyramid } from '../models/depth';
 import { removeTree, type FileStore } from '../storage/fileStore';
 import { buildPyramid } from '../services/tiles.service';
 import { deadJobReason, type Liveness, type JobTimings, type WorkerRow } from './liveness';
-import { ColumnResampler, depthAxisFor, FILL, type DepthViewBasis } from '../../shared/depth-view/index';
+import { ColumnResampler, depthAxisFor, FILL, sampleSpan, spanAt, type DepthViewBasis } from '../../shared/depth-view/index';
 import { DEFAULT_VELOCITY } from '../../shared/schemas/buildups';
 import { fromGeometry, isMeasurable, toInterpretationInput, type VelocityModel } from '../../shared/editor/model';
 import { segyImageCopy } from './segy-render';
@@ -180,6 +180,12 @@ export async function resampleToDepth(decoded: string, outPath: string, basis: D
           const o = (j * bw + i) * ch;
           if (r !== r) {
             for (let k = 0; k < ch; k++) res[o + k] = FILL;
+            continue;
+          }
+          const span = spanAt(rows, j);
+          if (span > 1) {
+            // the depth row squeezes several source rows: their overlap-weighted mean (shared/depth-view sampleSpan)
+            for (let k = 0; k < ch; k++) res[o + k] = Math.round(sampleSpan(r, span, height, (row) => block[(row * bw + i) * ch + k]));
             continue;
           }
           // linear between pixel centres (r − 0.5), clamped at the ends: shared/depth-view sampleAt

@@ -147,6 +147,40 @@ export function sampleAt(rowCoord: number, height: number, src: (row: number) =>
   return src(i) * (1 - t) + src(i + 1) * t;
 }
 
+/**
+ * The value of a depth-view pixel whose row centre comes from source row
+ * coordinate `rowCoord` and which covers `span` source rows (the distance
+ * between its neighbours' source rows, halved): where it covers more than one
+ * source row (the depth row squeezes several TWT rows) the source pixels are
+ * averaged over [rowCoord − span/2, rowCoord + span/2], weighted by overlap, so
+ * a thin reflector is not skipped; otherwise as `sampleAt`.
+ */
+export function sampleSpan(rowCoord: number, span: number, height: number, src: (row: number) => number): number {
+  if (rowCoord !== rowCoord) return FILL;
+  if (!(span > 1)) return sampleAt(rowCoord, height, src);
+  const a = Math.max(0, rowCoord - span / 2);
+  const b = Math.min(height, rowCoord + span / 2);
+  if (!(b > a)) return sampleAt(rowCoord, height, src);
+  let sum = 0;
+  for (let k = Math.floor(a); k < b; k++) {
+    const w = Math.min(b, k + 1) - Math.max(a, k);
+    if (w > 0) sum += w * src(k);
+  }
+  return sum / (b - a);
+}
+
+/** Source rows a depth row covers: half the distance between its neighbours' source rows (one-sided at the ends; 0 when unknown). */
+export function spanAt(rows: Float64Array, j: number): number {
+  const r = rows[j];
+  if (r !== r) return 0;
+  const p = j > 0 ? rows[j - 1] : NaN;
+  const n = j + 1 < rows.length ? rows[j + 1] : NaN;
+  if (p === p && n === n) return (n - p) / 2;
+  if (n === n) return n - r;
+  if (p === p) return r - p;
+  return 0;
+}
+
 /** Image px ↔ depth-view px for one basis and axis (a pure mapping, the same in the job and the browser). */
 export interface DepthViewMap {
   axis: DepthAxis;

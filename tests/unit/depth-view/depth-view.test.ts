@@ -10,6 +10,8 @@ import {
   depthAxisFor,
   DepthViewError,
   sampleAt,
+  sampleSpan,
+  spanAt,
   type DepthViewBasis,
 } from '../../../shared/depth-view/index';
 import { createDepthConverter } from '../../../shared/measure/index';
@@ -142,6 +144,24 @@ describe('column resampling against the engine', () => {
     expect(sampleAt(0, 3, at)).toBe(10);
     expect(sampleAt(9, 3, at)).toBe(40);
     expect(sampleAt(NaN, 3, at)).toBe(255);
+  });
+
+  it('sampleSpan averages the source rows a squeezed depth row covers (overlap-weighted), so a thin line is kept', () => {
+    const px = [200, 200, 0, 200, 200, 200];
+    const at = (row: number) => px[row];
+    // a depth row centred on the dark row 2 covering 3 source rows: one third dark
+    expect(sampleSpan(2.5, 3, 6, at)).toBeCloseTo(400 / 3, 9);
+    // half a row of overlap at each end
+    expect(sampleSpan(2.5, 2, 6, at)).toBeCloseTo((0.5 * 200 + 0 + 0.5 * 200) / 2, 9);
+    // point sampling halfway between rows 3 and 4 would miss the dark row entirely; the span does not
+    expect(sampleAt(4, 6, at)).toBe(200);
+    expect(sampleSpan(4, 4, 6, at)).toBeLessThan(200);
+    // spans of one row or less sample as sampleAt
+    expect(sampleSpan(1, 0.8, 6, at)).toBe(sampleAt(1, 6, at));
+    expect(spanAt(Float64Array.from([1, 2.5, 4]), 1)).toBe(1.5);
+    expect(spanAt(Float64Array.from([1, 2.5, NaN]), 1)).toBe(1.5);
+    expect(spanAt(Float64Array.from([NaN, 2.5, NaN]), 1)).toBe(0);
+    expect(spanAt(Float64Array.from([1, 2.5, NaN]), 2)).toBe(0);
   });
 
   it('refuses a calibration in which TWT grows upwards, naming the calibration', () => {
