@@ -25,7 +25,9 @@
  * does not cover are painted with `FILL`. Within one source pixel the depth is
  * interpolated linearly between the pixel's edges (the conversion is smooth,
  * so the error is a tiny fraction of a pixel). Samples are taken between pixel
- * centres with linear interpolation.
+ * centres with linear interpolation; where a depth row squeezes more than one
+ * source row, the source rows it covers are averaged (sampleSpan), so thin
+ * reflectors are never skipped.
  */
 import { createDepthConverter, type DepthConverter } from '../measure/index';
 import { MeasureInputError } from '../measure/errors';
