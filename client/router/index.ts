@@ -2,6 +2,7 @@ import { createRouter, createWebHistory, type RouteLocationRaw } from 'vue-route
 import type { Role } from '../../shared/schemas/auth';
 import { message } from '../composables/feedback';
 import { useSessionStore } from '../stores/session';
+import { safeRedirect } from './redirect';
 
 declare module 'vue-router' {
   interface RouteMeta {
@@ -156,14 +157,6 @@ export const router = createRouter({
     },
   ],
 });
-
-/** A redirect target from the query string, accepted only when it is a path inside the app. */
-export function safeRedirect(value: unknown): string | null {
-  const s = Array.isArray(value) ? value[0] : value;
-  if (typeof s !== 'string' || !s.startsWith('/') || s.startsWith('//') || s.startsWith('/\\')) return null;
-  if (s.startsWith('/sign-in')) return null;
-  return s;
-}
 
 router.beforeEach((to): RouteLocationRaw | true => {
   const session = useSessionStore();

@@ -1,9 +1,11 @@
 /** Schema changes only through migrations (umzug), recorded in the table `schema_migrations`. */
 import { Umzug, SequelizeStorage } from 'umzug';
-import type { Sequelize, QueryInterface } from 'sequelize';
+import type { Sequelize } from 'sequelize';
 import { migrations } from './migrations/index';
 
-export type MigrationContext = { queryInterface: QueryInterface; sequelize: Sequelize };
+import type { MigrationContext } from './migrations/context';
+
+export type { MigrationContext } from './migrations/context';
 
 export function migrator(sequelize: Sequelize) {
   return new Umzug<MigrationContext>({

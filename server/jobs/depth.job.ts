@@ -33,6 +33,7 @@ import { SectionDepthPyramid } from '../models/depth';
 import { removeTree, type FileStore } from '../storage/fileStore';
 import { buildPyramid } from '../services/tiles.service';
 import { deadJobReason, type Liveness, type JobTimings, type WorkerRow } from './liveness';
+import { transactionDb } from './queue';
 import { ColumnResampler, depthAxisFor, FILL, sampleSpan, spanAt, type DepthViewBasis } from '../../shared/depth-view/index';
 import { DEFAULT_VELOCITY } from '../../shared/schemas/buildups';
 import { fromGeometry, isMeasurable, toInterpretationInput, type VelocityModel } from '../../shared/editor/model';
@@ -64,12 +65,6 @@ interface Deps {
 }
 let deps: Deps | null = null;
 
-function transactionDb(transaction: Transaction) {
-  const client = (transaction as unknown as { connection?: { query(text: string, values: unknown[]): Promise<{ rows: unknown[] }> } }).connection;
-  if (!client) throw new Error('sendDepthJob: the transaction has no connection yet');
-  return { executeSql: (text: string, values: unknown[]) => client.query(text, values) as Promise<{ rows: any[] }> };
-}
-
 /** What the section's depth conversion depends on now: latest calibration version and velocity-model time. */
 export async function currentDepthVersions(sectionId: number, transaction?: Transaction) {
   const cal = (await SectionCalibration.max('version', { where: { sectionId }, transaction })) as number | null;
@@ -88,11 +83,11 @@ export async function queueDepthBuild(sectionId: number, transaction: Transactio
   if (!deps) throw new Error('depth build queued before the job queue started');
   const versions = await currentDepthVersions(sectionId, transaction);
   if (row?.jobId && (row.status === 'queued' || row.status === 'running')) {
-    await deps.boss.cancel(DEPTH_QUEUE, row.jobId, { db: transactionDb(transaction) }).catch(() => {});
+    await deps.boss.cancel(DEPTH_QUEUE, row.jobId, { db: transactionDb(transaction, 'depth view job') }).catch(() => {});
   }
   const build = (row?.build ?? 0) + 1;
   const jobId = await deps.boss.send(DEPTH_QUEUE, { sectionId, build } satisfies DepthJobData, {
-    db: transactionDb(transaction),
+    db: transactionDb(transaction, 'depth view job'),
     retryLimit: 0,
     expireInSeconds: deps.config.jobs.expireInSeconds,
   });
@@ -341,13 +336,13 @@ export async function recoverDepthBuilds(): Promise<{ requeued: number[]; failed
     const outcome = await sequelize.transaction(async (transaction) => {
       const cur = await SectionDepthPyramid.findByPk(r.sectionId, { transaction, lock: transaction.LOCK.UPDATE });
       if (!cur || cur.jobId !== r.jobId || cur.workerId !== r.workerId || (cur.status !== 'queued' && cur.status !== 'running')) return null;
-      if (cur.jobId) await boss.cancel(DEPTH_QUEUE, cur.jobId, { db: transactionDb(transaction) }).catch(() => {});
+      if (cur.jobId) await boss.cancel(DEPTH_QUEUE, cur.jobId, { db: transactionDb(transaction, 'depth view job') }).catch(() => {});
       if (cur.attempts >= config.jobs.maxAttempts) {
         await cur.update({ status: 'failed', workerId: null, progress: 0, failureReason: `Making the depth view was interrupted ${cur.attempts} times; ask for it again` }, { transaction });
         return 'failed' as const;
       }
       const jobId = await boss.send(DEPTH_QUEUE, { sectionId: cur.sectionId, build: cur.build } satisfies DepthJobData, {
-        db: transactionDb(transaction),
+        db: transactionDb(transaction, 'depth view job'),
         retryLimit: 0,
         expireInSeconds: config.jobs.expireInSeconds,
       });

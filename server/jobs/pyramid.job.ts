@@ -39,13 +39,8 @@ import {
 } from './queue';
 import { Liveness, deadJobReason, jobTimings, type JobTimings, type WorkerRow } from './liveness';
 import { JOB_REGISTRATIONS, type JobHooks } from './registry';
+import { sectionKeys } from '../storage/keys';
 
-/** Keys of a section's files in the file store. */
-export const sectionKeys = (storageKey: string) => ({
-  root: `sections/${storageKey}`,
-  original: `sections/${storageKey}/original`,
-  pyramid: `sections/${storageKey}/pyramid`,
-});
 
 /** The scratch prefix of a section's builds (the store adds `-<owner>-<random>`). */
 export const buildScratchPrefix = (storageKey: string) => `build-${storageKey}`;

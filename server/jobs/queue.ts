@@ -30,8 +30,8 @@ export function jobQueue(): PgBoss {
   return current.boss;
 }
 
-/** pg-boss's `db` option over a Sequelize transaction's own connection. */
-function transactionDb(transaction: Transaction, what: string) {
+/** pg-boss's `db` option over a Sequelize transaction's own connection (every job sent or cancelled with a row change uses it). */
+export function transactionDb(transaction: Transaction, what: string) {
   const client = (transaction as unknown as { connection?: { query(text: string, values: unknown[]): Promise<{ rows: unknown[] }> } }).connection;
   if (!client) throw new Error(`${what}: the transaction has no connection yet`);
   return { executeSql: (text: string, values: unknown[]) => client.query(text, values) as Promise<{ rows: any[] }> };

@@ -24,11 +24,11 @@ import { Section } from '../models/section';
 import { BuildupReportRow } from '../models/report';
 import { removeTree, type FileStore } from '../storage/fileStore';
 import { deadJobReason, type Liveness, type JobTimings, type WorkerRow } from './liveness';
+import { transactionDb } from './queue';
+import { REPORT_QUEUE, nudgeReportWorkers, sendReportJob, setReportSender, type ReportJobData } from './report-queue';
 
-export const REPORT_QUEUE = 'buildup-report';
-export interface ReportJobData {
-  reportId: number;
-}
+export { REPORT_QUEUE } from './report-queue';
+
 
 interface Deps {
   boss: PgBoss;
@@ -41,31 +41,6 @@ interface Deps {
   workerIds: string[];
 }
 let deps: Deps | null = null;
-
-/** pg-boss's `db` option over a Sequelize transaction's own connection (as queue.ts does for pyramids). */
-function transactionDb(transaction: Transaction) {
-  const client = (transaction as unknown as { connection?: { query(text: string, values: unknown[]): Promise<{ rows: unknown[] }> } }).connection;
-  if (!client) throw new Error('sendReportJob: the transaction has no connection yet');
-  return { executeSql: (text: string, values: unknown[]) => client.query(text, values) as Promise<{ rows: any[] }> };
-}
-
-/** Queue a report job inside `transaction`; returns the job id. */
-export async function sendReportJob(reportId: number, transaction: Transaction): Promise<string> {
-  if (!deps) throw new Error('report job sent before the job queue started');
-  const id = await deps.boss.send(REPORT_QUEUE, { reportId } satisfies ReportJobData, {
-    db: transactionDb(transaction),
-    retryLimit: 0,
-    expireInSeconds: deps.config.jobs.expireInSeconds,
-  });
-  if (!id) throw new Error('the job queue refused the report job');
-  return id;
-}
-
-/** Wake this process's report workers (after the sending transaction committed). */
-export function nudgeReportWorkers() {
-  if (!deps) return;
-  for (const id of deps.workerIds) deps.boss.notifyWorker(id);
-}
 
 class ReportStopped extends Error {
   constructor(readonly why: 'shutdown' | 'lost') {
@@ -172,7 +147,7 @@ export async function recoverReports(): Promise<{ requeued: number[]; failed: nu
     const outcome = await sequelize.transaction(async (transaction) => {
       const cur = await BuildupReportRow.findByPk(r.id, { transaction, lock: transaction.LOCK.UPDATE });
       if (!cur || cur.jobId !== r.jobId || cur.workerId !== r.workerId || (cur.status !== 'queued' && cur.status !== 'running')) return null;
-      if (cur.jobId) await boss.cancel(REPORT_QUEUE, cur.jobId, { db: transactionDb(transaction) }).catch(() => {});
+      if (cur.jobId) await boss.cancel(REPORT_QUEUE, cur.jobId, { db: transactionDb(transaction, 'report job') }).catch(() => {});
       if (cur.attempts >= config.jobs.maxAttempts) {
         await cur.update({ status: 'failed', workerId: null, progress: 0, failureReason: `Making the report was interrupted ${cur.attempts} times; ask for it again` }, { transaction });
         return 'failed' as const;
@@ -214,6 +189,8 @@ export async function startReportJobs(d: Omit<Deps, 'workerIds'>): Promise<{ sto
   await d.boss.createQueue(REPORT_QUEUE);
   deps = { ...d, workerIds: [] };
   const mine = deps;
+  const sender = { boss: d.boss, expireInSeconds: d.config.jobs.expireInSeconds, workerIds: mine.workerIds };
+  setReportSender(sender);
   if (d.config.jobs.runWorkers) {
     const id = await d.boss.work<ReportJobData>(REPORT_QUEUE, { pollingIntervalSeconds: d.config.jobs.pollingIntervalSeconds, batchSize: 1 }, async (jobs) => {
       for (const job of jobs) await runReportJob(job);
@@ -225,6 +202,7 @@ export async function startReportJobs(d: Omit<Deps, 'workerIds'>): Promise<{ sto
   return {
     stop() {
       if (deps === mine) deps = null;
+      setReportSender(null, sender);
     },
   };
 }

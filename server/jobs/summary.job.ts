@@ -10,48 +10,16 @@
  * runs.
  */
 import type PgBoss from 'pg-boss';
-import type { Transaction } from 'sequelize';
 import type { Config } from '../config';
 import { ctx } from '../context';
 import { logger } from '../logger';
 import { Buildup, SectionVelocity } from '../models/buildup';
 import { Section, SectionCalibration } from '../models/section';
 import { AppError } from '../errors';
-import { jobQueue } from './queue';
+import { SUMMARY_QUEUE, type SummaryJobData } from './summary-queue';
+import { measureStored } from '../services/buildup.service';
 import { writeSummary } from '../services/summary-store';
 import { startBatchJobs } from './report-batch.job';
-
-export const SUMMARY_QUEUE = 'buildup-summary';
-
-export interface SummaryJobData {
-  buildupId: number;
-}
-
-function transactionDb(transaction: Transaction) {
-  const client = (transaction as unknown as { connection?: { query(text: string, values: unknown[]): Promise<{ rows: unknown[] }> } }).connection;
-  if (!client) throw new Error('sendSummaryJob: the transaction has no connection yet');
-  return { executeSql: (text: string, values: unknown[]) => client.query(text, values) as Promise<{ rows: any[] }> };
-}
-
-function queueOrNull(): PgBoss | null {
-  try {
-    return jobQueue();
-  } catch {
-    return null; // no queue in this process (a script): the register finds the summary stale and asks again
-  }
-}
-
-/** Queue a summary refresh of one buildup (within `transaction` when given). A queued one for the same buildup is enough. */
-export async function sendSummaryJob(buildupId: number, transaction?: Transaction): Promise<void> {
-  const boss = queueOrNull();
-  if (!boss) return;
-  await boss.send(SUMMARY_QUEUE, { buildupId } satisfies SummaryJobData, {
-    singletonKey: `b${buildupId}`,
-    retryLimit: 3,
-    retryDelay: 2,
-    ...(transaction ? { db: transactionDb(transaction) } : {}),
-  });
-}
 
 /** Measure one buildup's current version and keep its summary. Exported for tests. */
 export async function refreshSummary(buildupId: number): Promise<void> {
@@ -59,8 +27,6 @@ export async function refreshSummary(buildupId: number): Promise<void> {
   if (!buildup) return; // deleted meanwhile
   const section = await Section.findByPk(buildup.sectionId);
   if (!section) return;
-  // imported here: buildup.service sends these jobs, so a top-level import would be circular
-  const { measureStored } = await import('../services/buildup.service');
   try {
     await measureStored(buildup, section);
   } catch (e) {

@@ -11,7 +11,7 @@ import sharp, { type OverlayOptions } from 'sharp';
 import type { Section } from '../models/section';
 import type { FileStore } from '../storage/fileStore';
 import { pyramidLevels, TILE_EXT } from '../services/tiles.service';
-import { sectionKeys } from '../jobs/pyramid.job';
+import { sectionKeys } from '../storage/keys';
 
 export interface CropRequest {
   u0: number;

@@ -7,7 +7,7 @@
 import sharp, { type OverlayOptions } from 'sharp';
 import { ctx } from '../context';
 import { fileStoreFor } from '../storage/fileStore';
-import { sectionKeys } from '../jobs/pyramid.job';
+import { sectionKeys } from '../storage/keys';
 import { pyramidLevels, TILE_EXT } from './tiles.service';
 import type { Section } from '../models/section';
 import type { BuildupGeometry } from '../../shared/editor/model';

@@ -17,7 +17,7 @@ import { markBuildupNotesRemoved, refreshNoteAnchors } from './note.service';
 import { ctx } from '../context';
 import { logger } from '../logger';
 import { writeSummary, type SummarySources } from './summary-store';
-import { sendSummaryJob } from '../jobs/summary.job';
+import { sendSummaryJob } from '../jobs/summary-queue';
 import { MeasureInputError, type MeasurementOutput } from '../../shared/measure/index';
 import { measureWorkProblem } from '../../shared/schemas/measure-limits';
 import { measureOffLoop } from '../measure/pool';

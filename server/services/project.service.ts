@@ -5,7 +5,7 @@ import { audit } from './audit.service';
 import { ctx } from '../context';
 import { Section } from '../models/section';
 import { fileStoreFor } from '../storage/fileStore';
-import { sectionKeys } from '../jobs/pyramid.job';
+import { sectionKeys } from '../storage/keys';
 import type { CreateProjectInput, UpdateProjectInput, ProjectDetail, ProjectMemberView, ProjectSummary, Page } from '../../shared/schemas/projects';
 
 export interface Actor {

@@ -18,7 +18,7 @@ import { QueryTypes } from 'sequelize';
 import { ctx } from '../context';
 import { projectForViewer, type Actor } from './project.service';
 import { CURRENT_SUMMARY_SQL } from './summary-store';
-import { sendSummaryJob } from '../jobs/summary.job';
+import { sendSummaryJob } from '../jobs/summary-queue';
 import { logger } from '../logger';
 import { REGISTER_NUMERIC, REGISTER_NUMERIC_KEYS, type RegisterExportQuery, type RegisterPage, type RegisterQuery, type RegisterRow, type RegisterSort } from '../../shared/schemas/register';
 import { REVIEW_STATE_LABELS, type ReviewState } from '../../shared/schemas/review';

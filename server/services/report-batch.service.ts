@@ -14,7 +14,7 @@ import { ctx } from '../context';
 import { AppError, notFound } from '../errors';
 import { BuildupReportRow } from '../models/report';
 import { fileStoreFor, type StoredObject } from '../storage/fileStore';
-import { jobQueue } from '../jobs/queue';
+import { jobQueue, transactionDb } from '../jobs/queue';
 import { BATCH_QUEUE, batchFileKey, type BatchEntry, type BatchJobData } from '../jobs/report-batch.job';
 import { projectForViewer, type Actor } from './project.service';
 import { requestReport } from './report.service';
@@ -74,9 +74,7 @@ export async function startBatch(actor: Actor, projectId: number, opts: { paper?
   };
   // the job and its audit line in one transaction
   const id = await ctx().sequelize.transaction(async (transaction) => {
-    const client = (transaction as unknown as { connection?: { query(text: string, values: unknown[]): Promise<{ rows: unknown[] }> } }).connection;
-    if (!client) throw new Error('startBatch: the transaction has no connection yet');
-    const db = { executeSql: (text: string, values: unknown[]) => client.query(text, values) as Promise<{ rows: any[] }> };
+    const db = transactionDb(transaction, 'startBatch');
     const jobId = await jobQueue().send(BATCH_QUEUE, data, { db });
     if (!jobId) throw new AppError(503, 'queue_refused', 'The job queue did not take the batch; try again in a moment');
     await audit(actor.id, 'report.batch', 'project', projectId, { jobId, buildups: entries.map((e) => e.buildupId) }, transaction);

@@ -43,7 +43,7 @@ import { isLengthUnit, toDisplay, DEFAULT_LENGTH_UNIT, type LengthUnit } from '.
 import { CAUTION } from '../../shared/measure/index';
 import { REPORT_FORMAT, cycleTable, exportFileName, EXPORT_CONTENT_TYPES, type BuildupReport, type ExportFormat, type Paper, type ReportCrop } from '../../shared/report/report';
 import { clampStretch, cropWindow } from '../../shared/report/overlay';
-import { nudgeReportWorkers, sendReportJob } from '../jobs/report.job';
+import { nudgeReportWorkers, sendReportJob } from '../jobs/report-queue';
 
 /** Bumped when the report's look changes, so cached files are made again. */
 export const REPORT_RENDER_VERSION = 1;

@@ -20,7 +20,8 @@ import { afterSectionDeleted as afterSegySectionDeleted } from './segy.service';
 import { inspectImage } from './image.service';
 import { tilesDescriptor, pyramidLevels, TILE_EXT } from './tiles.service';
 import { fileStoreFor, randomName, type StoredObject } from '../storage/fileStore';
-import { queuePyramid, nudgeWorkers, sectionKeys, stuckReason, buildScratchPrefix } from '../jobs/pyramid.job';
+import { queuePyramid, nudgeWorkers, stuckReason, buildScratchPrefix } from '../jobs/pyramid.job';
+import { sectionKeys } from '../storage/keys';
 import { cancelPyramidJob } from '../jobs/queue';
 import type {
   CalibrationInput,

@@ -30,7 +30,7 @@ import {
 } from '@aws-sdk/client-s3';
 import { Upload } from '@aws-sdk/lib-storage';
 import { ScratchArea, assertKey, filesBelow, removeTree } from './scratch';
-import type { ByteRange, FileStore, StoredObject } from './fileStore';
+import type { ByteRange, FileStore, StoredObject } from './types';
 
 export interface S3Settings {
   bucket: string;

@@ -26,7 +26,7 @@ import { Buildup } from '../../server/models/buildup';
 import { User } from '../../server/models/index';
 import { BuildupReportRow } from '../../server/models/report';
 import { fileStoreFor } from '../../server/storage/fileStore';
-import { sectionKeys } from '../../server/jobs/pyramid.job';
+import { sectionKeys } from '../../server/storage/keys';
 import { measureBuildup } from '../../server/services/buildup.service';
 import { requestReport } from '../../server/services/report.service';
 import { renderReportFiles } from '../../server/reports/render';

@@ -1,6 +1,6 @@
 /** Users, sign-in sessions, projects and their members, audit trail. */
 import { DataTypes } from 'sequelize';
-import type { MigrationContext } from '../migrate';
+import type { MigrationContext } from './context';
 
 const id = { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true };
 const stamps = {

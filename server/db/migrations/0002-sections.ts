@@ -1,6 +1,6 @@
 /** Sections (uploaded seismic images, their tile pyramid state) and their versioned axis calibrations. */
 import { DataTypes } from 'sequelize';
-import type { MigrationContext } from '../migrate';
+import type { MigrationContext } from './context';
 
 const stamps = {
   created_at: { type: DataTypes.DATE, allowNull: false, defaultValue: DataTypes.NOW },

@@ -1,6 +1,6 @@
 /** Buildups traced on a section (geometry in image pixels) and each section's velocity model. */
 import { DataTypes } from 'sequelize';
-import type { MigrationContext } from '../migrate';
+import type { MigrationContext } from './context';
 
 export async function up({ queryInterface: q }: MigrationContext) {
   await q.createTable('buildups', {

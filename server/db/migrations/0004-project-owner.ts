@@ -10,7 +10,7 @@
  *   stored in clear), shared by every server process.
  */
 import { DataTypes } from 'sequelize';
-import type { MigrationContext } from '../migrate';
+import type { MigrationContext } from './context';
 
 export async function up({ queryInterface: q, sequelize }: MigrationContext) {
   await q.addColumn('project_members', 'role', { type: DataTypes.STRING(10), allowNull: false, defaultValue: 'member' });

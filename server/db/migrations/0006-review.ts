@@ -5,7 +5,7 @@
  * history of review transitions with who, when and an optional comment.
  */
 import { DataTypes } from 'sequelize';
-import type { MigrationContext } from '../migrate';
+import type { MigrationContext } from './context';
 
 export async function up({ queryInterface: q }: MigrationContext) {
   await q.addColumn('buildups', 'review_state', { type: DataTypes.STRING(20), allowNull: false, defaultValue: 'draft' });

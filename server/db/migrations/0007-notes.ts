@@ -8,7 +8,7 @@
  * tombstone when deleted.
  */
 import { DataTypes } from 'sequelize';
-import type { MigrationContext } from '../migrate';
+import type { MigrationContext } from './context';
 
 export async function up({ queryInterface: q }: MigrationContext) {
   await q.createTable('note_threads', {

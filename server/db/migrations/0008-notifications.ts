@@ -6,7 +6,7 @@
  * sink received, parsed).
  */
 import { DataTypes } from 'sequelize';
-import type { MigrationContext } from '../migrate';
+import type { MigrationContext } from './context';
 
 export async function up({ queryInterface: q }: MigrationContext) {
   await q.addColumn('users', 'notify_mode', { type: DataTypes.STRING(10), allowNull: false, defaultValue: 'immediate' });

@@ -9,7 +9,7 @@
  * scratch first and moved into place in one rename.
  */
 import { DataTypes } from 'sequelize';
-import type { MigrationContext } from '../migrate';
+import type { MigrationContext } from './context';
 
 export async function up({ queryInterface: q }: MigrationContext) {
   await q.createTable('buildup_reports', {

@@ -10,7 +10,7 @@
  *   calibration row and velocity-model time equal the buildup's and section's.
  */
 import { DataTypes } from 'sequelize';
-import type { MigrationContext } from '../migrate';
+import type { MigrationContext } from './context';
 
 export async function up({ queryInterface: q }: MigrationContext) {
   await q.addColumn('users', 'length_unit', { type: DataTypes.STRING(4), allowNull: false, defaultValue: 'm' });

@@ -21,7 +21,7 @@
  *   candidates on that index (`<->`), computes the exact distance on them and
  *   checks the bound (a 64-dimensional index would visit most of itself).
  */
-import type { MigrationContext } from '../migrate';
+import type { MigrationContext } from './context';
 
 export const METRIC_COLUMNS = [
   'height_m',

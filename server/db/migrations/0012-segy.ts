@@ -7,7 +7,7 @@
  * `segy_headers`).
  */
 import { DataTypes } from 'sequelize';
-import type { MigrationContext } from '../migrate';
+import type { MigrationContext } from './context';
 
 export async function up({ queryInterface: q }: MigrationContext) {
   await q.createTable('segy_uploads', {

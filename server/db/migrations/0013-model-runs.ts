@@ -5,7 +5,7 @@
  * creator is kept as null when the account goes.
  */
 import { DataTypes } from 'sequelize';
-import type { MigrationContext } from '../migrate';
+import type { MigrationContext } from './context';
 
 export async function up({ queryInterface: q }: MigrationContext) {
   await q.createTable('model_runs', {

@@ -16,7 +16,7 @@
  *   a build whose owner died is queued again by the same sweep.
  */
 import { DataTypes } from 'sequelize';
-import type { MigrationContext } from '../migrate';
+import type { MigrationContext } from './context';
 
 export async function up({ queryInterface: q }: MigrationContext) {
   await q.createTable('section_depth_pyramids', {

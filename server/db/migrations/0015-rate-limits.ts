@@ -5,7 +5,7 @@
  * attempts as one. One row per limiter and address, reset when its window ends.
  */
 import { DataTypes } from 'sequelize';
-import type { MigrationContext } from '../migrate';
+import type { MigrationContext } from './context';
 
 export async function up({ queryInterface: q }: MigrationContext) {
   await q.createTable('rate_limit_hits', {

@@ -2,7 +2,7 @@
  * The ordered list of migrations. Add a new file `NNNN-what.ts` exporting
  * `up`/`down` and append it here; never edit a migration that has landed.
  */
-import type { MigrationContext } from '../migrate';
+import type { MigrationContext } from './context';
 import * as m0001 from './0001-foundation';
 import * as m0002 from './0002-sections';
 import * as m0003 from './0003-buildups';

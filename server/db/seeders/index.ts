@@ -1,16 +1,11 @@
 /** Everything `npm start` seeds on first start; each part records itself in app_meta and runs once. */
-import type { Sequelize } from 'sequelize';
-import type { Config } from '../../config';
+import type { SeedDeps } from './types';
 import { seedDemoUsers } from './demo';
 import { seedDemoSections } from './sections';
 import { seedDemoInterpretation } from './interpretations';
 import { seedDemoAnalogues } from './analogues';
 
-export interface SeedDeps {
-  sequelize: Sequelize;
-  config: Config;
-  log: (m: string) => void;
-}
+export type { SeedDeps } from './types';
 
 export async function seedDemo(deps: SeedDeps) {
   const r = await seedDemoUsers(deps.sequelize);

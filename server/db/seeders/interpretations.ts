@@ -11,7 +11,7 @@ import { Section } from '../../models/section';
 import { Buildup, SectionVelocity } from '../../models/buildup';
 import { DEMO_SECTIONS, sectionGeometry } from '../../synth/demo';
 import { DEMO_PROJECT } from './demo';
-import type { SeedDeps } from './index';
+import type { SeedDeps } from './types';
 import { recordVersion } from '../../services/review.service';
 import type { BuildupGeometry } from '../../../shared/editor/model';
 

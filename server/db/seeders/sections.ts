@@ -13,7 +13,7 @@ import { storeNewSection } from '../../services/section.service';
 import { fileStoreFor } from '../../storage/fileStore';
 import { DEMO_SECTIONS, generateSection } from '../../synth/demo';
 import { DEMO_PROJECT } from './demo';
-import type { SeedDeps } from './index';
+import type { SeedDeps } from './types';
 import type { CreateSectionFields } from '../../../shared/schemas/sections';
 
 export const SECTIONS_SEED_KEY = 'demo_sections_seeded';
