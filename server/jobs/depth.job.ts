@@ -32,7 +32,7 @@ import { Buildup, SectionVelocity } from '../models/buildup';
 import { SectionDepthPyramid } from '../models/depth';
 import { removeTree, type FileStore } from '../storage/fileStore';
 import { buildPyramid } from '../services/tiles.service';
-import { deadJobReason, type Liveness, type JobTimings, type WorkerRow } from './liveness';
+import { failureText, requeueDeadRows, type Liveness, type JobTimings } from './liveness';
 import { transactionDb } from './queue';
 import { ColumnResampler, depthAxisFor, FILL, sampleSpan, spanAt, type DepthViewBasis } from '../../shared/depth-view/index';
 import { DEFAULT_VELOCITY } from '../../shared/schemas/buildups';
@@ -311,49 +311,36 @@ export async function runDepthJob(job: PgBoss.Job<DepthJobData>) {
       return;
     }
     logger.warn({ err, sectionId }, 'depth build failed');
-    const m = (err instanceof Error ? err.message : String(err)).split('\n')[0].split(d.config.storageDir).join('…').slice(0, 300);
+    const m = failureText(err, d.config.storageDir);
     await SectionDepthPyramid.update({ status: 'failed', progress: 0, workerId: null, failureReason: `The depth view could not be made: ${m}` }, stillMine).catch(() => {});
   } finally {
     await removeTree(work);
   }
 }
 
-function deadReason(boss: PgBoss, r: SectionDepthPyramid, owners: Map<string, WorkerRow>) {
-  return deadJobReason(boss, DEPTH_QUEUE, r, owners, deps!.liveness, deps!.timings);
-}
-
 /** Queue again the depth builds of dead processes (or fail them after `jobs.maxAttempts`). */
 export async function recoverDepthBuilds(): Promise<{ requeued: number[]; failed: number[] }> {
-  const out = { requeued: [] as number[], failed: [] as number[] };
-  if (!deps) return out;
-  const { boss, sequelize, liveness, config } = deps;
-  const rows = await SectionDepthPyramid.findAll({ where: { status: { [Op.in]: ['queued', 'running'] } }, order: [['sectionId', 'ASC']] });
-  if (!rows.length) return out;
-  const owners = await liveness.workers(rows.flatMap((r) => (r.workerId ? [r.workerId] : [])));
-  for (const r of rows) {
-    const why = await deadReason(boss, r, owners);
-    if (!why) continue;
-    const outcome = await sequelize.transaction(async (transaction) => {
-      const cur = await SectionDepthPyramid.findByPk(r.sectionId, { transaction, lock: transaction.LOCK.UPDATE });
-      if (!cur || cur.jobId !== r.jobId || cur.workerId !== r.workerId || (cur.status !== 'queued' && cur.status !== 'running')) return null;
-      if (cur.jobId) await boss.cancel(DEPTH_QUEUE, cur.jobId, { db: transactionDb(transaction, 'depth view job') }).catch(() => {});
-      if (cur.attempts >= config.jobs.maxAttempts) {
-        await cur.update({ status: 'failed', workerId: null, progress: 0, failureReason: `Making the depth view was interrupted ${cur.attempts} times; ask for it again` }, { transaction });
-        return 'failed' as const;
-      }
-      const jobId = await boss.send(DEPTH_QUEUE, { sectionId: cur.sectionId, build: cur.build } satisfies DepthJobData, {
+  if (!deps) return { requeued: [], failed: [] };
+  const { boss, sequelize, liveness, config, timings } = deps;
+  const out = await requeueDeadRows({
+    boss,
+    queue: DEPTH_QUEUE,
+    sequelize,
+    liveness,
+    timings,
+    maxAttempts: config.jobs.maxAttempts,
+    rows: await SectionDepthPyramid.findAll({ where: { status: { [Op.in]: ['queued', 'running'] } }, order: [['sectionId', 'ASC']] }),
+    keyOf: (r) => r.sectionId,
+    lock: (r, transaction) => SectionDepthPyramid.findByPk(r.sectionId, { transaction, lock: transaction.LOCK.UPDATE }),
+    send: async (r, transaction) =>
+      (await boss.send(DEPTH_QUEUE, { sectionId: r.sectionId, build: r.build } satisfies DepthJobData, {
         db: transactionDb(transaction, 'depth view job'),
         retryLimit: 0,
         expireInSeconds: config.jobs.expireInSeconds,
-      });
-      await cur.update({ jobId, status: 'queued', workerId: null, progress: 0, attempts: cur.attempts + 1, progressAt: new Date() }, { transaction });
-      return 'requeued' as const;
-    });
-    if (outcome) {
-      out[outcome].push(r.sectionId);
-      logger.info({ sectionId: r.sectionId, why, outcome }, 'resumed a depth build of a dead process');
-    }
-  }
+      })) as string,
+    gaveUp: (n) => `Making the depth view was interrupted ${n} times; ask for it again`,
+    log: ['resumed a depth build of a dead process', 'sectionId'],
+  });
   if (out.requeued.length) nudgeDepthWorkers();
   return out;
 }

@@ -13,10 +13,11 @@
  */
 import os from 'node:os';
 import type PgBoss from 'pg-boss';
-import { QueryTypes, type Sequelize } from 'sequelize';
+import { QueryTypes, type Sequelize, type Transaction } from 'sequelize';
 import type { Config } from '../config';
 import { logger } from '../logger';
 import { randomName } from '../storage/fileStore';
+import { transactionDb } from './queue';
 
 /** The timing of liveness. Defaults below; `config.jobs` may override any of them (tests do). */
 export interface JobTimings {
@@ -178,4 +179,68 @@ export async function deadJobReason(
     return Date.now() - startedOn > timings.staleAfterSeconds * 1000 ? 'unclaimed' : null;
   }
   return 'job_ended';
+}
+
+/** A job-owning row as the recovery sweep sees it (a depth build, a report). */
+export interface OwnedJobRow {
+  jobId: string | null;
+  workerId: string | null;
+  status: string;
+  attempts: number;
+  update(values: Record<string, unknown>, options: { transaction: Transaction }): Promise<unknown>;
+}
+
+/**
+ * The recovery sweep shared by the row-owning jobs: for each queued/running
+ * row whose job is dead (`deadJobReason`), lock the row, check nobody moved it
+ * on meanwhile, cancel its stale job and either fail it after `maxAttempts`
+ * or send a fresh job — all in one transaction per row.
+ */
+export async function requeueDeadRows<R extends OwnedJobRow, K>(o: {
+  boss: PgBoss;
+  queue: string;
+  sequelize: Sequelize;
+  liveness: Liveness;
+  timings: Pick<JobTimings, 'staleAfterSeconds'>;
+  maxAttempts: number;
+  rows: R[];
+  keyOf(row: R): K;
+  /** The row again, locked for update in `transaction` (null when gone). */
+  lock(row: R, transaction: Transaction): Promise<R | null>;
+  /** Send the fresh job inside `transaction`; returns its id. */
+  send(row: R, transaction: Transaction): Promise<string>;
+  /** The failure reason after `attempts` interruptions. */
+  gaveUp(attempts: number): string;
+  /** Log line and field name, e.g. 'resumed a report of a dead process', 'reportId'. */
+  log: [message: string, field: string];
+}): Promise<{ requeued: K[]; failed: K[] }> {
+  const out = { requeued: [] as K[], failed: [] as K[] };
+  if (!o.rows.length) return out;
+  const owners = await o.liveness.workers(o.rows.flatMap((r) => (r.workerId ? [r.workerId] : [])));
+  for (const r of o.rows) {
+    const why = await deadJobReason(o.boss, o.queue, r, owners, o.liveness, o.timings);
+    if (!why) continue;
+    const outcome = await o.sequelize.transaction(async (transaction) => {
+      const cur = await o.lock(r, transaction);
+      if (!cur || cur.jobId !== r.jobId || cur.workerId !== r.workerId || (cur.status !== 'queued' && cur.status !== 'running')) return null;
+      if (cur.jobId) await o.boss.cancel(o.queue, cur.jobId, { db: transactionDb(transaction, o.queue) }).catch(() => {});
+      if (cur.attempts >= o.maxAttempts) {
+        await cur.update({ status: 'failed', workerId: null, progress: 0, failureReason: o.gaveUp(cur.attempts) }, { transaction });
+        return 'failed' as const;
+      }
+      const jobId = await o.send(cur, transaction);
+      await cur.update({ jobId, status: 'queued', workerId: null, progress: 0, attempts: cur.attempts + 1, progressAt: new Date() }, { transaction });
+      return 'requeued' as const;
+    });
+    if (outcome) {
+      out[outcome].push(o.keyOf(r));
+      logger.info({ [o.log[1]]: o.keyOf(r), why, outcome }, o.log[0]);
+    }
+  }
+  return out;
+}
+
+/** The first line of an error for a failure reason shown to people, with the storage folder hidden. */
+export function failureText(err: unknown, storageDir: string): string {
+  return (err instanceof Error ? err.message : String(err)).split('\n')[0].split(storageDir).join('…').slice(0, 300);
 }

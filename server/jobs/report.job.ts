@@ -16,15 +16,14 @@
 import fsp from 'node:fs/promises';
 import path from 'node:path';
 import type PgBoss from 'pg-boss';
-import { Op, type Sequelize, type Transaction } from 'sequelize';
+import { Op, type Sequelize } from 'sequelize';
 import type { Config } from '../config';
 import { logger } from '../logger';
 import { Buildup } from '../models/buildup';
 import { Section } from '../models/section';
 import { BuildupReportRow } from '../models/report';
 import { removeTree, type FileStore } from '../storage/fileStore';
-import { deadJobReason, type Liveness, type JobTimings, type WorkerRow } from './liveness';
-import { transactionDb } from './queue';
+import { failureText, requeueDeadRows, type Liveness, type JobTimings } from './liveness';
 import { REPORT_QUEUE, nudgeReportWorkers, sendReportJob, setReportSender, type ReportJobData } from './report-queue';
 
 export { REPORT_QUEUE } from './report-queue';
@@ -121,46 +120,31 @@ export async function runReportJob(job: PgBoss.Job<ReportJobData>) {
       return;
     }
     logger.warn({ err, reportId }, 'report failed');
-    const m = (err instanceof Error ? err.message : String(err)).split('\n')[0].split(d.config.storageDir).join('…').slice(0, 300);
+    const m = failureText(err, d.config.storageDir);
     await BuildupReportRow.update({ status: 'failed', progress: 0, workerId: null, failureReason: `The report could not be made: ${m}` }, stillMine).catch(() => {});
   } finally {
     await removeTree(work);
   }
 }
 
-/** Why a queued/running report has no live job, or null when it has one. */
-function deadReason(boss: PgBoss, r: BuildupReportRow, owners: Map<string, WorkerRow>) {
-  return deadJobReason(boss, REPORT_QUEUE, r, owners, deps!.liveness, deps!.timings);
-}
-
 /** Queue again the reports of dead processes (or fail them after `jobs.maxAttempts`). */
 export async function recoverReports(): Promise<{ requeued: number[]; failed: number[] }> {
-  const out = { requeued: [] as number[], failed: [] as number[] };
-  if (!deps) return out;
-  const { boss, sequelize, liveness, config } = deps;
-  const rows = await BuildupReportRow.findAll({ where: { status: { [Op.in]: ['queued', 'running'] } }, order: [['id', 'ASC']] });
-  if (!rows.length) return out;
-  const owners = await liveness.workers(rows.flatMap((r) => (r.workerId ? [r.workerId] : [])));
-  for (const r of rows) {
-    const why = await deadReason(boss, r, owners);
-    if (!why) continue;
-    const outcome = await sequelize.transaction(async (transaction) => {
-      const cur = await BuildupReportRow.findByPk(r.id, { transaction, lock: transaction.LOCK.UPDATE });
-      if (!cur || cur.jobId !== r.jobId || cur.workerId !== r.workerId || (cur.status !== 'queued' && cur.status !== 'running')) return null;
-      if (cur.jobId) await boss.cancel(REPORT_QUEUE, cur.jobId, { db: transactionDb(transaction, 'report job') }).catch(() => {});
-      if (cur.attempts >= config.jobs.maxAttempts) {
-        await cur.update({ status: 'failed', workerId: null, progress: 0, failureReason: `Making the report was interrupted ${cur.attempts} times; ask for it again` }, { transaction });
-        return 'failed' as const;
-      }
-      const jobId = await sendReportJob(cur.id, transaction);
-      await cur.update({ jobId, status: 'queued', workerId: null, progress: 0, attempts: cur.attempts + 1, progressAt: new Date() }, { transaction });
-      return 'requeued' as const;
-    });
-    if (outcome) {
-      out[outcome].push(r.id);
-      logger.info({ reportId: r.id, why, outcome }, 'resumed a report of a dead process');
-    }
-  }
+  if (!deps) return { requeued: [], failed: [] };
+  const { boss, sequelize, liveness, config, timings } = deps;
+  const out = await requeueDeadRows({
+    boss,
+    queue: REPORT_QUEUE,
+    sequelize,
+    liveness,
+    timings,
+    maxAttempts: config.jobs.maxAttempts,
+    rows: await BuildupReportRow.findAll({ where: { status: { [Op.in]: ['queued', 'running'] } }, order: [['id', 'ASC']] }),
+    keyOf: (r) => r.id,
+    lock: (r, transaction) => BuildupReportRow.findByPk(r.id, { transaction, lock: transaction.LOCK.UPDATE }),
+    send: (r, transaction) => sendReportJob(r.id, transaction),
+    gaveUp: (n) => `Making the report was interrupted ${n} times; ask for it again`,
+    log: ['resumed a report of a dead process', 'reportId'],
+  });
   if (out.requeued.length) nudgeReportWorkers();
   return out;
 }
