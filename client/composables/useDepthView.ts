@@ -9,8 +9,9 @@
  *
  * The state is asked for when the toggle is switched on (POST queues a build
  * unless the stored one is current) and refetched every second while a build
- * runs, and whenever the velocity model or the calibration changes (`sources`;
- * the server queues the rebuild itself). The last good build stays on view
+ * runs, and whenever the velocity model, the calibration or a saved buildup
+ * changes (`sources`; the server queues the rebuild itself — for a buildup
+ * with the `buildup` velocity model, whose envelope moved). The last good build stays on view
  * while a newer one is made.
  */
 import { computed, ref, watch, type Ref } from 'vue';
@@ -28,7 +29,7 @@ export const DEPTH_POLL_MS = 1000;
 export function useDepthView(a: {
   sectionId: () => number;
   section: Ref<SectionDetail | undefined | null>;
-  /** Anything that changes when the velocity model or the Ties change (refetches the state). */
+  /** Anything that changes when the velocity model, the Ties or the saved buildups change (refetches the state; the server queues rebuilds itself). */
   sources: () => unknown;
 }) {
   const on = ref(false);
@@ -41,6 +42,8 @@ export function useDepthView(a: {
     queryKey: key,
     queryFn: ({ signal }) => getDepthView(a.sectionId(), signal),
     enabled: computed(() => on.value && isTwt.value),
+    // a new key (velocity model, Ties, saved buildups) keeps showing the section's last state until the fresh one comes
+    placeholderData: (previous, previousQuery) => (previousQuery?.queryKey[1] === a.sectionId() ? previous : undefined),
     refetchInterval: (q) => {
       const s = (q.state.data as DepthViewState | undefined)?.status;
       return s === 'queued' || s === 'running' ? DEPTH_POLL_MS : false;

@@ -52,6 +52,8 @@ export const useInterpretationStore = defineStore('interpretation', () => {
   const dirtyBuildupIds = computed(() => H.dirtyIds(saved.value, doc.value.state));
   /** Saved buildups that were deleted locally and must be deleted on the server. */
   const removedBuildups = computed(() => H.removedBuildups(saved.value, doc.value.state));
+  /** Changes only when the server's copy changes (a load, a save, a delete): `serverId:version` of every saved buildup. */
+  const savedKey = computed(() => [...saved.value.values()].map((b) => `${b.serverId ?? '-'}:${b.version}`).sort().join(','));
 
   function buildupById(id: string): EditorBuildup | undefined {
     return doc.value.state.buildups.find((b) => b.id === id);
@@ -150,6 +152,7 @@ export const useInterpretationStore = defineStore('interpretation', () => {
     canRedo,
     dirtyBuildupIds,
     removedBuildups,
+    savedKey,
     buildupById,
     dispatch,
     undo,

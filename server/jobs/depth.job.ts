@@ -77,7 +77,7 @@ export async function currentDepthVersions(sectionId: number, transaction?: Tran
  * (creating its row when `create`; otherwise a section without a row is left
  * alone, as nobody asked for its depth view). Returns the row, or null.
  */
-export async function queueDepthBuild(sectionId: number, transaction: Transaction, opts: { create?: boolean } = {}): Promise<SectionDepthPyramid | null> {
+export async function queueDepthBuild(sectionId: number, transaction: Transaction, opts: { create?: boolean; delaySeconds?: number } = {}): Promise<SectionDepthPyramid | null> {
   let row = await SectionDepthPyramid.findByPk(sectionId, { transaction, lock: transaction.LOCK.UPDATE });
   if (!row && !opts.create) return null;
   if (!deps) throw new Error('depth build queued before the job queue started');
@@ -90,6 +90,7 @@ export async function queueDepthBuild(sectionId: number, transaction: Transactio
     db: transactionDb(transaction, 'depth view job'),
     retryLimit: 0,
     expireInSeconds: deps.config.jobs.expireInSeconds,
+    ...(opts.delaySeconds ? { startAfter: opts.delaySeconds } : {}),
   });
   if (!jobId) throw new Error('the job queue refused the depth job');
   const fields = { status: 'queued' as const, progress: 0, build, jobId, workerId: null, attempts: 1, failureReason: null, progressAt: new Date(), ...versions };

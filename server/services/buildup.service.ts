@@ -24,6 +24,7 @@ import { measureOffLoop } from '../measure/pool';
 import { cachedMeasurement, stableJson } from '../measure/cache';
 import { fromGeometry, toInterpretationInput, ModelError, type BuildupGeometry } from '../../shared/editor/model';
 import type { BuildupSummary, SaveBuildupInput } from '../../shared/schemas/buildups';
+import { buildupsChangedForDepth } from './depth-view.service';
 
 const EMPTY_GEOMETRY: BuildupGeometry = { base: [], cycles: [], terminations: [], topIsDrowningSurface: false };
 
@@ -80,7 +81,7 @@ export async function saveBuildup(actor: Actor, id: number, input: SaveBuildupIn
   const { buildup: found } = await buildupForViewer(actor, id);
   const section = await Section.findByPk(found.sectionId);
   await assertCanEdit(actor, section!.projectId);
-  return ctx().sequelize.transaction(async (transaction) => {
+  const saved = await ctx().sequelize.transaction(async (transaction) => {
     const b = await Buildup.findByPk(id, { transaction, lock: transaction.LOCK.UPDATE });
     if (!b) throw notFound('Buildup');
     await assertNotSignedOff(b, transaction);
@@ -108,6 +109,9 @@ export async function saveBuildup(actor: Actor, id: number, input: SaveBuildupIn
     await sendSummaryJob(b.id, transaction); // the register's figures of the new version
     return { version: b.version, updatedAt: b.updatedAt.toISOString() };
   });
+  // awaited, so the client's next look at the depth view already sees the rebuild queued
+  await buildupsChangedForDepth(found.sectionId); // with the buildup velocity model the envelope may have moved
+  return saved;
 }
 
 export async function deleteBuildup(actor: Actor, id: number) {
@@ -121,6 +125,7 @@ export async function deleteBuildup(actor: Actor, id: number) {
     await audit(actor.id, 'buildup.delete', 'buildup', id, { name: buildup.name }, transaction);
     await markBuildupNotesRemoved(id, transaction);
   });
+  await buildupsChangedForDepth(section.id);
 }
 
 /** Everything the engine needs besides the geometry: latest Ties, vertical domain, velocity model. */

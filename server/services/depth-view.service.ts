@@ -7,7 +7,10 @@
  */
 import { ctx } from '../context';
 import { AppError, notFound } from '../errors';
-import type { Section } from '../models/section';
+import { Section } from '../models/section';
+import { SectionVelocity } from '../models/buildup';
+import { logger } from '../logger';
+import { DEFAULT_VELOCITY } from '../../shared/schemas/buildups';
 import { SectionDepthPyramid } from '../models/depth';
 import type { Actor } from './project.service';
 import { sectionForViewer } from './section-access';
@@ -89,6 +92,34 @@ export async function requestDepthView(actor: Actor, sectionId: number): Promise
   return { queued, state: await stateOf(s, await SectionDepthPyramid.findByPk(s.id)) };
 }
 
+/** Seconds a rebuild after a buildup save waits, so a run of autosaves makes one build (each save replaces the queued one). */
+export const BUILDUP_REBUILD_DELAY_SECONDS = 5;
+
+/**
+ * After a buildup of `sectionId` was saved or deleted (called after commit;
+ * never throws). With the `buildup` velocity model the carbonate starts under
+ * the measurable buildups' envelope, so a depth view made from another
+ * envelope is rebuilt: queued `BUILDUP_REBUILD_DELAY_SECONDS` ahead, a newer
+ * save replacing a queued or running build. Nothing happens for sections
+ * whose depth view nobody asked for, for other velocity models, or when the
+ * envelope did not move.
+ */
+export async function buildupsChangedForDepth(sectionId: number): Promise<boolean> {
+  try {
+    const row = await SectionDepthPyramid.findByPk(sectionId);
+    if (!row) return false;
+    const vel = await SectionVelocity.findByPk(sectionId);
+    if (((vel?.model ?? DEFAULT_VELOCITY) as { kind: string }).kind !== 'buildup') return false;
+    const s = await Section.findByPk(sectionId);
+    if (!s || (await unavailableReason(s))) return false;
+    if (row.status === 'ready' && stableJson(await depthBasisOf(s)) === stableJson(row.readyBasis)) return false;
+    await ctx().sequelize.transaction((transaction) => queueDepthBuild(sectionId, transaction, { delaySeconds: BUILDUP_REBUILD_DELAY_SECONDS }));
+    return true;
+  } catch (err) {
+    logger.warn({ err, sectionId }, 'queueing the depth view after a buildup change failed');
+    return false;
+  }
+}
 
 async function readyBuild(actor: Actor, sectionId: number, build: number) {
   const s = await sectionForViewer(actor, sectionId);

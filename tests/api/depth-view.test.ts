@@ -10,6 +10,7 @@ import { bearer, createTestApp, type TestApp } from '../helpers/app';
 import { readyCalibratedSection, savedBuildup, SMALL_TIES } from '../helpers/api-fixtures';
 import { makeImage, upload, waitForStatus } from '../helpers/sections';
 import type { DepthViewState } from '../../shared/schemas/depth-view';
+import { buildupsChangedForDepth } from '../../server/services/depth-view.service';
 
 let t: TestApp;
 let interp: string;
@@ -121,17 +122,31 @@ describe('depth view', () => {
     expect(s3.ready!.axis.z0).toBeCloseTo((1800 / 0.5) * Math.expm1((0.5 * 1100) / 2000), 6);
   }, 90_000);
 
-  it('with the buildup velocity model, asking again after a buildup was traced builds again (the carbonate envelope moved)', async () => {
+  it('with the buildup velocity model, saving or deleting a buildup rebuilds it by itself (the carbonate envelope moved)', async () => {
     const model = { kind: 'buildup', water: { v: 1500, seafloorMs: 1200 }, overburden: { v: 2200 }, carbonate: { v: 4700 } };
     expect((await request(t.app).put(`/api/sections/${sectionId}/velocity`).set(bearer(interp)).send({ velocity: model })).status).toBe(200);
     const s4 = await readyBuild(4);
     expect(s4.ready!.basis.buildups).toBeUndefined(); // nothing traced yet
     expect((await request(t.app).post(`/api/sections/${sectionId}/depth`).set(bearer(reviewer))).status).toBe(200);
-    await savedBuildup(t, interp, sectionId);
-    const again = await request(t.app).post(`/api/sections/${sectionId}/depth`).set(bearer(reviewer));
-    expect(again.status).toBe(202);
+    // nobody asks again: the save queues build 5 (after BUILDUP_REBUILD_DELAY_SECONDS) and the view moves on
+    const b = await savedBuildup(t, interp, sectionId);
     const s5 = await readyBuild(5);
     expect(s5.ready!.basis.buildups).toHaveLength(1);
+    // the stored build is current now: asking again queues nothing, and a save that does not move the envelope neither
+    expect((await request(t.app).post(`/api/sections/${sectionId}/depth`).set(bearer(reviewer))).status).toBe(200);
+    expect(await buildupsChangedForDepth(sectionId)).toBe(false);
+    // deleting the buildup moves the envelope back: build 6 has no buildups
+    expect((await request(t.app).delete(`/api/buildups/${b.id}`).set(bearer(interp))).status).toBe(204);
+    const s6 = await readyBuild(6);
+    expect(s6.ready!.basis.buildups).toBeUndefined();
+  }, 90_000);
+
+  it('with any other velocity model a buildup change leaves the depth view alone', async () => {
+    expect((await request(t.app).put(`/api/sections/${sectionId}/velocity`).set(bearer(interp)).send({ velocity: { kind: 'constant', v: 2500 } })).status).toBe(200);
+    await readyBuild(7);
+    await savedBuildup(t, interp, sectionId, 'Tern Shoal');
+    expect(await buildupsChangedForDepth(sectionId)).toBe(false);
+    expect((await state()).status).toBe('ready');
   }, 60_000);
 
   it('refuses a build number that is not a whole number, naming it', async () => {

@@ -93,9 +93,11 @@ describe('depth view and canvas ergonomics', () => {
     await page.waitForTimeout(900);
     await b.shot('73-depth-view-true-scale');
 
-    // back to TWT: the same pin under the same image point
-    await page.locator('[data-test="view-time"]').click();
+    // back to TWT with the D key: the zoom stays (another view of the same section is not refitted)
+    const scaleInDepth = await stage(page).getAttribute('data-view-scale');
+    await page.keyboard.press('d');
     await expect.poll(() => stage(page).getAttribute('data-depth')).toBe('off');
+    expect(await stage(page).getAttribute('data-view-scale')).toBe(scaleInDepth);
     await page.locator('[data-test="ve-reset"]').click();
     await page.locator('[data-test="stage-fit"]').click();
     await page.waitForTimeout(600);

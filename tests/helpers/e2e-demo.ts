@@ -46,11 +46,24 @@ export async function signIn(page: Page, email: string, password = DEMO_PASSWORD
   await page.waitForURL(/\/projects/);
 }
 
-/** Sign out from the user menu and wait for the sign-in page. */
+/**
+ * Sign out from the user menu and wait for the sign-in page. On a loaded
+ * machine a click can land while the menu's popover is still opening or
+ * closing and be lost, so the menu is opened and the item clicked again (at
+ * most three times) until the sign-in page shows.
+ */
 export async function signOut(page: Page): Promise<void> {
-  await page.click('[data-test="user-menu"]');
-  await page.click('[data-test="sign-out"]');
-  await page.waitForURL(/\/sign-in/);
+  for (let attempt = 1; ; attempt++) {
+    const item = page.locator('[data-test="sign-out"]');
+    if (!(await item.isVisible())) await page.click('[data-test="user-menu"]');
+    await item.click();
+    try {
+      await page.waitForURL(/\/sign-in/, { timeout: 15_000 });
+      return;
+    } catch (e) {
+      if (attempt >= 3) throw e;
+    }
+  }
 }
 
 export interface DemoLines {

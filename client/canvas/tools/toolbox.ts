@@ -27,6 +27,9 @@ export const NOTE_PIN_KEY = 'k';
 /** Key that opens and closes the forward Model drawer (client/components/model/ModelDrawer.vue). */
 export const MODEL_KEY = 'm';
 
+/** Key switching the picture between TWT and the depth view (TWT sections only). */
+export const DEPTH_VIEW_KEY = 'd';
+
 export const TOOL_LABEL: Readonly<Record<ToolId, string>> = Object.freeze({
   select: 'Select',
   edit: 'Edit vertices',
@@ -105,6 +108,7 @@ export const SHORTCUT_GROUPS: readonly ShortcutGroup[] = Object.freeze([
       { keys: ['Ctrl+Shift+Z', 'Ctrl+Y'], what: 'Redo' },
       { keys: ['K'], what: 'Place a Note pin (click an object or a point; Esc cancels)' },
       { keys: ['M'], what: 'Open or close the forward Model of the selected buildup' },
+      { keys: ['D'], what: 'Switch the picture between TWT and the depth view' },
       { keys: ['?'], what: 'Show or hide this list' },
       { keys: ['Space+Drag', 'Middle drag'], what: 'Pan' },
       { keys: ['Wheel', '+', '−'], what: 'Zoom' },

@@ -99,4 +99,19 @@ describe('interpretation store', () => {
     s.markSaved('12', 0);
     expect(s.removedBuildups).toEqual([]);
   });
+
+  it('savedKey moves with the server copy only (load, save, delete), not with local edits', () => {
+    const s = useInterpretationStore();
+    s.load(records());
+    const loaded = s.savedKey;
+    expect(loaded).toBe('11:3,12:1');
+    s.dispatch(actions.renameBuildup('11', 'Kestrel Knoll West'));
+    expect(s.savedKey).toBe(loaded);
+    s.markSaved('11', 4);
+    expect(s.savedKey).toBe('11:4,12:1');
+    s.dispatch(actions.deleteBuildup('12'));
+    expect(s.savedKey).toBe('11:4,12:1'); // deleted here, not yet on the server
+    s.markSaved('12', 0);
+    expect(s.savedKey).toBe('11:4');
+  });
 });

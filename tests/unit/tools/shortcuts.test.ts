@@ -1,5 +1,5 @@
 import { beforeEach, describe, expect, it, vi, type Mock } from 'vitest';
-import { Toolbox, TOOL_KEYS, SHORTCUT_GROUPS } from '../../../client/canvas/tools/toolbox';
+import { Toolbox, TOOL_KEYS, SHORTCUT_GROUPS, DEPTH_VIEW_KEY, MODEL_KEY, NOTE_PIN_KEY } from '../../../client/canvas/tools/toolbox';
 import { TOOL_IDS } from '../../../client/canvas/tools/types';
 import { handleCanvasKey, isTypingTarget, resolveCommand, type KeyEventLike } from '../../../client/composables/useCanvasShortcuts';
 import { at, setup } from './helpers';
@@ -105,5 +105,17 @@ describe('canvas shortcuts', () => {
     for (const k of ['f', '0', '+', '-']) expect(keys).not.toContain(k);
     const listed = SHORTCUT_GROUPS[0].entries.flatMap((e) => e.keys);
     expect(listed.sort()).toEqual(keys.map((k) => k.toUpperCase()).sort());
+  });
+
+  it('the page keys (Note pin, Model, depth view) are single letters of their own, listed in the help', () => {
+    const page = [NOTE_PIN_KEY, MODEL_KEY, DEPTH_VIEW_KEY];
+    expect(new Set(page).size).toBe(3);
+    const taken = new Set([...Object.values(TOOL_KEYS), 'f', '0', 'g', 'x', 'p', 'h']); // tools, fit, and the Trace tool's own letters
+    for (const k of page) {
+      expect(k).toMatch(/^[a-z]$/);
+      expect(taken.has(k), k).toBe(false);
+    }
+    const listed = SHORTCUT_GROUPS.flatMap((g) => g.entries.flatMap((e) => e.keys));
+    for (const k of page) expect(listed).toContain(k.toUpperCase());
   });
 });
