@@ -34,6 +34,12 @@
  *   the end of the run always closes the last cycle. The surface at each
  *   boundary is kept (one Float64Array of the columns each).
  *
+ * - The light term tanh(I0·e^(−k·d)/Ik) is read from a table at 0.0125/k
+ *   spacing with cubic Hermite interpolation (values and exact slopes at the
+ *   knots; error below 1e-9 of Gm, `lightTable`), one exp and one tanh per
+ *   knot instead of per column and step; below the table's last knot the
+ *   term is under 1e-12 and taken as 0.
+ *
  * Memory: columns × (kept surfaces + 3) Float64 values; see
  * FORWARD_MODEL_LIMITS in shared/schemas/forward-model.ts.
  *
@@ -188,6 +194,48 @@ export function relaxSlopes(top: Float64Array, base: Float64Array, maxDz: number
   return worst;
 }
 
+/** Knot spacing of the light table in units of the attenuation length 1/k: h·k = 0.0125 keeps (h·k)⁴/384 under 1e-10. */
+export const LIGHT_TABLE_STEP_K = 0.0125;
+/** The light term below which growth is taken as none (end of the table). */
+export const LIGHT_TABLE_FLOOR = 1e-12;
+const LIGHT_TABLE_MAX_KNOTS = 1 << 20;
+
+/**
+ * The light term f(d) = tanh(a·e^(−k·d)) (a = I0/Ik) as a cubic Hermite
+ * table: values and slopes f'(d) = −(1 − f²)·a·k·e^(−k·d) at knots h apart,
+ * interpolated by the Hermite basis (error ≤ h⁴/384 · max|f⁗| — the cubic
+ * Hermite error term, e.g. Burden & Faires, Numerical Analysis, §3.4; from
+ * memory). Beyond `end` (m) f < LIGHT_TABLE_FLOOR. Null when no finite table
+ * does (k = 0, or an absurd a): the caller evaluates f itself.
+ */
+export function lightTable(a: number, k: number): { h: number; end: number; f: Float64Array; dfh: Float64Array } | null {
+  const h = k > 0 ? LIGHT_TABLE_STEP_K / k : Infinity; // ≈ 2,300 knots whatever k
+  // f ≈ a·e^(−k·d) once small: the depth where it falls under the floor
+  const end = k > 0 ? Math.max(h, Math.log(Math.max(a, LIGHT_TABLE_FLOOR) / LIGHT_TABLE_FLOOR) / k) : Infinity;
+  const knots = Math.ceil(end / h) + 2;
+  if (!Number.isFinite(h) || !Number.isFinite(knots) || knots > LIGHT_TABLE_MAX_KNOTS) return null;
+  const f = new Float64Array(knots);
+  const dfh = new Float64Array(knots); // slope × h, as the Hermite basis takes it
+  for (let j = 0; j < knots; j++) {
+    const e = a * Math.exp(-k * j * h);
+    const v = Math.tanh(e);
+    f[j] = v;
+    dfh[j] = -(1 - v * v) * e * k * h;
+  }
+  return { h, end: (knots - 2) * h, f, dfh };
+}
+
+/** f(d) from a light table (d ≥ 0), as the model's loop reads it. */
+export function lightFromTable(t: NonNullable<ReturnType<typeof lightTable>>, d: number): number {
+  if (d >= t.end) return 0;
+  const u = d / t.h;
+  const j = u | 0;
+  const x = u - j;
+  const x2 = x * x;
+  const x3 = x2 * x;
+  return (2 * x3 - 3 * x2 + 1) * t.f[j] + (x3 - 2 * x2 + x) * t.dfh[j] + (-2 * x3 + 3 * x2) * t.f[j + 1] + (x3 - x2) * t.dfh[j + 1];
+}
+
 export interface RunOptions {
   /** Called now and then with the fraction done (0–1); return false to cancel (throws `ForwardModelCancelled`). */
   onProgress?: (fraction: number) => boolean | void;
@@ -253,6 +301,11 @@ export function runParsed(p: ForwardModelParams, options: RunOptions = {}): Mode
   let f = factorOf(0);
   let seaStart = 0 - rsl(0);
   const progressEvery = Math.max(1, Math.min(Math.floor(2e6 / n), Math.ceil(steps / 100))); // every 1 % or 2·10⁶ column-steps
+  const table = lightTable(a, k);
+  const invH = table ? 1 / table.h : 0;
+  const tEnd = table ? table.end : 0;
+  const tf = table ? table.f : new Float64Array(0);
+  const tdf = table ? table.dfh : new Float64Array(0);
   for (let s = 0; s < steps; s++) {
     const t1 = timeOf(s + 1);
     const dt = t1 - timeOf(s);
@@ -263,7 +316,20 @@ export function runParsed(p: ForwardModelParams, options: RunOptions = {}): Mode
       const d = z - seaStart;
       if (d >= 0) {
         if (gdt > 0) {
-          let nz = z - gdt * Math.tanh(a * Math.exp(-k * d));
+          let light: number;
+          if (!table) light = Math.tanh(a * Math.exp(-k * d));
+          else if (d >= tEnd) light = 0;
+          else {
+            // lightFromTable, inlined: the hot loop of the model
+            const u = d * invH;
+            const j = u | 0;
+            const x = u - j;
+            const x2 = x * x;
+            const x3 = x2 * x;
+            light = (2 * x3 - 3 * x2 + 1) * tf[j] + (x3 - 2 * x2 + x) * tdf[j] + (-2 * x3 + 3 * x2) * tf[j + 1] + (x3 - x2) * tdf[j + 1];
+          }
+          if (light === 0) continue;
+          let nz = z - gdt * light;
           if (nz < seaEnd) nz = z < seaEnd ? z : seaEnd;
           top[i] = nz;
         }
