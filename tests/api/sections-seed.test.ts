@@ -7,6 +7,7 @@ import { seedDemoSections } from '../../server/db/seeders/sections';
 import { DEMO_SECTIONS } from '../../server/synth/demo';
 import { ctx } from '../../server/context';
 import { seedDemoInterpretation } from '../../server/db/seeders/interpretations';
+import { DEMO_SEGY_TITLE, seedDemoSegy } from '../../server/db/seeders/segy';
 
 let t: TestApp;
 beforeAll(async () => {
@@ -62,5 +63,26 @@ describe('demo sections seeder', () => {
     const h = m.body.buildups[0].ranges.heightM;
     expect(h.p90).toBeLessThanOrEqual(h.p50);
     expect(h.p50).toBeLessThanOrEqual(h.p10);
+  });
+
+  it('adds TB-11 as a SEG-Y line once: calibrated from its headers (no Ties), amplitudes readable, rendered with the diverging ramp', async () => {
+    const deps = { sequelize: ctx().sequelize, config: t.running.config, log: () => {} };
+    const { sectionId } = await seedDemoSegy(deps, { traces: 400, samples: 250 });
+    expect(sectionId).not.toBeNull();
+    expect((await seedDemoSegy(deps, { traces: 400, samples: 250 })).sectionId).toBeNull();
+    const token = await t.token('reviewer');
+    const s = await waitForStatus(t, token, sectionId!);
+    expect(s).toMatchObject({ status: 'ready', title: DEMO_SEGY_TITLE, lineName: 'TB-11', sourceFormat: 'segy', width: 400, height: 250 });
+    expect(s.segy.render).toMatchObject({ ramp: 'diverging' });
+    expect(s.calibration.source).toBe('segy_headers');
+    // 400 traces 40 m apart: the calibrated width is 399–400 traces' worth, and the line from the first to the last
+    // CDP (UTM zone 41 S back to WGS 84, great circle) 399 × 40 m within the UTM scale factor (0.9996 on the central meridian)
+    expect(s.calibration.calibratedXRangeM).toBeGreaterThanOrEqual(399 * 40 - 1);
+    expect(s.calibration.calibratedXRangeM).toBeLessThanOrEqual(400 * 40 + 1);
+    expect(Math.abs(s.lineLengthM - 399 * 40)).toBeLessThan(0.002 * 399 * 40);
+    expect(s.calibration.lengthMismatch).toBeNull();
+    const a = await request(t.app).get(`/api/sections/${sectionId}/amplitudes?trace=200&sample=100&traces=1&samples=50`).set(bearer(token));
+    expect(a.status, JSON.stringify(a.body)).toBe(200);
+    expect(a.body.values.flat().some((v: number) => v !== 0)).toBe(true);
   });
 });
