@@ -17,7 +17,7 @@ import type { Config } from '../config';
 import type { FileStore } from '../storage/fileStore';
 import type { Liveness, JobTimings } from './liveness';
 import { startSummaryJobs } from './summary.job';
-import { recoverReports, startReportJobs } from './report.job';
+import { recoverReports, startReportJobs, sweepReportFiles } from './report.job';
 import { startDigestJob } from './digest.job';
 import { startDepthJobs } from './depth.job';
 
@@ -53,7 +53,7 @@ export const JOB_REGISTRATIONS: JobRegistration[] = [
     queues: ['buildup-report'],
     start: async (c) => {
       const r = await startReportJobs({ boss: c.boss, config: c.config, sequelize: c.sequelize, store: c.store, liveness: c.liveness, timings: c.timings, stopping: c.stopping });
-      return { check: () => recoverReports(), stop: () => r.stop() };
+      return { check: async () => { await recoverReports(); await sweepReportFiles(); }, stop: () => r.stop() };
     },
   },
   // depth views of TWT sections (depth.job.ts): column resampling to depth and its tile pyramid

@@ -168,6 +168,35 @@ export async function sweepReportFolders(now = Date.now()): Promise<string[]> {
   return gone;
 }
 
+/** Batch archives (`report-batches/<job id>.zip`) are kept this long, then removed (a download answers 410 batch_gone). */
+export const BATCH_KEEP_MS = 24 * 60 * 60 * 1000;
+
+/** Remove batch archives older than BATCH_KEEP_MS. */
+export async function sweepBatchArchives(now = Date.now()): Promise<string[]> {
+  if (!deps) return [];
+  const { store } = deps;
+  const gone: string[] = [];
+  for (const e of await store.list('report-batches')) {
+    if (now - e.modifiedAt.getTime() <= BATCH_KEEP_MS || !/^[0-9a-f-]{36}\.zip$/.test(e.name)) continue;
+    await store.removePrefix(`report-batches/${e.name}`);
+    gone.push(e.name);
+  }
+  return gone;
+}
+
+/** How often the periodic check also sweeps report folders and batch archives (listing the store is not free on S3). */
+export const REPORT_SWEEP_EVERY_MS = 60 * 60 * 1000;
+let lastSweepAt = 0;
+
+/** Both sweeps, at most once per REPORT_SWEEP_EVERY_MS (on boot, then from the periodic check); `force` ignores the interval. */
+export async function sweepReportFiles(now = Date.now(), force = false): Promise<{ folders: string[]; archives: string[] }> {
+  if (!force && now - lastSweepAt < REPORT_SWEEP_EVERY_MS) return { folders: [], archives: [] };
+  lastSweepAt = now;
+  const folders = await sweepReportFolders(now).catch((err) => (logger.warn({ err }, 'sweeping report folders failed'), [] as string[]));
+  const archives = await sweepBatchArchives(now).catch((err) => (logger.warn({ err }, 'sweeping report batch archives failed'), [] as string[]));
+  return { folders, archives };
+}
+
 /** Create the queue, run a worker (unless disabled) and resume dead processes' reports. Called by startBackgroundJobs. */
 export async function startReportJobs(d: Omit<Deps, 'workerIds'>): Promise<{ stop(): void }> {
   await d.boss.createQueue(REPORT_QUEUE);
@@ -182,7 +211,7 @@ export async function startReportJobs(d: Omit<Deps, 'workerIds'>): Promise<{ sto
     mine.workerIds.push(id);
   }
   await recoverReports().catch((err) => logger.warn({ err }, 'resuming reports failed'));
-  await sweepReportFolders().catch((err) => logger.warn({ err }, 'sweeping report folders failed'));
+  await sweepReportFiles(Date.now(), true);
   return {
     stop() {
       if (deps === mine) deps = null;

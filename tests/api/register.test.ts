@@ -8,6 +8,8 @@
  * buildups: four measurable ones whose crests rise to different heights, and
  * one never traced ("Empty sketch"), which cannot be measured.
  */
+import fs from 'node:fs';
+import path from 'node:path';
 import request from 'supertest';
 import Papa from 'papaparse';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -481,5 +483,17 @@ describe('batch of signed-off reports (one ZIP archive of PDFs)', () => {
     const index = Papa.parse<Record<string, string>>(listing.index.trim(), { header: true }).data;
     expect(index.map((r) => r.Buildup).sort()).toEqual([...signed].sort());
     expect(index.every((r) => pdfs.includes(r.File))).toBe(true);
+
+    // the archive is kept a day: a young one survives the sweep, an old one goes and its download says so
+    const { sweepBatchArchives, BATCH_KEEP_MS } = await import('../../server/jobs/report.job');
+    const zip = path.join(t.storageDir, 'report-batches', `${id}.zip`);
+    expect(await sweepBatchArchives()).toEqual([]);
+    const past = new Date(Date.now() - BATCH_KEEP_MS - 60_000);
+    fs.utimesSync(zip, past, past);
+    expect(await sweepBatchArchives()).toEqual([`${id}.zip`]);
+    expect(fs.existsSync(zip)).toBe(false);
+    const gone = await request(t.app).get(`/api/report-batches/${id}/file`).set(bearer(curator));
+    expect(gone.status).toBe(410);
+    expect(gone.body.code).toBe('batch_gone');
   }, 200_000);
 });
