@@ -166,3 +166,17 @@ export function withUnit(title: string, quantity: Quantity, unit: LengthUnit): s
   const label = quantityLabel(quantity, unit);
   return label ? `${title} (${label})` : title;
 }
+
+/**
+ * The engine's sentences (classification evidence, drowning signs) state
+ * lengths in metres as "<number> m", with lists and ranges ("12.0 → 9.5 m",
+ * "x 6300.0–10300.0 m"). For the reader's unit the numbers of each such run
+ * are converted to feet (one decimal) and the unit renamed; "m/s", "m²",
+ * "m³" and words are left alone. Metres: the text as it is.
+ */
+export function lengthsInText(text: string, unit: LengthUnit): string {
+  if (unit === 'm') return text;
+  const num = String.raw`-?\d+(?:\.\d+)?`;
+  const run = new RegExp(String.raw`${num}(?:\s*(?:→|–|-(?=\d))\s*${num})*\s?m(?![\w/²³])`, 'g');
+  return text.replace(run, (m) => m.replace(/m$/, 'ft').replace(new RegExp(num, 'g'), (v) => (Number(v) / FOOT_M).toFixed(1)));
+}

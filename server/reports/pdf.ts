@@ -32,7 +32,7 @@ import {
   type Paper,
 } from '../../shared/report/report';
 import { formatNumber, formatScientific, SCIENTIFIC_FROM } from '../../shared/format';
-import { quantityLabel, toDisplayLength, type Quantity } from '../../shared/units';
+import { lengthsInText, quantityLabel, toDisplayLength, type Quantity } from '../../shared/units';
 
 const FONT_DIR = path.join(ROOT_DIR, 'node_modules', '@fontsource', 'ibm-plex-sans', 'files');
 export const FONT_FILES = {
@@ -262,9 +262,9 @@ export async function writeReportPdf(input: PdfInput, file: string): Promise<{ p
 
     // ---- classification
     heading(`Classification: ${classLabel(m)}`);
-    for (const e of m.evidence) para(e, { bullet: true });
+    for (const e of m.evidence) para(lengthsInText(e, report.unit), { bullet: true });
     heading('Drowning signs', 10);
-    if (m.drowningIndicators.length) for (const d of m.drowningIndicators) para(d.text, { bullet: true });
+    if (m.drowningIndicators.length) for (const d of m.drowningIndicators) para(lengthsInText(d.text, report.unit), { bullet: true });
     else para('None found.', { colour: MUTED });
     if (m.asymmetry.hint) para(m.asymmetry.hint, { colour: MUTED });
     progress(0.4);

@@ -399,7 +399,11 @@ describe('PDF, PNG and SVG through the report job', () => {
     const ft = await pdfOf(knollId, 'a4', JSON.stringify({ unit: 'ft' }));
     // thousands grouped with a thin space (shared/format.ts); whitespace normalised on both sides
     const h = (m.heightM / FOOT).toFixed(1).replace(/\B(?=(\d{3})+(?!\d))/g, '\u2009').replace(/\s/g, ' ');
-    expect(pdftotext(ft.file).replace(/\s+/g, ' ')).toContain(`Height ${h} ft`);
+    const text = pdftotext(ft.file).replace(/\s+/g, ' ');
+    expect(text).toContain(`Height ${h} ft`);
+    // the classification evidence speaks feet too: its mean aggradation (0.1 m in the engine's sentence) divided by 0.3048
+    const agg = (Number(m.netAggradationM!.toFixed(1)) / FOOT).toFixed(1);
+    expect(text).toContain(`mean aggradation ${agg} ft`);
   }, 90_000);
 
   it('Note pins inside the crop are drawn on it, numbered; a new pin gives a new report', async () => {
