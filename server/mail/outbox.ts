@@ -8,7 +8,7 @@
  */
 import fs from 'node:fs';
 import path from 'node:path';
-import { simpleParser, type AddressObject } from 'mailparser';
+import type { AddressObject } from 'mailparser';
 import { MailMessage } from '../models/notification';
 import { logger } from '../logger';
 import { notFound } from '../errors';
@@ -29,6 +29,7 @@ function addresses(a: AddressObject | AddressObject[] | undefined): string[] {
 
 /** Parse one raw message and store it (once per sink file). */
 export async function storeReceivedMail(m: ReceivedMail, receivedAt = new Date()): Promise<void> {
+  const { simpleParser } = await import('mailparser'); // loaded on the first message, not at boot
   const parsed = await simpleParser(m.raw, { skipHtmlToText: false, skipTextLinks: true });
   const text = (parsed.text ?? '').slice(0, 200_000);
   const envelope = m.envelopeTo.map((r) => r.toLowerCase());

@@ -8,7 +8,8 @@
  * source of Ties (e.g. SEG-Y headers) call it inside their own transaction.
  */
 import type { Transaction } from 'sequelize';
-import * as turf from '@turf/turf';
+import { lineString } from '@turf/helpers';
+import turfLength from '@turf/length';
 import { ctx } from '../context';
 import { AppError, notFound } from '../errors';
 import { Section, SectionCalibration } from '../models/section';
@@ -25,11 +26,11 @@ import type { CalibrationChecks, CalibrationInput, CalibrationPreview, Calibrati
 export function lineLength(s: Pick<Section, 'startLon' | 'startLat' | 'endLon' | 'endLat'>): number | null {
   if (s.startLon == null || s.startLat == null || s.endLon == null || s.endLat == null) return null;
   // turf.length: haversine great circle on a sphere of radius 6371008.8 m
-  const line = turf.lineString([
+  const line = lineString([
     [s.startLon, s.startLat],
     [s.endLon, s.endLat],
   ]);
-  return turf.length(line, { units: 'kilometers' }) * 1000;
+  return turfLength(line, { units: 'kilometers' }) * 1000;
 }
 
 /** Line length vs the calibrated x range of the image's left and right edges (at mid-height); warn beyond 5 %. */

@@ -12,7 +12,9 @@
  * buildups that cannot be placed are listed in the `skipped` foreign member).
  */
 import Papa from 'papaparse';
-import { along, length as lineLength, lineString } from '@turf/turf';
+import { lineString } from '@turf/helpers';
+import lineLength from '@turf/length';
+import along from '@turf/along';
 import type { Feature, FeatureCollection, Point } from 'geojson';
 import { QueryTypes } from 'sequelize';
 import { ctx } from '../context';

@@ -19,7 +19,9 @@ import crypto from 'node:crypto';
 import fs from 'node:fs';
 import path from 'node:path';
 import Papa from 'papaparse';
-import * as turf from '@turf/turf';
+import { lineString } from '@turf/helpers';
+import turfLength from '@turf/length';
+import turfAlong from '@turf/along';
 import { QueryTypes, UniqueConstraintError } from 'sequelize';
 import { ctx } from '../context';
 import { ROOT_DIR } from '../config';
@@ -271,9 +273,9 @@ export function geoJsonOf(report: BuildupReport): Record<string, unknown> {
   if (xLeftM == null || xRightM == null || xLeftM === xRightM) {
     throw new AppError(409, 'not_calibrated', 'calibration: the section has no usable Ties, so positions along the line are unknown');
   }
-  const line = turf.lineString([report.lineEnds.start, report.lineEnds.end]);
+  const line = lineString([report.lineEnds.start, report.lineEnds.end]);
   // turf.length / turf.along: great circle on a sphere of radius 6371008.8 m (as the section's line-length check)
-  const lineKm = turf.length(line, { units: 'kilometers' });
+  const lineKm = turfLength(line, { units: 'kilometers' });
   const unit = report.unit;
   const d = (q: Parameters<typeof toDisplay>[0], v: number | null) => (v == null ? null : toDisplay(q, v, unit));
   /**
@@ -284,7 +286,7 @@ export function geoJsonOf(report: BuildupReport): Record<string, unknown> {
    */
   const place = (xM: number) => {
     const f = (xM - xLeftM) / (xRightM - xLeftM);
-    const p = turf.along(line, Math.min(Math.max(f, 0), 1) * lineKm, { units: 'kilometers' });
+    const p = turfAlong(line, Math.min(Math.max(f, 0), 1) * lineKm, { units: 'kilometers' });
     const [lon, lat] = p.geometry.coordinates;
     return { coordinates: [round7(lon), round7(lat)] as [number, number], clamped: f < 0 || f > 1 };
   };
