@@ -73,7 +73,7 @@ describe('demo sections seeder', () => {
     const token = await t.token('reviewer');
     const s = await waitForStatus(t, token, sectionId!);
     expect(s).toMatchObject({ status: 'ready', title: DEMO_SEGY_TITLE, lineName: 'TB-11', sourceFormat: 'segy', width: 400, height: 250 });
-    expect(s.segy.render).toMatchObject({ ramp: 'diverging' });
+    expect(s.segy.render).toMatchObject({ ramp: 'diverging', clipPercentile: 95 });
     expect(s.calibration.source).toBe('segy_headers');
     // 400 traces 40 m apart: the calibrated width is 399–400 traces' worth, and the line from the first to the last
     // CDP (UTM zone 41 S back to WGS 84, great circle) 399 × 40 m within the UTM scale factor (0.9996 on the central meridian)

@@ -95,6 +95,9 @@ describe('SEG-Y journey', () => {
     await panel.waitFor();
     expect(await panel.locator('[data-test="segy-calibrated"]').textContent()).toMatch(/no Ties needed/);
     expect(await page.locator('[data-test="tie-row"]').count()).toBe(0);
+    // the Ties panel says where the calibration came from instead of asking for Ties
+    expect(await page.locator('[data-test="ties-from-headers"]').textContent()).toMatch(/Calibrated from the SEG-Y trace headers/);
+    expect(await page.locator('[data-test="ties-empty"]').count()).toBe(0);
     await expect.poll(() => panel.locator('[data-test="segy-textual"]').textContent()).toContain('TESSEL BASIN TB-2024 LINE TB-11');
     await panel.scrollIntoViewIfNeeded();
     await b.shot('segy-03-section-textual-header');

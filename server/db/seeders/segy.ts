@@ -48,6 +48,7 @@ export async function seedDemoSegy(deps: SeedDeps, opts: DemoSegyOptions = {}): 
       polarityNote: 'Polarity: an increase of acoustic impedance downward is a positive amplitude (brown in the diverging ramp).',
       epsg: made.epsg,
       ramp: 'diverging',
+      clipPercentile: 95, // the strong seafloor and buildup top would wash the weaker fill reflectors out at 99
     });
     const r = await createFromUpload({ id: interpreter.id, role: interpreter.role }, project.id, {
       dir, size: made.bytes.length, originalname: `${def.lineName.toLowerCase()}-demo.sgy`, ingest, fields,
