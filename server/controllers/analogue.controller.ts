@@ -22,7 +22,8 @@ function searchQuery(req: Request) {
 }
 
 export async function search(req: Request, res: Response) {
-  res.json(await a.search(req.user!, searchQuery(req)));
+  const { json, etag } = await a.searchBody(req.user!, searchQuery(req));
+  res.set('ETag', etag).type('json').send(json); // send answers 304 when If-None-Match matches
 }
 export async function exportCsv(req: Request, res: Response) {
   const csv = await io.exportCsv(searchQuery(req));

@@ -2,7 +2,7 @@ import passport from 'passport';
 import { Strategy as JwtStrategy, ExtractJwt } from 'passport-jwt';
 import type { RequestHandler } from 'express';
 import { AppError } from '../errors';
-import { JWT_ALGORITHM, userForPayload, type TokenPayload } from '../services/auth.service';
+import { JWT_ALGORITHM, jwtKey, userForPayload, type TokenPayload } from '../services/auth.service';
 import type { User } from '../models/index';
 import type { Role } from '../../shared/schemas/auth';
 
@@ -21,7 +21,7 @@ export function configurePassport(secret: string) {
     new JwtStrategy(
       {
         jwtFromRequest: ExtractJwt.fromAuthHeaderAsBearerToken(),
-        secretOrKey: secret,
+        secretOrKey: jwtKey(secret) as unknown as string, // passport-jwt hands it to jsonwebtoken, which takes a KeyObject
         algorithms: [JWT_ALGORITHM],
         passReqToCallback: true,
       },

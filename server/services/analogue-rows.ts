@@ -13,7 +13,6 @@ import { icsUnit } from '../../shared/ics-chart';
 import {
   METRIC_KEYS,
   type AnalogueDetail,
-  type AnalogueSearchResponse,
   type AnalogueSummary,
   type Citation,
   type MetricKey,
@@ -151,7 +150,8 @@ export function invalid(status: number, code: string, path: string, message: str
   return new AppError(status, code, `${path}: ${message}`, [{ path, message }]);
 }
 
-export const searchCache = new LRUCache<string, AnalogueSearchResponse>({ max: 500 });
+/** Search answers as sent (JSON text and entity tag), by library generation and query. */
+export const searchCache = new LRUCache<string, { json: string; etag: string }>({ max: 500 });
 
 /**
  * How long this process trusts the library generation it last read. Changes

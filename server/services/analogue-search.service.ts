@@ -5,6 +5,7 @@
  * so a repeated search costs one single-row read; any change anywhere makes
  * every cached answer stale.
  */
+import crypto from 'node:crypto';
 import { QueryTypes } from 'sequelize';
 import {
   FACETS,
@@ -164,7 +165,22 @@ async function facetCounts(q: AnalogueSearchQuery): Promise<{ facets: Partial<Re
   return { facets, total };
 }
 
-export async function search(_actor: Actor, q: AnalogueSearchQuery): Promise<AnalogueSearchResponse> {
+/** A search's answer as the JSON text the route sends, with its entity tag (both kept in the cache, so a repeated search is not serialised or hashed again). */
+export interface SearchBody {
+  json: string;
+  etag: string;
+}
+
+function body(out: AnalogueSearchResponse): SearchBody {
+  const json = JSON.stringify(out);
+  return { json, etag: `W/"${crypto.createHash('sha1').update(json).digest('base64url')}"` };
+}
+
+export async function search(actor: Actor, q: AnalogueSearchQuery): Promise<AnalogueSearchResponse> {
+  return JSON.parse((await searchBody(actor, q)).json) as AnalogueSearchResponse;
+}
+
+export async function searchBody(_actor: Actor, q: AnalogueSearchQuery): Promise<SearchBody> {
   const key = `${await generation()}|${JSON.stringify(q)}`;
   const hit = searchCache.get(key);
   if (hit) return hit;
@@ -175,22 +191,18 @@ export async function search(_actor: Actor, q: AnalogueSearchQuery): Promise<Ana
     bind: b.values,
     type: QueryTypes.SELECT,
   });
-  let facets: Partial<Record<Facet, FacetCount[]>> = {};
-  let total: number;
+  let out: AnalogueSearchResponse;
   if (q.facets) {
     const [rows, fc] = await Promise.all([list, facetCounts(q)]);
-    facets = fc.facets;
-    total = fc.total;
-    const out = { total, page: q.page, pageSize: q.pageSize, items: rows.map(toSummary), facets };
-    searchCache.set(key, out);
-    return out;
+    out = { total: fc.total, page: q.page, pageSize: q.pageSize, items: rows.map(toSummary), facets: fc.facets };
+  } else {
+    const cb = new Binds();
+    const [rows, [{ n }]] = await Promise.all([list, db().query<{ n: number }>(`SELECT count(*)::int AS n FROM analogues WHERE ${whereOf(q, cb)}`, { bind: cb.values, type: QueryTypes.SELECT })]);
+    out = { total: n, page: q.page, pageSize: q.pageSize, items: rows.map(toSummary), facets: {} };
   }
-  const cb = new Binds();
-  const [rows, [{ n }]] = await Promise.all([list, db().query<{ n: number }>(`SELECT count(*)::int AS n FROM analogues WHERE ${whereOf(q, cb)}`, { bind: cb.values, type: QueryTypes.SELECT })]);
-  total = n;
-  const out = { total, page: q.page, pageSize: q.pageSize, items: rows.map(toSummary), facets };
-  searchCache.set(key, out);
-  return out;
+  const made = body(out);
+  searchCache.set(key, made);
+  return made;
 }
 
 /** Every row of a search (export), in the search's order, at most `limit`. */

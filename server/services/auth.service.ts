@@ -39,7 +39,7 @@ export async function login(input: LoginInput): Promise<LoginResult> {
 
 export async function issueToken(user: User, expiresIn: string = ctx().config.jwtExpiresIn): Promise<LoginResult> {
   const sid = crypto.randomUUID();
-  const token = jwt.sign({ sid, role: user.role } satisfies Omit<TokenPayload, 'sub'>, ctx().config.jwtSecret, {
+  const token = jwt.sign({ sid, role: user.role } satisfies Omit<TokenPayload, 'sub'>, jwtKey(ctx().config.jwtSecret), {
     algorithm: JWT_ALGORITHM,
     subject: String(user.id),
     expiresIn: expiresIn as jwt.SignOptions['expiresIn'],
@@ -53,14 +53,30 @@ export async function issueToken(user: User, expiresIn: string = ctx().config.jw
   return { token, expiresAt: expiresAt.toISOString(), user: user.toPublic() };
 }
 
-/** Resolve a verified JWT payload to an active user with a live session, or null. */
+/**
+ * The JWT secret as a key object, made once per secret: jsonwebtoken turns a
+ * string into a key on every sign and verify (and first tries it as a PEM
+ * public key, which throws), a measurable share of every signed-in request.
+ */
+const secretKeys = new Map<string, crypto.KeyObject>();
+export function jwtKey(secret: string): crypto.KeyObject {
+  let k = secretKeys.get(secret);
+  if (!k) secretKeys.set(secret, (k = crypto.createSecretKey(Buffer.from(secret))));
+  return k;
+}
+
+const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+/** Resolve a verified JWT payload to an active user with a live session, or null (one statement: session and user together). */
 export async function userForPayload(payload: TokenPayload): Promise<User | null> {
-  const session = await AuthSession.findByPk(payload.sid);
-  if (!session || session.revokedAt || session.expiresAt < new Date()) return null;
-  if (String(session.userId) !== payload.sub) return null;
-  const user = await User.findByPk(Number(payload.sub));
-  if (!user || !user.active) return null;
-  return user;
+  const userId = Number(payload.sub);
+  if (!Number.isSafeInteger(userId) || String(userId) !== payload.sub || typeof payload.sid !== 'string' || !UUID.test(payload.sid)) return null;
+  const users = await ctx().sequelize.query(
+    `SELECT u.* FROM auth_sessions s JOIN users u ON u.id = s.user_id
+      WHERE s.id = $1::uuid AND s.user_id = $2 AND s.revoked_at IS NULL AND s.expires_at > now() AND u.active`,
+    { bind: [payload.sid, userId], model: User, mapToModel: true },
+  );
+  return users[0] ?? null;
 }
 
 export async function logout(sid: string) {

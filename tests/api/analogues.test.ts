@@ -154,6 +154,22 @@ describe('facet counts', () => {
     expect((await get('/api/analogues?setting=atoll-like')).body.total).toBe(1);
   });
 
+  it('a search answer carries an entity tag: unchanged → 304, after a change → 200 with the new answer', async () => {
+    const url = '/api/analogues?setting=atoll-like&sort=heightM';
+    const first = await get(url);
+    expect(first.status).toBe(200);
+    const etag = first.headers.etag as string;
+    expect(etag).toMatch(/^W\/"[\w-]+"$/);
+    const same = await request(t.app).get(url).set(bearer(interpreter)).set('If-None-Match', etag);
+    expect(same.status).toBe(304);
+    const extra = await add(curator, entry('Oskel Atoll', { setting: 'atoll-like' }));
+    const changed = await request(t.app).get(url).set(bearer(interpreter)).set('If-None-Match', etag);
+    expect(changed.status).toBe(200);
+    expect(changed.headers.etag).not.toBe(etag);
+    expect(changed.body.total).toBe(first.body.total + 1);
+    expect((await request(t.app).delete(`/api/analogues/${extra.id}`).set(bearer(curator))).status).toBe(204);
+  });
+
   it('bad search parameters answer 400 naming the field', async () => {
     const r = await get('/api/analogues?r.heightM=abc..');
     expect(r.status).toBe(400);

@@ -79,6 +79,20 @@ describe('sign-in', () => {
     expect((await request(t.app).get('/api/auth/me').set(bearer(forged))).status).toBe(401);
   });
 
+  it("refuses a token whose session is another person's, or whose session id is not a UUID (401, not 500)", async () => {
+    const secret = t.running.config.jwtSecret;
+    const curator = jwt.decode(await t.token('curator')) as { sid: string; sub: string; role: string };
+    const reviewer = jwt.decode(await t.token('reviewer')) as { sid: string; sub: string; role: string };
+    const swapped = jwt.sign({ sid: reviewer.sid, role: curator.role }, secret, { subject: curator.sub, algorithm: 'HS256' });
+    expect((await request(t.app).get('/api/auth/me').set(bearer(swapped))).status).toBe(401);
+    const odd = jwt.sign({ sid: "x'; SELECT 1", role: curator.role }, secret, { subject: curator.sub, algorithm: 'HS256' });
+    const r = await request(t.app).get('/api/auth/me').set(bearer(odd));
+    expect(r.status).toBe(401);
+    expect(r.body.code).toBe('unauthorized');
+    const own = jwt.sign({ sid: curator.sid, role: curator.role }, secret, { subject: curator.sub, algorithm: 'HS256' });
+    expect((await request(t.app).get('/api/auth/me').set(bearer(own))).status).toBe(200);
+  });
+
   it('keeps a deactivated user out, and revokes their tokens', async () => {
     const admin = await t.token('admin');
     const created = await request(t.app)
