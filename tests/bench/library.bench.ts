@@ -8,7 +8,7 @@
  * (the demo generator of server/db/seeders/analogues.ts with another seed:
  * profiles, shapes and metric vectors computed as on every write), ANALYZE.
  *
- * Measured with autocannon, 50 connections:
+ * Measured with autocannon, 50 connections, from a child process (tests/bench/cannon.mjs):
  * - `GET /api/health` (a bare route answering `SELECT 1`, no sign-in): the baseline;
  * - the faceted search with three facets and one numeric range active
  *   (signed in, so each request also checks the token and reads the user):
@@ -28,10 +28,13 @@
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import autocannon from 'autocannon';
+import type autocannon from 'autocannon';
+import { spawn } from 'node:child_process';
 import { DEMO_PASSWORD, seedDemoUsers } from '../../server/db/seeders/demo';
 import { generateAnalogues } from '../../server/db/seeders/analogues';
 import { handColumns, insertMany } from '../../server/services/analogue.service';
+import { Binds, facetCountsSql, whereOf } from '../../server/services/analogue-search.service';
+import { analogueSearchSchema, searchQueryFromUrl } from '../../shared/schemas/analogues';
 import { boot } from '../../server/index';
 import { benchDatabase, benchTmp } from './bench-db';
 import { ms } from './stats';
@@ -49,18 +52,16 @@ const log = (m: string) => console.log(`[library.bench] ${m}`);
 
 const SEARCH = '/api/analogues?setting=bank,pinnacle,isolated-platform&factory=tropical&class=aggrading,backstepping,prograding&r.heightM=';
 
-function cannon(url: string, headers: Record<string, string>, varyPath?: () => string): Promise<autocannon.Result> {
+/** autocannon in a child process (tests/bench/cannon.mjs): the load generator gets its own event loop and core time. */
+function cannon(url: string, headers: Record<string, string>, rangeSearch?: string): Promise<autocannon.Result> {
   return new Promise((resolve, reject) => {
-    autocannon(
-      {
-        url,
-        connections: CONNECTIONS,
-        duration: SECONDS,
-        headers,
-        requests: varyPath ? [{ setupRequest: (req) => ({ ...req, path: varyPath() }) }] : undefined,
-      },
-      (err, res) => (err ? reject(err) : resolve(res)),
-    );
+    const child = spawn(process.execPath, [path.join(import.meta.dirname, 'cannon.mjs'), JSON.stringify({ url, headers, connections: CONNECTIONS, seconds: SECONDS, rangeSearch })], {
+      stdio: ['ignore', 'pipe', 'inherit'],
+    });
+    let out = '';
+    child.stdout.on('data', (d: Buffer) => (out += d));
+    child.on('error', reject);
+    child.on('close', (code) => (code === 0 ? resolve(JSON.parse(out) as autocannon.Result) : reject(new Error(`autocannon exited with ${code}`))));
   });
 }
 
@@ -82,6 +83,18 @@ async function main() {
         }
         await sequelize.query('ANALYZE analogues');
         log(`${ROWS} analogues generated and inserted in ${((Date.now() - t0) / 1000).toFixed(1)} s`);
+        if (args.has('explain')) {
+          // --explain: the plans of one uncached search (list page and facet counts), for index work
+          const q = analogueSearchSchema.parse(searchQueryFromUrl(new URLSearchParams(`${SEARCH.split('?')[1]}60..250`)));
+          const b = new Binds();
+          const list = `SELECT id FROM analogues WHERE ${whereOf(q, b)} ORDER BY lower(name), id LIMIT ${q.pageSize}`;
+          const fc = facetCountsSql(q);
+          for (const [name, sql, bind] of [['list page', list, b.values], ['facet counts', fc.sql, fc.bind]] as const) {
+            await sequelize.query(sql, { bind: [...bind] }); // warm
+            const [plan] = await sequelize.query(`EXPLAIN (ANALYZE, BUFFERS) ${sql}`, { bind: [...bind] });
+            log(`plan of the ${name}:\n${(plan as { 'QUERY PLAN': string }[]).map((r) => r['QUERY PLAN']).join('\n')}`);
+          }
+        }
       },
     });
     cleanups.push(() => running.close());
@@ -96,8 +109,7 @@ async function main() {
     log(`autocannon, ${CONNECTIONS} connections, ${SECONDS} s each`);
     const health = await cannon(`${base}/api/health`, {});
     const cached = await cannon(`${base}${SEARCH}60..250`, auth);
-    let n = 0;
-    const fresh = await cannon(`${base}${SEARCH}60..250`, auth, () => `${SEARCH}${40 + (n % 40)}..${200 + Math.floor(n++ / 40)}`);
+    const fresh = await cannon(`${base}${SEARCH}60..250`, auth, SEARCH);
     const row = (name: string, r: autocannon.Result) =>
       log(`${name.padEnd(44)} p50 ${ms(r.latency.p50).padStart(9)}  p97.5 ${ms(r.latency.p97_5).padStart(9)}  ${String(Math.round(r.requests.average)).padStart(6)} req/s  non-2xx ${r.non2xx}  errors ${r.errors}`);
     row('GET /api/health (SELECT 1, baseline)', health);
