@@ -9,6 +9,7 @@
  * profiles, shapes and metric vectors computed as on every write), ANALYZE.
  *
  * Measured with autocannon, 50 connections, from a child process (tests/bench/cannon.mjs):
+ * - `GET /api/health/live` (no database, no sign-in): this machine's ceiling, for context;
  * - `GET /api/health` (a bare route answering `SELECT 1`, no sign-in): the baseline;
  * - the faceted search with three facets and one numeric range active
  *   (signed in, so each request also checks the token and reads the user):
@@ -107,11 +108,13 @@ async function main() {
     log(`server at ${base}; ${os.availableParallelism?.() ?? os.cpus().length} cores; search probe: ${probe.status}, ${body.total} of ${ROWS} match, ${Object.keys(body.facets).length} facets`);
 
     log(`autocannon, ${CONNECTIONS} connections, ${SECONDS} s each`);
+    const live = await cannon(`${base}/api/health/live`, {});
     const health = await cannon(`${base}/api/health`, {});
     const cached = await cannon(`${base}${SEARCH}60..250`, auth);
     const fresh = await cannon(`${base}${SEARCH}60..250`, auth, SEARCH);
     const row = (name: string, r: autocannon.Result) =>
       log(`${name.padEnd(44)} p50 ${ms(r.latency.p50).padStart(9)}  p97.5 ${ms(r.latency.p97_5).padStart(9)}  ${String(Math.round(r.requests.average)).padStart(6)} req/s  non-2xx ${r.non2xx}  errors ${r.errors}`);
+    row('GET /api/health/live (no database)', live);
     row('GET /api/health (SELECT 1, baseline)', health);
     row('search, 3 facets + range, repeated (cache)', cached);
     row('search, 3 facets + range, new range each', fresh);
