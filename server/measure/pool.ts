@@ -1,7 +1,7 @@
 /**
  * The measurement engine off the event loop: a pool of worker threads
  * (tinypool) that runs `measure()` so a long Monte Carlo never holds up other
- * requests. Created on first use, sized to the cores
+ * requests (and the CSV import check, `importCheckOffLoop`). Created on first use, sized to the cores
  * (`os.availableParallelism()`, at least 1; `MEASURE_THREADS` overrides), and
  * closed by `closeMeasurePool()` (the server's `close()`), so test processes
  * exit. Tasks beyond `MEASURE_QUEUE` (default 16 per thread) waiting at once
@@ -16,6 +16,7 @@ import type { MeasurementOutput } from '../../shared/measure/index';
 import { AppError } from '../errors';
 import { reviveError, type MeasureReply, type MeasureTask } from './task';
 import type { DepthProfile } from '../../shared/schemas/analogues';
+import type { ImportCheckReply, ImportCheckTask } from '../services/analogue-import-check';
 
 let pool: Tinypool | null = null;
 const stats = { started: 0, finished: 0 };
@@ -77,6 +78,25 @@ async function measureTaskOffLoop(task: MeasureTask): Promise<Extract<MeasureRep
     stats.finished++;
   }
   if (!reply.ok) throw reviveError(reply.error);
+  return reply;
+}
+
+/**
+ * Parse and check a CSV import file on a worker thread (same pool and queue
+ * bound as the engine). An AppError thrown there comes back as one here.
+ */
+export async function importCheckOffLoop(task: ImportCheckTask): Promise<Extract<ImportCheckReply, { ok: true }>> {
+  let reply: ImportCheckReply;
+  stats.started++;
+  try {
+    reply = await thePool().run(task, { name: 'importCheck' });
+  } catch (e) {
+    if (e instanceof Error && /queue is at limit/i.test(e.message)) throw new AppError(503, 'measure_busy', 'The server is busy; try the import again in a moment');
+    throw e;
+  } finally {
+    stats.finished++;
+  }
+  if (!reply.ok) throw new AppError(reply.error.status, reply.error.code, reply.error.message, reply.error.details);
   return reply;
 }
 
