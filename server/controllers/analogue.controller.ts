@@ -25,13 +25,37 @@ export async function search(req: Request, res: Response) {
   const { json, etag } = await a.searchBody(req.user!, searchQuery(req));
   res.set('ETag', etag).type('json').send(json); // send answers 304 when If-None-Match matches
 }
+/** Stream an export: headers first, then the pages as they come; a failure after the first bytes cuts the download short (no half file passes for a whole one). */
+async function streamExport(req: Request, res: Response, headers: Record<string, string>, run: (q: ReturnType<typeof searchQuery>, out: io.ExportSink) => Promise<void>) {
+  const q = searchQuery(req);
+  res.set(headers);
+  const out: io.ExportSink = {
+    closed: () => res.destroyed || res.writableEnded,
+    write: (text) =>
+      res.write(text) || res.destroyed
+        ? Promise.resolve()
+        : new Promise<void>((resolve) => {
+            const done = () => {
+              res.off('drain', done).off('close', done);
+              resolve();
+            };
+            res.on('drain', done).on('close', done);
+          }),
+  };
+  try {
+    await run(q, out);
+  } catch (e) {
+    if (!res.headersSent) throw e;
+    res.destroy(e instanceof Error ? e : new Error(String(e)));
+    return;
+  }
+  res.end();
+}
 export async function exportCsv(req: Request, res: Response) {
-  const csv = await io.exportCsv(searchQuery(req));
-  res.set({ 'Content-Type': 'text/csv; charset=utf-8', 'Content-Disposition': 'attachment; filename="analogues.csv"' }).send(csv);
+  await streamExport(req, res, { 'Content-Type': 'text/csv; charset=utf-8', 'Content-Disposition': 'attachment; filename="analogues.csv"' }, io.exportCsv);
 }
 export async function exportGeoJson(req: Request, res: Response) {
-  const g = await io.exportGeoJson(searchQuery(req));
-  res.set({ 'Content-Type': 'application/geo+json', 'Content-Disposition': 'attachment; filename="analogues.geojson"' }).send(JSON.stringify(g));
+  await streamExport(req, res, { 'Content-Type': 'application/geo+json', 'Content-Disposition': 'attachment; filename="analogues.geojson"' }, io.exportGeoJson);
 }
 export async function icsChart(_req: Request, res: Response) {
   res.json(a.icsChart());

@@ -15,7 +15,7 @@ import { QueryTypes } from 'sequelize';
 import { ctx } from '../context';
 import { AppError } from '../errors';
 import { audit } from './audit.service';
-import { handColumns, insertRow, readLists, searchAll, toSummary, write, type Actor } from './analogue.service';
+import { handColumns, insertRow, readLists, searchPages, toSummary, write, type Actor } from './analogue.service';
 import { importCheckOffLoop } from '../measure/pool';
 import {
   EXPORT_COLUMNS,
@@ -60,43 +60,67 @@ export async function runImport(actor: Actor, buf: Buffer, mapping: ImportMappin
 
 // ---- export -------------------------------------------------------------------------------------
 
-export async function exportCsv(q: AnalogueSearchQuery): Promise<string> {
-  const rows = (await searchAll(q)).map(toSummary);
-  const data = rows.map((a) => {
-    const o: Record<string, unknown> = {
-      id: a.id,
-      name: a.name,
-      status: a.status,
-      source: a.source,
-      setting: a.setting,
-      factory: a.factory,
-      climate: a.climate,
-      class: a.class,
-      period: a.period,
-      epoch: a.epoch,
-      stage: a.stage,
-      ageMa: a.ageMa,
-      latitude: a.latitude,
-      longitude: a.longitude,
-      tags: a.tags.join(';'),
-      citation: a.citationShort,
-    };
-    for (const k of METRIC_KEYS) o[k] = a.metrics[k];
-    return o;
-  });
-  // a leading = + - @ would make a spreadsheet run the cell as a formula: papaparse's escapeFormulae quotes and prefixes them
-  return Papa.unparse({ fields: [...EXPORT_COLUMNS], data: data.map((o) => EXPORT_COLUMNS.map((c) => o[c] ?? '')) }, { escapeFormulae: /^[=+\-@\t\r](?![0-9.])/ });
+/** A place an export writes to: `write` resolves once the text is taken (after a drain when the buffer is full); `closed` tells the reader went away. */
+export interface ExportSink {
+  write(text: string): Promise<void>;
+  closed(): boolean;
 }
 
-export async function exportGeoJson(q: AnalogueSearchQuery): Promise<AnalogueGeoJson> {
-  const rows = (await searchAll(q)).map(toSummary).filter((a) => a.latitude != null && a.longitude != null);
-  return {
-    type: 'FeatureCollection',
-    features: rows.map((a) => ({
-      type: 'Feature',
-      id: a.id,
-      geometry: { type: 'Point', coordinates: [a.longitude!, a.latitude!] },
-      properties: { name: a.name, status: a.status, setting: a.setting, factory: a.factory, climate: a.climate, class: a.class, period: a.period, ageMa: a.ageMa, tags: a.tags, ...a.metrics },
-    })),
+const csvRow = (a: ReturnType<typeof toSummary>): unknown[] => {
+  const o: Record<string, unknown> = {
+    id: a.id,
+    name: a.name,
+    status: a.status,
+    source: a.source,
+    setting: a.setting,
+    factory: a.factory,
+    climate: a.climate,
+    class: a.class,
+    period: a.period,
+    epoch: a.epoch,
+    stage: a.stage,
+    ageMa: a.ageMa,
+    latitude: a.latitude,
+    longitude: a.longitude,
+    tags: a.tags.join(';'),
+    citation: a.citationShort,
   };
+  for (const k of METRIC_KEYS) o[k] = a.metrics[k];
+  return EXPORT_COLUMNS.map((c) => o[c] ?? '');
+};
+
+// a leading = + - @ would make a spreadsheet run the cell as a formula: papaparse's escapeFormulae quotes and prefixes them
+const CSV_OPTIONS = { escapeFormulae: /^[=+\-@\t\r](?![0-9.])/, newline: '\r\n' };
+
+/** A search as CSV (RFC 4180, CRLF), written page by page. */
+export async function exportCsv(q: AnalogueSearchQuery, out: ExportSink, pageRows?: number): Promise<void> {
+  await out.write(Papa.unparse([[...EXPORT_COLUMNS]], CSV_OPTIONS)); // the header row; each page starts with its line break
+  for await (const rows of searchPages(q, pageRows)) {
+    if (out.closed()) return;
+    await out.write('\r\n' + Papa.unparse(rows.map((r) => csvRow(toSummary(r))), CSV_OPTIONS));
+  }
+}
+
+/** A search as a GeoJSON FeatureCollection (RFC 7946; rows without coordinates are left out), written page by page. */
+export async function exportGeoJson(q: AnalogueSearchQuery, out: ExportSink, pageRows?: number): Promise<void> {
+  await out.write('{"type":"FeatureCollection","features":[');
+  let first = true;
+  for await (const rows of searchPages(q, pageRows)) {
+    if (out.closed()) return;
+    const features = rows
+      .map(toSummary)
+      .filter((a) => a.latitude != null && a.longitude != null)
+      .map((a) =>
+        JSON.stringify({
+          type: 'Feature',
+          id: a.id,
+          geometry: { type: 'Point', coordinates: [a.longitude!, a.latitude!] },
+          properties: { name: a.name, status: a.status, setting: a.setting, factory: a.factory, climate: a.climate, class: a.class, period: a.period, ageMa: a.ageMa, tags: a.tags, ...a.metrics },
+        } satisfies AnalogueGeoJson['features'][number]),
+      );
+    if (!features.length) continue;
+    await out.write((first ? '' : ',') + features.join(','));
+    first = false;
+  }
+  await out.write(']}');
 }

@@ -6,7 +6,7 @@
  * every cached answer stale.
  */
 import crypto from 'node:crypto';
-import { QueryTypes } from 'sequelize';
+import { QueryTypes, Transaction } from 'sequelize';
 import {
   FACETS,
   type AnalogueSearchQuery,
@@ -205,10 +205,28 @@ export async function searchBody(_actor: Actor, q: AnalogueSearchQuery): Promise
   return made;
 }
 
-/** Every row of a search (export), in the search's order, at most `limit`. */
-export async function searchAll(q: AnalogueSearchQuery, limit = 200_000): Promise<Row[]> {
+/**
+ * Every row of a search (exports), in the search's order, at most `limit`, in
+ * pages of `pageRows` read through a server-side cursor in one read-only,
+ * repeatable-read transaction (one consistent snapshot, bounded memory and
+ * work per page). Stopping the loop early closes the cursor.
+ */
+export async function* searchPages(q: AnalogueSearchQuery, pageRows = 2000, limit = 200_000): AsyncGenerator<Row[]> {
   const b = new Binds();
   const where = whereOf(q, b);
   const order = SORT_SQL(q, b);
-  return db().query<Row>(`SELECT ${SUMMARY_COLUMNS} FROM analogues WHERE ${where} ORDER BY ${order} LIMIT ${limit}`, { bind: b.values, type: QueryTypes.SELECT });
+  const transaction = await db().transaction({ isolationLevel: Transaction.ISOLATION_LEVELS.REPEATABLE_READ, readOnly: true });
+  try {
+    await db().query(`DECLARE analogue_export NO SCROLL CURSOR FOR SELECT ${SUMMARY_COLUMNS} FROM analogues WHERE ${where} ORDER BY ${order} LIMIT ${limit}`, {
+      bind: b.values,
+      transaction,
+    });
+    for (;;) {
+      const rows = await db().query<Row>(`FETCH ${Math.max(1, Math.floor(pageRows))} FROM analogue_export`, { type: QueryTypes.SELECT, transaction });
+      if (!rows.length) break;
+      yield rows;
+    }
+  } finally {
+    await transaction.rollback(); // read only: nothing to keep; closes the cursor
+  }
 }
