@@ -18,6 +18,7 @@ import PDFDocument from 'pdfkit';
 import SVGtoPDF from 'svg-to-pdfkit';
 import * as echarts from 'echarts';
 import { ROOT_DIR } from '../config';
+import { sfntOfWoffFile } from './woff';
 import { HOUSE_PALETTE } from '../../shared/palette';
 import { reportPlots } from '../../shared/report/plots';
 import {
@@ -122,8 +123,9 @@ export async function writeReportPdf(input: PdfInput, file: string): Promise<{ p
       Producer: 'Cayline (pdfkit)',
     },
   });
-  doc.registerFont('plex', fs.readFileSync(FONT_FILES.regular));
-  doc.registerFont('plex-semi', fs.readFileSync(FONT_FILES.semibold));
+  // decompressed once per thread (woff.ts): pdfkit re-reads its fonts for every document
+  doc.registerFont('plex', sfntOfWoffFile(FONT_FILES.regular));
+  doc.registerFont('plex-semi', sfntOfWoffFile(FONT_FILES.semibold));
   doc.font('plex');
   // pdfkit keeps the fontkit font of the current face on `_font.font` (not public API; without it every sign is kept)
   const face = (doc as unknown as { _font?: { font?: { hasGlyphForCodePoint?(cp: number): boolean } } })._font?.font;
