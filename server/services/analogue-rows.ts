@@ -152,6 +152,8 @@ export function invalid(status: number, code: string, path: string, message: str
 
 /** Search answers as sent (JSON text and entity tag), by library generation and query. */
 export const searchCache = new LRUCache<string, { json: string; etag: string }>({ max: 500 });
+/** Facet counts and totals by library generation and filters alone (sort and page left out): paging or re-sorting a search does not count again. */
+export const facetCache = new LRUCache<string, { facets: Partial<Record<string, { value: string; count: number }[]>>; total: number }>({ max: 500 });
 
 /**
  * How long this process trusts the library generation it last read. Changes
@@ -166,6 +168,7 @@ let known: { g: string; at: number } | null = null;
 export function forgetGeneration() {
   known = null;
   searchCache.clear();
+  facetCache.clear();
 }
 
 export async function generation(): Promise<string> {

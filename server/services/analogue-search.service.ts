@@ -24,6 +24,7 @@ import {
   type Row,
   toSummary,
   searchCache,
+  facetCache,
   generation,
   db,
   normTags,
@@ -193,7 +194,11 @@ export async function searchBody(_actor: Actor, q: AnalogueSearchQuery): Promise
   });
   let out: AnalogueSearchResponse;
   if (q.facets) {
-    const [rows, fc] = await Promise.all([list, facetCounts(q)]);
+    const { sort: _s, dir: _d, page: _p, pageSize: _z, ...filters } = q;
+    const fkey = `${key.slice(0, key.indexOf('|'))}|${JSON.stringify(filters)}`;
+    const counted = facetCache.get(fkey);
+    const [rows, fc] = await Promise.all([list, counted ?? facetCounts(q)]);
+    if (!counted) facetCache.set(fkey, fc);
     out = { total: fc.total, page: q.page, pageSize: q.pageSize, items: rows.map(toSummary), facets: fc.facets };
   } else {
     const cb = new Binds();

@@ -11,6 +11,7 @@ import { createSequelize } from '../../server/db/sequelize';
 import { analogueSearchSchema, type HandEntryInput } from '../../shared/schemas/analogues';
 import { exportCsv as exportCsvPages, exportGeoJson as exportGeoJsonPages, type ExportSink } from '../../server/services/analogue-import.service';
 import Papa from 'papaparse';
+import { facetCache, forgetGeneration, searchCache } from '../../server/services/analogue-rows';
 
 let t: TestApp;
 let curator: string;
@@ -169,6 +170,24 @@ describe('facet counts', () => {
     expect(changed.status).toBe(200);
     expect(changed.headers.etag).not.toBe(etag);
     expect(changed.body.total).toBe(first.body.total + 1);
+    expect((await request(t.app).delete(`/api/analogues/${extra.id}`).set(bearer(curator))).status).toBe(204);
+  });
+
+  it('paging and re-sorting a search count its facets once; a change counts again', async () => {
+    forgetGeneration();
+    const p1 = await get('/api/analogues?status=any&pageSize=2');
+    const p2 = await get('/api/analogues?status=any&pageSize=2&page=2');
+    const sorted = await get('/api/analogues?status=any&pageSize=2&sort=heightM&dir=desc');
+    expect([p1.status, p2.status, sorted.status]).toEqual([200, 200, 200]);
+    expect(p2.body.facets).toEqual(p1.body.facets);
+    expect(sorted.body.total).toBe(p1.body.total);
+    expect(p2.body.items.map((i: { id: number }) => i.id)).not.toEqual(p1.body.items.map((i: { id: number }) => i.id));
+    expect(searchCache.size).toBe(3);
+    expect(facetCache.size).toBe(1);
+    const extra = await add(curator, entry('Counted Again Bank', { setting: 'bank' }));
+    expect(facetCache.size).toBe(0);
+    const after = await get('/api/analogues?status=any&pageSize=2&page=2');
+    expect(after.body.total).toBe(p1.body.total + 1);
     expect((await request(t.app).delete(`/api/analogues/${extra.id}`).set(bearer(curator))).status).toBe(204);
   });
 
