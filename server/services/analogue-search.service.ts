@@ -181,6 +181,30 @@ export async function search(actor: Actor, q: AnalogueSearchQuery): Promise<Anal
   return JSON.parse((await searchBody(actor, q)).json) as AnalogueSearchResponse;
 }
 
+/** Facet counts in flight, by the facet cache's key: requests that ask for the same counts at once share one statement. */
+const counting = new Map<string, Promise<{ facets: Partial<Record<Facet, FacetCount[]>>; total: number }>>();
+
+function countedOnce(key: string, count: () => Promise<{ facets: Partial<Record<Facet, FacetCount[]>>; total: number }>) {
+  const cached = facetCache.get(key);
+  if (cached) return Promise.resolve(cached);
+  let p = counting.get(key);
+  if (!p) {
+    p = count().then(
+      (fc) => {
+        counting.delete(key);
+        facetCache.set(key, fc);
+        return fc;
+      },
+      (e: unknown) => {
+        counting.delete(key);
+        throw e;
+      },
+    );
+    counting.set(key, p);
+  }
+  return p;
+}
+
 export async function searchBody(_actor: Actor, q: AnalogueSearchQuery): Promise<SearchBody> {
   const key = `${await generation()}|${JSON.stringify(q)}`;
   const hit = searchCache.get(key);
@@ -196,9 +220,7 @@ export async function searchBody(_actor: Actor, q: AnalogueSearchQuery): Promise
   if (q.facets) {
     const { sort: _s, dir: _d, page: _p, pageSize: _z, ...filters } = q;
     const fkey = `${key.slice(0, key.indexOf('|'))}|${JSON.stringify(filters)}`;
-    const counted = facetCache.get(fkey);
-    const [rows, fc] = await Promise.all([list, counted ?? facetCounts(q)]);
-    if (!counted) facetCache.set(fkey, fc);
+    const [rows, fc] = await Promise.all([list, countedOnce(fkey, () => facetCounts(q))]);
     out = { total: fc.total, page: q.page, pageSize: q.pageSize, items: rows.map(toSummary), facets: fc.facets };
   } else {
     const cb = new Binds();

@@ -92,8 +92,9 @@ async function main() {
           const q = analogueSearchSchema.parse(searchQueryFromUrl(new URLSearchParams(`${SEARCH.split('?')[1]}60..250`)));
           const b = new Binds();
           const list = `SELECT id FROM analogues WHERE ${whereOf(q, b)} ORDER BY lower(name), id LIMIT ${q.pageSize}`;
+          const deep = `${list} OFFSET ${400 * q.pageSize}`;
           const fc = facetCountsSql(q);
-          for (const [name, sql, bind] of [['list page', list, b.values], ['facet counts', fc.sql, fc.bind]] as const) {
+          for (const [name, sql, bind] of [['list page', list, b.values], ['list page 401', deep, b.values], ['facet counts', fc.sql, fc.bind]] as const) {
             await sequelize.query(sql, { bind: [...bind] }); // warm
             const [plan] = await sequelize.query(`EXPLAIN (ANALYZE, BUFFERS) ${sql}`, { bind: [...bind] });
             log(`plan of the ${name}:\n${(plan as { 'QUERY PLAN': string }[]).map((r) => r['QUERY PLAN']).join('\n')}`);
