@@ -7,18 +7,17 @@
  * renderer and drawn as vectors), the velocity model and its sources, the
  * assumptions and the caution. A4 or US Letter, "Page n of N" on every page.
  *
- * Fonts: IBM Plex Sans from the app's own @fontsource package (WOFF, which
- * pdfkit's fontkit reads), embedded as subsets. The Latin subset lacks a few
- * signs the number wording uses (≈, ≥, superscript digits other than ¹²³);
- * `pdfText` spells those out.
+ * Fonts: IBM Plex Sans from the app's own @fontsource package, every script
+ * subset of it (pdf-fonts.ts), embedded as subsets; text is written in runs of
+ * one subset each, so names in Latin, Cyrillic, Greek or Vietnamese letters
+ * print as typed. A few signs the number wording uses (≈, ≥, superscript
+ * digits other than ¹²³) are spelled out (`pdfText`).
  */
 import fs from 'node:fs';
-import path from 'node:path';
 import PDFDocument from 'pdfkit';
 import SVGtoPDF from 'svg-to-pdfkit';
 import * as echarts from 'echarts';
-import { ROOT_DIR } from '../config';
-import { sfntOfWoffFile } from './woff';
+import { pdfText, registerFaces, writeRuns, type Face } from './pdf-fonts';
 import { HOUSE_PALETTE } from '../../shared/palette';
 import { reportPlots } from '../../shared/report/plots';
 import {
@@ -35,36 +34,7 @@ import {
 import { formatNumber, formatScientific, SCIENTIFIC_FROM } from '../../shared/format';
 import { lengthsInText, quantityLabel, toDisplayLength, type Quantity } from '../../shared/units';
 
-const FONT_DIR = path.join(ROOT_DIR, 'node_modules', '@fontsource', 'ibm-plex-sans', 'files');
-export const FONT_FILES = {
-  regular: path.join(FONT_DIR, 'ibm-plex-sans-latin-400-normal.woff'),
-  semibold: path.join(FONT_DIR, 'ibm-plex-sans-latin-600-normal.woff'),
-};
-
-const SUPER: Record<string, string> = { '⁰': '0', '¹': '1', '²': '2', '³': '3', '⁴': '4', '⁵': '5', '⁶': '6', '⁷': '7', '⁸': '8', '⁹': '9', '⁻': '-' };
-/** Spellings of signs the embedded Latin subset lacks. */
-const SPELLED: Record<string, string> = { '≈': '~', '≥': '>=', '≤': '<=', '→': '->', '←': '<-', 'θ': 'theta', 'Δ': 'delta', 'Σ': 'sum', 'μ': 'u', '…': '...' };
-
-const SPELLED_CODES: Record<number, true> = Object.fromEntries(Object.keys(SPELLED).map((c) => [c.codePointAt(0)!, true]));
-
-/** Whether the embedded font has a glyph for a code point (set once the font is registered). */
-let hasGlyph: (cp: number) => boolean = (cp) => !(cp in SPELLED_CODES);
-
-/**
- * Text for the embedded Latin subset: "× 10⁹" → "× 10^9" (², ³ in units
- * stay), the signs of SPELLED spelled out, anything else the font lacks
- * shown as "?" rather than dropped.
- */
-export function pdfText(s: string): string {
-  const t = s.replace(/10([⁰¹²³⁴⁵⁶⁷⁸⁹⁻]+)/g, (_m, e: string) => `10^${[...e].map((c) => SUPER[c]).join('')}`);
-  let out = '';
-  for (const ch of t) {
-    const cp = ch.codePointAt(0)!;
-    if (cp < 0x80 || hasGlyph(cp)) out += ch;
-    else out += SPELLED[ch] ?? (/\s/.test(ch) ? ' ' : '?');
-  }
-  return out;
-}
+export { pdfText } from './pdf-fonts';
 
 /** A value of a quantity in the display unit, with its unit. */
 export function formatValue(q: Quantity, v: number | null | undefined, unit: BuildupReport['unit'], decimals = 1): string {
@@ -117,19 +87,18 @@ export async function writeReportPdf(input: PdfInput, file: string): Promise<{ p
     margins: { top: MARGIN, bottom: MARGIN + 14, left: MARGIN, right: MARGIN },
     bufferPages: true,
     info: {
-      Title: pdfText(`Buildup report: ${report.title.buildup}`),
-      Subject: pdfText(`${report.title.section} (${report.title.line}, ${report.title.survey})`),
+      // metadata strings go into the PDF as UTF-16 (pdfkit), so names keep every character
+      Title: `Buildup report: ${report.title.buildup}`,
+      Subject: `${report.title.section} (${report.title.line}, ${report.title.survey})`,
       Creator: `Cayline ${report.title.caylineVersion}`,
       Producer: 'Cayline (pdfkit)',
     },
   });
-  // decompressed once per thread (woff.ts): pdfkit re-reads its fonts for every document
-  doc.registerFont('plex', sfntOfWoffFile(FONT_FILES.regular));
-  doc.registerFont('plex-semi', sfntOfWoffFile(FONT_FILES.semibold));
+  // every script subset of both weights, decompressed once per thread (pdf-fonts.ts, woff.ts)
+  registerFaces(doc);
   doc.font('plex');
-  // pdfkit keeps the fontkit font of the current face on `_font.font` (not public API; without it every sign is kept)
-  const face = (doc as unknown as { _font?: { font?: { hasGlyphForCodePoint?(cp: number): boolean } } })._font?.font;
-  if (face?.hasGlyphForCodePoint) hasGlyph = (cp) => face.hasGlyphForCodePoint!(cp) && !(cp in SPELLED_CODES);
+  /** Text in runs of one script subset each (user-typed names in any script the fonts cover). */
+  const write = (face: Face, text: string, at: { x: number; y: number } | null, options: PDFKit.Mixins.TextOptions = {}) => writeRuns(doc, face, text, at, options);
   // collected in memory (a few hundred KiB) and written once: pdfkit emits thousands of small chunks, and a file stream pays a thread-pool round trip for each
   const chunks: Buffer[] = [];
   doc.on('data', (c: Buffer) => chunks.push(c));
@@ -144,18 +113,18 @@ export async function writeReportPdf(input: PdfInput, file: string): Promise<{ p
   };
   const heading = (text: string, fontSize = 12) => {
     ensure(fontSize * 3);
-    doc.moveDown(0.6).font('plex-semi').fontSize(fontSize).fillColor(INK).text(pdfText(text), MARGIN, doc.y, { width: W });
+    doc.moveDown(0.6).font('plex-semi').fontSize(fontSize).fillColor(INK);
+    write('plex-semi', text, { x: MARGIN, y: doc.y }, { width: W });
     doc.moveDown(0.25);
   };
   const para = (text: string, opts: { fontSize?: number; colour?: string; bullet?: boolean } = {}) => {
     doc.font('plex').fontSize(opts.fontSize ?? 9).fillColor(opts.colour ?? INK);
-    const t = pdfText(text);
     if (opts.bullet) {
       ensure(12);
       const y = doc.y;
       doc.text('•', MARGIN + 4, y, { width: 10 });
-      doc.text(t, MARGIN + 16, y, { width: W - 16 });
-    } else doc.text(t, MARGIN, doc.y, { width: W });
+      write('plex', text, { x: MARGIN + 16, y }, { width: W - 16 });
+    } else write('plex', text, { x: MARGIN, y: doc.y }, { width: W });
     doc.moveDown(0.2);
   };
   /** A simple table: header row, rows; column widths as fractions of the width. */
@@ -166,17 +135,17 @@ export async function writeReportPdf(input: PdfInput, file: string): Promise<{ p
       xs.push(x);
       x += w * W;
     }
-    const rowHeight = (cells: string[], font: string) => {
+    const rowHeight = (cells: string[], font: Face) => {
       doc.font(font).fontSize(fontSize);
       return Math.max(...cells.map((c, i) => doc.heightOfString(pdfText(c), { width: widths[i] * W - 4 }))) + 4;
     };
-    const drawRow = (cells: string[], font: string, fill: string | null) => {
+    const drawRow = (cells: string[], font: Face, fill: string | null) => {
       const h = rowHeight(cells, font);
       ensure(h);
       const y = doc.y;
       if (fill) doc.rect(MARGIN, y, W, h).fill(fill);
       doc.font(font).fontSize(fontSize).fillColor(INK);
-      cells.forEach((c, i) => doc.text(pdfText(c), xs[i] + 2, y + 2, { width: widths[i] * W - 4 }));
+      cells.forEach((c, i) => write(font, c, { x: xs[i] + 2, y: y + 2 }, { width: widths[i] * W - 4 }));
       doc.moveTo(MARGIN, y + h).lineTo(MARGIN + W, y + h).lineWidth(0.4).strokeColor(HOUSE_PALETTE.line).stroke();
       doc.y = y + h;
     };
@@ -189,8 +158,10 @@ export async function writeReportPdf(input: PdfInput, file: string): Promise<{ p
 
   // ---- title block
   const t = report.title;
-  doc.font('plex-semi').fontSize(18).fillColor(INK).text(pdfText(`Buildup report: ${t.buildup}`), MARGIN, MARGIN, { width: W });
-  doc.font('plex').fontSize(9).fillColor(MUTED).text(pdfText(`${t.project} · ${t.section}`), { width: W });
+  doc.font('plex-semi').fontSize(18).fillColor(INK);
+  write('plex-semi', `Buildup report: ${t.buildup}`, { x: MARGIN, y: MARGIN }, { width: W });
+  doc.font('plex').fontSize(9).fillColor(MUTED);
+  write('plex', `${t.project} · ${t.section}`, null, { width: W });
   doc.moveDown(0.5);
   const signed = t.signedOffBy ? `${t.reviewStateLabel}, by ${t.signedOffBy}${t.signedOffAt ? ` on ${t.signedOffAt.slice(0, 10)}` : ''}${t.signedOffVersion != null ? ` (version ${t.signedOffVersion})` : ''}` : t.reviewStateLabel;
   table(
@@ -210,7 +181,8 @@ export async function writeReportPdf(input: PdfInput, file: string): Promise<{ p
     [0.28, 0.72],
   );
   const m = report.measurement;
-  doc.font('plex-semi').fontSize(13).fillColor(INK).text(pdfText(`Classification: ${classLabel(m)}`), MARGIN, doc.y, { width: W });
+  doc.font('plex-semi').fontSize(13).fillColor(INK);
+  write('plex-semi', `Classification: ${classLabel(m)}`, { x: MARGIN, y: doc.y }, { width: W });
   if (m) para(`Height ${formatValue('length', toDisplayLength(m.heightM, report.unit), report.unit)} · base width ${formatValue('length', toDisplayLength(m.baseWidthM, report.unit), report.unit)}`, { fontSize: 10 });
   progress(0.1);
 
@@ -326,7 +298,8 @@ export async function writeReportPdf(input: PdfInput, file: string): Promise<{ p
   doc.font('plex').fontSize(9);
   const ch = doc.heightOfString(pdfText(report.caution), { width: W - 16 }) + 12;
   doc.rect(MARGIN, cy, W, ch).fill(HOUSE_PALETTE.sandSoft);
-  doc.fillColor(INK).text(pdfText(report.caution), MARGIN + 8, cy + 6, { width: W - 16 });
+  doc.fillColor(INK);
+  write('plex', report.caution, { x: MARGIN + 8, y: cy + 6 }, { width: W - 16 });
   doc.y = cy + ch;
   progress(0.9);
 
@@ -337,7 +310,7 @@ export async function writeReportPdf(input: PdfInput, file: string): Promise<{ p
     const keep = doc.page.margins.bottom;
     doc.page.margins.bottom = 0;
     doc.font('plex').fontSize(8).fillColor(MUTED);
-    doc.text(pdfText(`${t.buildup} · ${t.section}`), MARGIN, size.height - MARGIN + 6, { width: W / 2, lineBreak: false });
+    write('plex', `${t.buildup} · ${t.section}`, { x: MARGIN, y: size.height - MARGIN + 6 }, { width: W / 2, lineBreak: false });
     doc.text(`Page ${i - range.start + 1} of ${range.count}`, MARGIN + W / 2, size.height - MARGIN + 6, { width: W / 2, align: 'right', lineBreak: false });
     doc.page.margins.bottom = keep;
   }

@@ -199,6 +199,24 @@ describe('report data', () => {
     expect(text).toContain('Trace the base');
     expect(text).toContain('Not measurable yet');
   }, 90_000);
+
+  it('names in Latin Extended, Cyrillic and Greek letters print as typed (title, table, footer, metadata); CJK prints "?"', async () => {
+    // invented name; Unicode blocks: Latin Extended-A (Ż, ł), Cyrillic (Холм), Greek (Ωρα)
+    const name = 'Żuławy Холм Ωρα 礁';
+    const c = await request(t.app).post(`/api/sections/${tb11.id}/buildups`).set(bearer(token)).send({ name });
+    expect(c.status, JSON.stringify(c.body)).toBe(201);
+    const pdf = await pdfOf(c.body.id, 'a4');
+    const text = pdftotext(pdf.file);
+    expect(text).toContain('Buildup report: Żuławy Холм Ωρα ?');
+    expect(text).toContain('Żuławy Холм Ωρα ? · ');
+    expect(text).not.toContain('?uławy');
+    expect(pdfinfo(pdf.file)).toMatch(new RegExp(`Title:\\s+Buildup report: ${name}\\n`));
+    const fonts = execFileSync('pdffonts', [pdf.file], { encoding: 'utf8' }).split('\n').slice(2).filter(Boolean);
+    expect(fonts.length).toBeGreaterThanOrEqual(3); // the Latin, Latin Extended, Cyrillic and Greek subsets of the faces used
+    for (const f of fonts) expect(f).toMatch(/IBMPlexSans.*\byes\b/);
+    fs.mkdirSync(shots, { recursive: true });
+    execFileSync('pdftoppm', ['-r', '80', '-f', '1', '-l', '1', '-png', pdf.file, path.join(shots, 'report-pdf-scripts')]);
+  }, 90_000);
 });
 
 describe('CSV', () => {
