@@ -1,6 +1,7 @@
 import type { Request, Response, RequestHandler } from 'express';
 import { pipeline } from 'node:stream/promises';
 import multer, { MulterError } from 'multer';
+import pLimit from 'p-limit';
 import * as a from '../services/analogue.service';
 import * as io from '../services/analogue-import.service';
 import { idParam } from '../middlewares/params';
@@ -25,10 +26,22 @@ export async function search(req: Request, res: Response) {
   const { json, etag } = await a.searchBody(req.user!, searchQuery(req));
   res.set('ETag', etag).type('json').send(json); // send answers 304 when If-None-Match matches
 }
+/**
+ * Library exports run two at a time per process (each holds a database
+ * connection while its reader reads), a few more wait their turn, beyond
+ * that 503 `export_busy`.
+ */
+const EXPORTS_AT_ONCE = 2;
+const EXPORTS_WAITING = 8;
+const exportSlots = pLimit(EXPORTS_AT_ONCE);
+
 /** Stream an export: headers first, then the pages as they come; a failure after the first bytes cuts the download short (no half file passes for a whole one). */
 async function streamExport(req: Request, res: Response, headers: Record<string, string>, run: (q: ReturnType<typeof searchQuery>, out: io.ExportSink) => Promise<void>) {
   const q = searchQuery(req);
-  res.set(headers);
+  if (exportSlots.activeCount + exportSlots.pendingCount >= EXPORTS_AT_ONCE + EXPORTS_WAITING) {
+    res.set('Retry-After', '5');
+    throw new AppError(503, 'export_busy', `More than ${EXPORTS_AT_ONCE + EXPORTS_WAITING} library exports are running or waiting; try again in a moment`);
+  }
   const out: io.ExportSink = {
     closed: () => res.destroyed || res.writableEnded,
     write: (text) =>
@@ -43,14 +56,23 @@ async function streamExport(req: Request, res: Response, headers: Record<string,
           }),
   };
   try {
-    await run(q, out);
+    await exportSlots(async () => {
+      if (res.destroyed) return; // the reader left while waiting for a slot
+      res.set(headers);
+      await run(q, out);
+    });
   } catch (e) {
-    if (!res.headersSent) throw e;
+    if (!res.headersSent) {
+      res.removeHeader('Content-Disposition');
+      res.removeHeader('Content-Type');
+      throw e;
+    }
     res.destroy(e instanceof Error ? e : new Error(String(e)));
     return;
   }
   res.end();
 }
+
 export async function exportCsv(req: Request, res: Response) {
   await streamExport(req, res, { 'Content-Type': 'text/csv; charset=utf-8', 'Content-Disposition': 'attachment; filename="analogues.csv"' }, io.exportCsv);
 }

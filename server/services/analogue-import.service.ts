@@ -93,19 +93,25 @@ const csvRow = (a: ReturnType<typeof toSummary>): unknown[] => {
 const CSV_OPTIONS = { escapeFormulae: /^[=+\-@\t\r](?![0-9.])/, newline: '\r\n' };
 
 /** A search as CSV (RFC 4180, CRLF), written page by page. */
-export async function exportCsv(q: AnalogueSearchQuery, out: ExportSink, pageRows?: number): Promise<void> {
+/** Page size and stall limit of an export's cursor (searchPages). */
+export interface ExportOptions {
+  pageRows?: number;
+  stallSeconds?: number;
+}
+
+export async function exportCsv(q: AnalogueSearchQuery, out: ExportSink, opts: ExportOptions = {}): Promise<void> {
   await out.write(Papa.unparse([[...EXPORT_COLUMNS]], CSV_OPTIONS)); // the header row; each page starts with its line break
-  for await (const rows of searchPages(q, pageRows)) {
+  for await (const rows of searchPages(q, opts.pageRows, undefined, opts.stallSeconds)) {
     if (out.closed()) return;
     await out.write('\r\n' + Papa.unparse(rows.map((r) => csvRow(toSummary(r))), CSV_OPTIONS));
   }
 }
 
 /** A search as a GeoJSON FeatureCollection (RFC 7946; rows without coordinates are left out), written page by page. */
-export async function exportGeoJson(q: AnalogueSearchQuery, out: ExportSink, pageRows?: number): Promise<void> {
+export async function exportGeoJson(q: AnalogueSearchQuery, out: ExportSink, opts: ExportOptions = {}): Promise<void> {
   await out.write('{"type":"FeatureCollection","features":[');
   let first = true;
-  for await (const rows of searchPages(q, pageRows)) {
+  for await (const rows of searchPages(q, opts.pageRows, undefined, opts.stallSeconds)) {
     if (out.closed()) return;
     const features = rows
       .map(toSummary)

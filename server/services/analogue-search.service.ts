@@ -232,18 +232,24 @@ export async function searchBody(_actor: Actor, q: AnalogueSearchQuery): Promise
   return made;
 }
 
+/** Seconds an export may wait for its reader between two pages before its database session is ended. */
+export const EXPORT_STALL_SECONDS = 60;
+
 /**
  * Every row of a search (exports), in the search's order, at most `limit`, in
  * pages of `pageRows` read through a server-side cursor in one read-only,
  * repeatable-read transaction (one consistent snapshot, bounded memory and
  * work per page). Stopping the loop early closes the cursor.
  */
-export async function* searchPages(q: AnalogueSearchQuery, pageRows = 2000, limit = 200_000): AsyncGenerator<Row[]> {
+export async function* searchPages(q: AnalogueSearchQuery, pageRows = 2000, limit = 200_000, stallSeconds = EXPORT_STALL_SECONDS): AsyncGenerator<Row[]> {
   const b = new Binds();
   const where = whereOf(q, b);
   const order = SORT_SQL(q, b);
   const transaction = await db().transaction({ isolationLevel: Transaction.ISOLATION_LEVELS.REPEATABLE_READ, readOnly: true });
   try {
+    // a reader that stops reading must not hold a database connection: PostgreSQL ends the session
+    // when the transaction waits longer than this between pages, and the export fails
+    await db().query(`SET LOCAL idle_in_transaction_session_timeout = '${Math.max(1, Math.round(stallSeconds))}s'`, { transaction });
     await db().query(`DECLARE analogue_export NO SCROLL CURSOR FOR SELECT ${SUMMARY_COLUMNS} FROM analogues WHERE ${where} ORDER BY ${order} LIMIT ${limit}`, {
       bind: b.values,
       transaction,
@@ -254,6 +260,7 @@ export async function* searchPages(q: AnalogueSearchQuery, pageRows = 2000, limi
       yield rows;
     }
   } finally {
-    await transaction.rollback(); // read only: nothing to keep; closes the cursor
+    // read only: nothing to keep; closes the cursor (fails when the server has ended a stalled session)
+    await transaction.rollback().catch(() => {});
   }
 }

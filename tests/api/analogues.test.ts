@@ -313,7 +313,7 @@ describe('exports written page by page', () => {
     const q = analogueSearchSchema.parse({ status: 'any', sort: 'name' });
     const csvRoute = await get('/api/analogues/export.csv?status=any');
     const csvPaged = collect();
-    await exportCsvPages(q, csvPaged, 1);
+    await exportCsvPages(q, csvPaged, { pageRows: 1 });
     expect(csvPaged.text()).toBe(csvRoute.text);
     const parsed = Papa.parse<Record<string, string>>(csvPaged.text(), { header: true, skipEmptyLines: true });
     expect(parsed.errors).toEqual([]);
@@ -322,7 +322,7 @@ describe('exports written page by page', () => {
     expect(parsed.data.map((r) => r.name)).toContain('Paged Knoll, "north"');
     const geoRoute = await get('/api/analogues/export.geojson?status=any');
     const geoPaged = collect();
-    await exportGeoJsonPages(q, geoPaged, 1);
+    await exportGeoJsonPages(q, geoPaged, { pageRows: 1 });
     expect(geoPaged.text()).toBe(geoRoute.text);
     const fc = JSON.parse(geoPaged.text());
     // only the two rows added here have coordinates (in the database's name order)
@@ -333,10 +333,24 @@ describe('exports written page by page', () => {
     for (const e of extra) expect((await request(t.app).delete(`/api/analogues/${e.id}`).set(bearer(curator))).status).toBe(204);
   });
 
+  it('a reader that stalls between pages does not hold the database connection: the session ends, the export fails, the pool goes on', async () => {
+    const q = analogueSearchSchema.parse({ status: 'any' });
+    let writes = 0;
+    const stalling: ExportSink = {
+      write: async () => {
+        if (++writes === 2) await new Promise((r) => setTimeout(r, 2500)); // longer than the 1 s allowed below
+      },
+      closed: () => false,
+    };
+    await expect(exportCsvPages(q, stalling, { pageRows: 1, stallSeconds: 1 })).rejects.toThrow();
+    expect(writes).toBe(2);
+    for (let i = 0; i < 12; i++) expect((await get('/api/analogues?status=any&pageSize=1&facets=0')).status).toBe(200); // more than the pool's 10 connections
+  }, 20_000);
+
   it('stops when the reader goes away, and the cursor is closed (the next export works)', async () => {
     let writes = 0;
     const q = analogueSearchSchema.parse({ status: 'any' });
-    await exportCsvPages(q, { write: async () => void writes++, closed: () => writes >= 2 }, 1);
+    await exportCsvPages(q, { write: async () => void writes++, closed: () => writes >= 2 }, { pageRows: 1 });
     expect(writes).toBe(2); // the header and one page
     const again = await get('/api/analogues/export.csv?status=any');
     expect(again.status).toBe(200);
