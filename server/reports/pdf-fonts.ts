@@ -4,8 +4,15 @@
  * latin-ext, cyrillic, cyrillic-ext, greek, vietnamese). Text is cut into
  * runs by the first subset that has each character, so names typed in Polish,
  * Czech, Turkish, Russian, Greek or Vietnamese print as typed. Characters no
- * subset has (CJK, for one) fall back to the Latin face: a few signs are
- * spelled out (SPELLED), anything else prints as "?" rather than vanishing.
+ * subset has (CJK, for one) keep the fallback of the Latin-only days: a
+ * few signs are spelled out (SPELLED: ≈ ≥ ≤ → ←), anything else prints as
+ * "?", so nothing vanishes and nothing throws.
+ *
+ * Text of more than one run is broken into lines here (`layoutRuns`), not by
+ * pdfkit: pdfkit wraps each `continued` fragment on its own and may break a
+ * word where its letters change subset ("Łą|ka"), and its `heightOfString`
+ * measures one font only. Measuring (`heightOfRuns`) and drawing
+ * (`writeRuns`) use the same lines, so table rows fit their text.
  *
  * Fonts are decompressed once per thread (woff.ts) and their coverage read
  * with fontkit (the font engine pdfkit itself uses).
@@ -43,8 +50,12 @@ function fontOf(subset: Subset): fontkit.Font {
 export const covers = (subset: Subset, cp: number) => fontOf(subset).hasGlyphForCodePoint(cp);
 
 const SUPER: Record<string, string> = { '⁰': '0', '¹': '1', '²': '2', '³': '3', '⁴': '4', '⁵': '5', '⁶': '6', '⁷': '7', '⁸': '8', '⁹': '9', '⁻': '-' };
-/** Signs spelled out in plain letters (kept so the report reads the same whatever the subsets hold). */
-export const SPELLED: Record<string, string> = { '≈': '~', '≥': '>=', '≤': '<=', '→': '->', '←': '<-', 'θ': 'theta', 'Δ': 'delta', 'Σ': 'sum', 'μ': 'u', '…': '...' };
+/**
+ * Signs the report's own wording uses that no subset has, spelled out in
+ * plain letters. Only a fallback: a character some subset has is printed as
+ * typed (θ, Δ, Σ, μ are in the Greek subset, so a name in Greek keeps them).
+ */
+export const SPELLED: Record<string, string> = { '≈': '~', '≥': '>=', '≤': '<=', '→': '->', '←': '<-' };
 
 export interface Run {
   subset: Subset;
@@ -53,11 +64,15 @@ export interface Run {
 
 /**
  * Text as runs of one subset each: "× 10⁹" → "× 10^9" first (², ³ in units
- * stay), SPELLED signs spelled out, each other character in the first subset
- * that has it; white space no subset has becomes a space, anything else "?".
+ * stay), then each character in the first subset that has it (white space
+ * stays in the run it follows: every subset has the space). A character no
+ * subset has keeps the fallback of the Latin-only font: a SPELLED sign is
+ * spelled out, white space becomes a space, anything else "?".
+ * Composed first (NFC), so a name typed as letter + combining accent finds
+ * its precomposed letter.
  */
 export function pdfRuns(s: string): Run[] {
-  const t = s.replace(/10([⁰¹²³⁴⁵⁶⁷⁸⁹⁻]+)/g, (_m, e: string) => `10^${[...e].map((c) => SUPER[c]).join('')}`);
+  const t = s.normalize('NFC').replace(/10([⁰¹²³⁴⁵⁶⁷⁸⁹⁻]+)/g, (_m, e: string) => `10^${[...e].map((c) => SUPER[c]).join('')}`);
   const runs: Run[] = [];
   const push = (subset: Subset, text: string) => {
     const last = runs[runs.length - 1];
@@ -66,35 +81,179 @@ export function pdfRuns(s: string): Run[] {
   };
   for (const ch of t) {
     const cp = ch.codePointAt(0)!;
-    if (cp < 0x80) push('latin', ch);
-    else if (ch in SPELLED) push('latin', SPELLED[ch]);
+    const current = runs[runs.length - 1]?.subset;
+    if (current && (ch === ' ' || ch === '\u00a0') && covers(current, cp)) push(current, ch);
+    else if (cp < 0x80) push('latin', ch);
     else {
       const subset = SUBSETS.find((sub) => covers(sub, cp));
       if (subset) push(subset, ch);
-      else push('latin', /\s/.test(ch) ? ' ' : '?');
+      else push('latin', SPELLED[ch] ?? (/\s/.test(ch) ? ' ' : '?'));
     }
   }
   return runs.length ? runs : [{ subset: 'latin', text: '' }];
 }
 
-/** The text as the PDF will show it, in one string (for single-font places and for measuring). */
+/** The text as the PDF will show it, in one string (for single-font places and for tests). */
 export const pdfText = (s: string): string =>
   pdfRuns(s)
     .map((r) => r.text)
     .join('');
 
+/** A run's text on one line, with its width at the document's font size. */
+export interface Piece extends Run {
+  width: number;
+}
+/** One line: its pieces, and its width without trailing white space. */
+export interface RunLine {
+  pieces: Piece[];
+  width: number;
+}
+
+/** What lines are laid out 1/1000 pt narrower than asked, so pdfkit never wraps a piece again over rounding. */
+const SLACK = 1e-3;
+
+type Cell = { subset: Subset; ch: string };
+
+/** The pieces of a row of characters, adjacent characters of one subset together, measured in `face`. */
+function piecesOf(doc: PDFKit.PDFDocument, face: Face, cells: Cell[]): RunLine {
+  const pieces: Piece[] = [];
+  for (const c of cells) {
+    const last = pieces[pieces.length - 1];
+    if (last && last.subset === c.subset) last.text += c.ch;
+    else pieces.push({ subset: c.subset, text: c.ch, width: 0 });
+  }
+  let width = 0;
+  for (const p of pieces) width += p.width = doc.font(fontName(face, p.subset)).widthOfString(p.text);
+  return { pieces, width };
+}
+
+const isSpace = (ch: string) => ch === ' ' || ch === '\u00a0' || ch === '\t';
+const trimEnd = (cells: Cell[]) => {
+  let n = cells.length;
+  while (n && isSpace(cells[n - 1].ch)) n--;
+  return cells.slice(0, n);
+};
+
+/**
+ * Words of one paragraph: each ends after its trailing spaces, or after a
+ * hyphen followed by a letter ("Ωμέγα-|Łęg"); a hyphen before a digit stays
+ * ("Ω-2"), as in Unicode's line breaking rules.
+ */
+function wordsOf(cells: Cell[]): Cell[][] {
+  const words: Cell[][] = [];
+  let word: Cell[] = [];
+  cells.forEach((c, i) => {
+    word.push(c);
+    const next = cells[i + 1]?.ch;
+    if (next === undefined) return;
+    const spaceEnds = isSpace(c.ch) && !isSpace(next);
+    const hyphenEnds = (c.ch === '-' || c.ch === '\u2010') && /\p{L}/u.test(next) && word.length > 1;
+    if (spaceEnds || hyphenEnds) {
+      words.push(word);
+      word = [];
+    }
+  });
+  if (word.length) words.push(word);
+  return words;
+}
+
+/**
+ * `text` in `face` at the document's font size broken into lines no wider
+ * than `width`: at the ends of words (white space counted as pdfkit counts
+ * it, with the word before it), at hard line breaks, and inside a word only
+ * when the word alone is wider than the line. Trailing white space is dropped.
+ * Leaves the face's Latin font selected.
+ */
+export function layoutRuns(doc: PDFKit.PDFDocument, face: Face, text: string, width: number): RunLine[] {
+  const room = width - SLACK;
+  const measure = (cells: Cell[]) => piecesOf(doc, face, cells).width;
+  const lines: RunLine[] = [];
+  const cells: Cell[][] = [[]];
+  for (const r of pdfRuns(text)) for (const ch of r.text) {
+    if (ch === '\n') cells.push([]);
+    else if (ch !== '\r') cells[cells.length - 1].push({ subset: r.subset, ch });
+  }
+  for (const paragraph of cells) {
+    let line: Cell[] = [];
+    let lineWidth = 0;
+    const flush = () => {
+      lines.push(piecesOf(doc, face, trimEnd(line)));
+      line = [];
+      lineWidth = 0;
+    };
+    for (let word of wordsOf(paragraph)) {
+      let w = measure(word);
+      if (line.length && lineWidth + w > room) flush();
+      // a word wider than the whole line: as many characters as fit on each line (at least one), as pdfkit does
+      let bare = trimEnd(word);
+      while (!line.length && bare.length > 1 && measure(bare) > room) {
+        let lo = 1;
+        let hi = bare.length - 1;
+        while (lo < hi) {
+          const mid = Math.ceil((lo + hi) / 2);
+          if (measure(bare.slice(0, mid)) <= room) lo = mid;
+          else hi = mid - 1;
+        }
+        line = word.slice(0, lo);
+        flush();
+        word = word.slice(lo);
+        bare = trimEnd(word);
+        w = measure(word);
+      }
+      line.push(...word);
+      lineWidth += w;
+    }
+    flush();
+  }
+  doc.font(face);
+  return lines;
+}
+
+/** Options `writeRuns` and `heightOfRuns` honour (the report uses no others). */
+export type RunOptions = Pick<PDFKit.Mixins.TextOptions, 'width' | 'lineGap' | 'lineBreak'>;
+
+const widthAt = (doc: PDFKit.PDFDocument, x: number, options: RunOptions) => options.width ?? doc.page.width - x - doc.page.margins.right;
+
+/**
+ * The height `writeRuns` takes for `text` (pdfkit's `heightOfString` when the
+ * text is one run, in that run's font). Leaves the face's Latin font selected.
+ */
+export function heightOfRuns(doc: PDFKit.PDFDocument, face: Face, text: string, options: RunOptions = {}): number {
+  const runs = pdfRuns(text);
+  if (runs.length === 1) {
+    const h = doc.font(fontName(face, runs[0].subset)).heightOfString(runs[0].text, options);
+    doc.font(face);
+    return h;
+  }
+  const lines = layoutRuns(doc, face, text, widthAt(doc, doc.x, options));
+  return lines.length * (doc.currentLineHeight(true) + (options.lineGap ?? 0));
+}
+
 /**
  * Write `text` with `face` at (x, y), or where the document's cursor is, in
- * runs of one subset each (pdfkit's `continued` keeps one line box, so lines
- * wrap and align as for one string). Leaves the face's Latin font selected.
+ * runs of one subset each. One run is one `doc.text` call as ever; more are
+ * laid out by `layoutRuns` and each line written as pieces joined by
+ * pdfkit's `continued`, so pdfkit still moves the cursor, starts new pages
+ * and embeds the subsets, but breaks lines only where `layoutRuns` did. The
+ * subsets' line metrics are the same, so a line is as high as in one font.
+ * Leaves the face's Latin font selected.
  */
-export function writeRuns(doc: PDFKit.PDFDocument, face: Face, text: string, at: { x: number; y: number } | null, options: PDFKit.Mixins.TextOptions = {}) {
+export function writeRuns(doc: PDFKit.PDFDocument, face: Face, text: string, at: { x: number; y: number } | null, options: RunOptions = {}) {
   const runs = pdfRuns(text);
-  runs.forEach((r, i) => {
-    doc.font(fontName(face, r.subset));
-    const o = { ...options, continued: i < runs.length - 1 };
-    if (i === 0 && at) doc.text(r.text, at.x, at.y, o);
-    else doc.text(r.text, o);
-  });
+  const draw = (s: string, o: PDFKit.Mixins.TextOptions, first: boolean) => (first && at ? doc.text(s, at.x, at.y, o) : doc.text(s, o));
+  if (runs.length === 1) {
+    doc.font(fontName(face, runs[0].subset));
+    draw(runs[0].text, options, true);
+  } else {
+    const width = widthAt(doc, at?.x ?? doc.x, options);
+    layoutRuns(doc, face, text, width).forEach((line, li) => {
+      // an empty line (two hard breaks in a row) still takes its height, as in pdfkit
+      const pieces = line.pieces.length ? line.pieces : [{ subset: 'latin' as const, text: ' ', width: 0 }];
+      pieces.forEach((p, pi) => {
+        doc.font(fontName(face, p.subset));
+        draw(p.text, { ...options, width, continued: pi < pieces.length - 1 }, li === 0 && pi === 0);
+      });
+    });
+  }
   doc.font(face);
 }

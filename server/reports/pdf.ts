@@ -9,15 +9,16 @@
  *
  * Fonts: IBM Plex Sans from the app's own @fontsource package, every script
  * subset of it (pdf-fonts.ts), embedded as subsets; text is written in runs of
- * one subset each, so names in Latin, Cyrillic, Greek or Vietnamese letters
- * print as typed. A few signs the number wording uses (≈, ≥, superscript
+ * one subset each and broken into lines by pdf-fonts.ts (`writeRuns`, measured
+ * with `heightOfRuns`), so names in Latin, Cyrillic, Greek or Vietnamese
+ * letters print as typed. A few signs no subset has (≈, ≥, superscript
  * digits other than ¹²³) are spelled out (`pdfText`).
  */
 import fs from 'node:fs';
 import PDFDocument from 'pdfkit';
 import SVGtoPDF from 'svg-to-pdfkit';
 import * as echarts from 'echarts';
-import { pdfText, registerFaces, writeRuns, type Face } from './pdf-fonts';
+import { heightOfRuns, registerFaces, writeRuns, type Face, type RunOptions } from './pdf-fonts';
 import { HOUSE_PALETTE } from '../../shared/palette';
 import { reportPlots } from '../../shared/report/plots';
 import {
@@ -98,7 +99,7 @@ export async function writeReportPdf(input: PdfInput, file: string): Promise<{ p
   registerFaces(doc);
   doc.font('plex');
   /** Text in runs of one script subset each (user-typed names in any script the fonts cover). */
-  const write = (face: Face, text: string, at: { x: number; y: number } | null, options: PDFKit.Mixins.TextOptions = {}) => writeRuns(doc, face, text, at, options);
+  const write = (face: Face, text: string, at: { x: number; y: number } | null, options: RunOptions = {}) => writeRuns(doc, face, text, at, options);
   // collected in memory (a few hundred KiB) and written once: pdfkit emits thousands of small chunks, and a file stream pays a thread-pool round trip for each
   const chunks: Buffer[] = [];
   doc.on('data', (c: Buffer) => chunks.push(c));
@@ -137,7 +138,8 @@ export async function writeReportPdf(input: PdfInput, file: string): Promise<{ p
     }
     const rowHeight = (cells: string[], font: Face) => {
       doc.font(font).fontSize(fontSize);
-      return Math.max(...cells.map((c, i) => doc.heightOfString(pdfText(c), { width: widths[i] * W - 4 }))) + 4;
+      // measured in the same runs and lines as drawn, so a cell in several scripts fits its row
+      return Math.max(...cells.map((c, i) => heightOfRuns(doc, font, c, { width: widths[i] * W - 4 }))) + 4;
     };
     const drawRow = (cells: string[], font: Face, fill: string | null) => {
       const h = rowHeight(cells, font);
@@ -296,7 +298,7 @@ export async function writeReportPdf(input: PdfInput, file: string): Promise<{ p
   ensure(40);
   const cy = doc.y;
   doc.font('plex').fontSize(9);
-  const ch = doc.heightOfString(pdfText(report.caution), { width: W - 16 }) + 12;
+  const ch = heightOfRuns(doc, 'plex', report.caution, { width: W - 16 }) + 12;
   doc.rect(MARGIN, cy, W, ch).fill(HOUSE_PALETTE.sandSoft);
   doc.fillColor(INK);
   write('plex', report.caution, { x: MARGIN + 8, y: cy + 6 }, { width: W - 16 });

@@ -355,8 +355,8 @@ describe('PDF, PNG and SVG through the report job', () => {
     // the height as the PDF writes it: one decimal, thin-space thousands
     const h = m.heightM.toFixed(1).replace(/\B(?=(\d{3})+(?!\d))/g, '\u2009').replace(/\s/g, ' ');
     expect(text.replace(/\s+/g, ' ')).toContain(`Height ${h} m`);
-    // signs the embedded Latin subset lacks are spelled out, never silently dropped
-    expect(text).toContain('tan theta');
+    // Greek letters print from the Greek subset; signs no subset has are spelled out, never silently dropped
+    expect(text).toContain('tan θ');
     expect(text).toMatch(/surface -> drowned/);
     expect(text.replace(/\s+/g, ' ')).toContain(CAUTION.replace(/\s+/g, ' '));
     expect(text).toMatch(/Page 1 of \d+/);

@@ -1,8 +1,8 @@
 /**
  * Pure helpers of the buildup report (shared/report/, server/reports/pdf.ts):
  * crop window and drawn size, VE wording, SVG escaping of the overlay, file
- * names, the CSV table's headers and units, and the PDF's text for the
- * embedded Latin font subset.
+ * names, the CSV table's headers and units, and the PDF's text for signs
+ * no font subset has.
  */
 import { describe, expect, it } from 'vitest';
 import { clampStretch, cropWindow, drawnSize, formatVE, overlaySvg, xmlEscape } from '../../../shared/report/overlay';
@@ -95,11 +95,11 @@ describe('trajectory class bands', () => {
 });
 
 describe('PDF text', () => {
-  it('spells out signs the Latin subset lacks and keeps the ones it has', () => {
+  it('spells out signs no font subset has and keeps the ones a subset has', () => {
     expect(pdfText('1.2 × 10⁹ m³')).toBe('1.2 × 10^9 m³');
     expect(pdfText('VE ≈ 2×')).toBe('VE ~ 2×');
     expect(pdfText('surface → drowned')).toBe('surface -> drowned');
-    expect(pdfText('tan θ')).toBe('tan theta');
+    expect(pdfText('tan θ')).toBe('tan θ');
     expect(pdfText('12.4° −3 m')).toBe('12.4° −3 m');
   });
 });
