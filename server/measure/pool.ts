@@ -65,18 +65,21 @@ export async function measureWithProfilesOffLoop(input: unknown, options?: unkno
   return { output: r.output, profiles: r.profiles ?? [] };
 }
 
-async function measureTaskOffLoop(task: MeasureTask): Promise<Extract<MeasureReply, { ok: true }>> {
-  let reply: MeasureReply;
+/** One task on the pool (`name`: the worker entry's export; the default is the engine), counted in the stats; a full queue answers 503 `measure_busy`. */
+async function runOnPool<R>(task: unknown, name: string | undefined, busy: string): Promise<R> {
   stats.started++;
   try {
-    reply = await thePool().run(task);
+    return (await thePool().run(task, name ? { name } : undefined)) as R;
   } catch (e) {
-    if (e instanceof Error && /queue is at limit/i.test(e.message))
-      throw new AppError(503, 'measure_busy', 'The server is busy with other measurements; try again in a moment');
+    if (e instanceof Error && /queue is at limit/i.test(e.message)) throw new AppError(503, 'measure_busy', busy);
     throw e;
   } finally {
     stats.finished++;
   }
+}
+
+async function measureTaskOffLoop(task: MeasureTask): Promise<Extract<MeasureReply, { ok: true }>> {
+  const reply = await runOnPool<MeasureReply>(task, undefined, 'The server is busy with other measurements; try again in a moment');
   if (!reply.ok) throw reviveError(reply.error);
   return reply;
 }
@@ -86,16 +89,7 @@ async function measureTaskOffLoop(task: MeasureTask): Promise<Extract<MeasureRep
  * bound as the engine). An AppError thrown there comes back as one here.
  */
 export async function importCheckOffLoop(task: ImportCheckTask): Promise<Extract<ImportCheckReply, { ok: true }>> {
-  let reply: ImportCheckReply;
-  stats.started++;
-  try {
-    reply = await thePool().run(task, { name: 'importCheck' });
-  } catch (e) {
-    if (e instanceof Error && /queue is at limit/i.test(e.message)) throw new AppError(503, 'measure_busy', 'The server is busy; try the import again in a moment');
-    throw e;
-  } finally {
-    stats.finished++;
-  }
+  const reply = await runOnPool<ImportCheckReply>(task, 'importCheck', 'The server is busy; try the import again in a moment');
   if (!reply.ok) throw new AppError(reply.error.status, reply.error.code, reply.error.message, reply.error.details);
   return reply;
 }

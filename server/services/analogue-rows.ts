@@ -13,6 +13,8 @@ import { icsUnit } from '../../shared/ics-chart';
 import {
   METRIC_KEYS,
   type AnalogueDetail,
+  type Facet,
+  type FacetCount,
   type AnalogueSummary,
   type Citation,
   type MetricKey,
@@ -153,7 +155,13 @@ export function invalid(status: number, code: string, path: string, message: str
 /** Search answers as sent (JSON text and entity tag), by library generation and query. */
 export const searchCache = new LRUCache<string, { json: string; etag: string }>({ max: 500 });
 /** Facet counts and totals by library generation and filters alone (sort and page left out): paging or re-sorting a search does not count again. */
-export const facetCache = new LRUCache<string, { facets: Partial<Record<string, { value: string; count: number }[]>>; total: number }>({ max: 500 });
+export const facetCache = new LRUCache<string, FacetTotals>({ max: 500 });
+
+/** Facet counts per facet and the total of a search's filters. */
+export interface FacetTotals {
+  facets: Partial<Record<Facet, FacetCount[]>>;
+  total: number;
+}
 
 /**
  * How long this process trusts the library generation it last read. Changes

@@ -25,6 +25,7 @@ import {
   toSummary,
   searchCache,
   facetCache,
+  type FacetTotals,
   generation,
   db,
   normTags,
@@ -140,7 +141,7 @@ export function facetCountsSql(q: Filter): { sql: string; bind: unknown[] } {
   return { sql, bind: b.values };
 }
 
-async function facetCounts(q: AnalogueSearchQuery): Promise<{ facets: Partial<Record<Facet, FacetCount[]>>; total: number }> {
+async function facetCounts(q: AnalogueSearchQuery): Promise<FacetTotals> {
   const active = activeFacets(q);
   const { sql, bind } = facetCountsSql(q);
   const all = await db().query<Row>(sql, { bind, type: QueryTypes.SELECT });
@@ -177,14 +178,10 @@ function body(out: AnalogueSearchResponse): SearchBody {
   return { json, etag: `W/"${crypto.createHash('sha1').update(json).digest('base64url')}"` };
 }
 
-export async function search(actor: Actor, q: AnalogueSearchQuery): Promise<AnalogueSearchResponse> {
-  return JSON.parse((await searchBody(actor, q)).json) as AnalogueSearchResponse;
-}
-
 /** Facet counts in flight, by the facet cache's key: requests that ask for the same counts at once share one statement. */
-const counting = new Map<string, Promise<{ facets: Partial<Record<Facet, FacetCount[]>>; total: number }>>();
+const counting = new Map<string, Promise<FacetTotals>>();
 
-function countedOnce(key: string, count: () => Promise<{ facets: Partial<Record<Facet, FacetCount[]>>; total: number }>) {
+function countedOnce(key: string, count: () => Promise<FacetTotals>) {
   const cached = facetCache.get(key);
   if (cached) return Promise.resolve(cached);
   let p = counting.get(key);

@@ -15,6 +15,7 @@ import { Section, SectionCalibration } from '../../server/models/section';
 import { measure, MeasureInputError } from '../../shared/measure/index';
 import { MEASURE_MAX_BUILDUPS, MEASURE_WORK_BUDGET } from '../../shared/schemas/measure-limits';
 import { closeMeasurePool, measurePoolStats, measureThreads } from '../../server/measure/pool';
+import { healthWhileHeavy } from '../helpers/off-loop';
 import { ROOT_DIR } from '../../server/config';
 import fixture from '../fixtures/synthetic/tb-11-kestrel-knoll.json';
 
@@ -136,22 +137,8 @@ describe('POST /api/measure: work budget', () => {
     const tok = await t.token('reviewer');
     const many = copies(20);
     const draws = Math.floor(MEASURE_WORK_BUDGET / perDraw(many)); // the largest this input may ask for
-    const order: string[] = [];
-    const before = measurePoolStats().started;
-    const heavy = request(t.app)
-      .post('/api/measure')
-      .set(bearer(tok))
-      .send({ interpretation: many, options: { draws } })
-      .then((r) => {
-        order.push('heavy');
-        return r;
-      });
-    // wait until the server has handed the heavy task on (or, were it run on the loop, has answered it)
-    while (measurePoolStats().started === before && order.length === 0) await new Promise((r) => setTimeout(r, 5));
-    const health = await request(t.app).get('/api/health');
-    order.push('health');
+    const { order, heavy: h, health } = await healthWhileHeavy(t.app, () => request(t.app).post('/api/measure').set(bearer(tok)).send({ interpretation: many, options: { draws } }));
     expect(health.status).toBe(200);
-    const h = await heavy;
     expect(h.status).toBe(200);
     expect(order).toEqual(['health', 'heavy']);
     expect(h.body).toEqual(JSON.parse(JSON.stringify(measure(many, { draws }))));
