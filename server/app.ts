@@ -11,6 +11,7 @@ import { initModels } from './models/index';
 import { configurePassport } from './middlewares/auth';
 import { apiNotFound, errorHandler } from './middlewares/errors';
 import { requestId } from './middlewares/request-id';
+import { byFirstSegment } from './routes/first-segment';
 import { defaultJsonBody } from './middlewares/body';
 import { healthRoutes } from './routes/health.routes';
 import { openApiRoutes } from './routes/openapi.routes';
@@ -31,16 +32,20 @@ import { depthViewRoutes } from './routes/depth-view.routes';
 import { analogueRoutes } from './routes/analogue.routes';
 import { accountRoutes, notificationRoutes, outboxRoutes } from './routes/notification.routes';
 import type { Mailer } from './mail/mailer';
+import { forgetOnWrites, type SessionCache } from './services/session-cache';
+import { AuthSession, User } from './models/index';
 
 export interface AppDeps {
   config: Config;
   sequelize: Sequelize;
   mailer: Mailer;
+  sessions?: SessionCache;
 }
 
 export function createApp(deps: AppDeps) {
   setContext(deps);
   initModels(deps.sequelize);
+  if (deps.sessions) forgetOnWrites(deps.sessions, [User, AuthSession]);
   const app = express();
   app.set('trust proxy', deps.config.trustProxy);
   app.disable('x-powered-by');
@@ -57,28 +62,28 @@ export function createApp(deps: AppDeps) {
   );
   // small JSON bodies by default; routes taking large ones parse them after requireAuth (middlewares/body.ts)
   app.use('/api', defaultJsonBody(app, deps.config));
-  app.use(configurePassport(deps.config.jwtSecret));
+  configurePassport(deps.config.jwtSecret);
 
   app.use('/api/health', healthRoutes());
   app.use('/api/auth', authRoutes(deps.config));
   app.use('/api/users', userRoutes());
-  app.use('/api', sectionRoutes(deps.config));
-  app.use('/api', segyRoutes(deps.config));
-  app.use('/api', calibrationRoutes());
-  app.use('/api', velocityRoutes());
-  app.use('/api', depthViewRoutes());
+  app.use('/api', byFirstSegment(sectionRoutes(deps.config)));
+  app.use('/api', byFirstSegment(segyRoutes(deps.config)));
+  app.use('/api', byFirstSegment(calibrationRoutes()));
+  app.use('/api', byFirstSegment(velocityRoutes()));
+  app.use('/api', byFirstSegment(depthViewRoutes()));
   app.use('/api/projects', projectRoutes());
-  app.use('/api', buildupRoutes());
-  app.use('/api', analogueRoutes());
-  app.use('/api', reportRoutes());
-  app.use('/api', registerRoutes());
-  app.use('/api', noteRoutes());
-  app.use('/api', reviewRoutes());
-  app.use('/api', modelRunRoutes());
+  app.use('/api', byFirstSegment(buildupRoutes()));
+  app.use('/api', byFirstSegment(analogueRoutes()));
+  app.use('/api', byFirstSegment(reportRoutes()));
+  app.use('/api', byFirstSegment(registerRoutes()));
+  app.use('/api', byFirstSegment(noteRoutes()));
+  app.use('/api', byFirstSegment(reviewRoutes()));
+  app.use('/api', byFirstSegment(modelRunRoutes()));
   app.use('/api/notifications', notificationRoutes());
   app.use('/api/account', accountRoutes());
   app.use('/api/admin/mail', outboxRoutes());
-  app.use('/api', openApiRoutes());
+  app.use('/api', byFirstSegment(openApiRoutes()));
   app.use('/api', apiNotFound);
 
   // CAYLINE_CLIENT_DIR: serve a client build from elsewhere (parallel end-to-end runs build into their own folder)

@@ -5,11 +5,14 @@
 import type { Sequelize } from 'sequelize';
 import type { Config } from './config';
 import type { Mailer } from './mail/mailer';
+import type { SessionCache } from './services/session-cache';
 
 export interface AppContext {
   config: Config;
   sequelize: Sequelize;
   mailer: Mailer;
+  /** Sessions checked a moment ago (kept in step by a LISTEN connection); absent: every request asks PostgreSQL. */
+  sessions?: SessionCache;
 }
 
 let current: AppContext | null = null;

@@ -16,6 +16,7 @@ import { mailSettled } from './services/notify.service';
 import { logger } from './logger';
 import { startBackgroundJobs } from './jobs/pyramid.job';
 import { closeMeasurePool } from './measure/pool';
+import { watchSessions } from './services/session-cache';
 import { fileStoreFor } from './storage/fileStore';
 import { closeReportPdfThread } from './reports/pdf-thread';
 
@@ -50,7 +51,8 @@ export async function boot(opts: BootOptions): Promise<Running> {
     smtpPort = sink.port;
   }
   const mailer = createMailer({ host: smtpHost, port: smtpPort, from: config.mail.from });
-  const app = createApp({ config, sequelize, mailer });
+  const sessionWatch = watchSessions(opts.databaseUrl);
+  const app = createApp({ config, sequelize, mailer, sessions: sessionWatch.cache });
   if (sink) await importSinkBacklog(fileStoreFor(config.storageDir));
   const jobs = await startBackgroundJobs({ databaseUrl: opts.databaseUrl, config, sequelize });
   if (opts.afterMigrate) await opts.afterMigrate({ sequelize, config });
@@ -77,6 +79,7 @@ export async function boot(opts: BootOptions): Promise<Running> {
     async close() {
       if (server) await new Promise<void>((r) => server!.close(() => r()));
       await jobs.stop();
+      await sessionWatch.close();
       await mailSettled();
       await closeMeasurePool();
       await closeReportPdfThread();

@@ -2,6 +2,7 @@ import passport from 'passport';
 import { Strategy as JwtStrategy, ExtractJwt } from 'passport-jwt';
 import type { RequestHandler } from 'express';
 import { AppError } from '../errors';
+import { ctx } from '../context';
 import { JWT_ALGORITHM, jwtKey, userForPayload, type TokenPayload } from '../services/auth.service';
 import type { User } from '../models/index';
 import type { Role } from '../../shared/schemas/auth';
@@ -16,11 +17,15 @@ declare global {
   }
 }
 
+/** The bearer token of a request, as passport-jwt reads it. */
+const bearerToken = ExtractJwt.fromAuthHeaderAsBearerToken();
+
+/** Register the JWT strategy (passport 0.7 needs no `initialize()` middleware for session-less strategies). */
 export function configurePassport(secret: string) {
   passport.use(
     new JwtStrategy(
       {
-        jwtFromRequest: ExtractJwt.fromAuthHeaderAsBearerToken(),
+        jwtFromRequest: bearerToken,
         secretOrKey: jwtKey(secret) as unknown as string, // passport-jwt hands it to jsonwebtoken, which takes a KeyObject
         algorithms: [JWT_ALGORITHM],
         passReqToCallback: true,
@@ -30,21 +35,38 @@ export function configurePassport(secret: string) {
           .then((user) => {
             if (!user) return done(null, false);
             req.sessionId = payload.sid;
+            req.tokenExpiresAt = (payload.exp ?? 0) * 1000;
             done(null, user);
           })
           .catch(done);
       },
     ),
   );
-  return passport.initialize();
 }
 
-/** Require a signed-in user (a valid, unrevoked token of an active account). */
+/**
+ * Require a signed-in user (a valid, unrevoked token of an active account).
+ * A token verified a moment ago is answered from the process's session cache
+ * (server/services/session-cache.ts: emptied by NOTIFY on every session or
+ * account change, used only while that listener is connected); any other
+ * goes through passport-jwt and PostgreSQL.
+ */
 export const requireAuth: RequestHandler = (req, res, next) => {
+  const sessions = ctx().sessions;
+  const token = sessions?.active ? bearerToken(req) : null;
+  const kept = token ? sessions!.lookup(token) : undefined;
+  if (kept) {
+    req.user = kept.user as unknown as Express.User;
+    (req as unknown as { sessionId: string }).sessionId = kept.sid;
+    return next();
+  }
+  const ticket = sessions?.ticket() ?? 0;
   passport.authenticate('jwt', { session: false }, (err: unknown, user: User | false) => {
     if (err) return next(err);
     if (!user) return next(new AppError(401, 'unauthorized', 'Sign in first (the token is missing, expired or signed out)'));
     req.user = user as unknown as Express.User;
+    const r = req as unknown as { sessionId: string; tokenExpiresAt: number };
+    if (token && sessions) sessions.remember(token, { user, sid: r.sessionId, expiresAt: r.tokenExpiresAt }, ticket);
     next();
   })(req, res, next);
 };

@@ -15,6 +15,8 @@ export interface TokenPayload {
   sub: string;
   sid: string;
   role: string;
+  /** Expiry (seconds since the epoch), set by jsonwebtoken. */
+  exp?: number;
 }
 
 // A fixed hash to compare against when the e-mail is unknown, so timing does not tell which part was wrong.

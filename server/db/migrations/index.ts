@@ -18,6 +18,7 @@ import * as m0012 from './0012-segy';
 import * as m0013 from './0013-model-runs';
 import * as m0014 from './0014-depth-pyramids';
 import * as m0015 from './0015-rate-limits';
+import * as m0016 from './0016-auth-change-notify';
 
 export interface Migration {
   name: string;
@@ -41,4 +42,5 @@ export const migrations: Migration[] = [
   { name: '0013-model-runs', ...m0013 },
   { name: '0014-depth-pyramids', ...m0014 },
   { name: '0015-rate-limits', ...m0015 },
+  { name: '0016-auth-change-notify', ...m0016 },
 ];
