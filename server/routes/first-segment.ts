@@ -35,14 +35,23 @@ export function firstSegments(router: Router): Set<string> | null {
   return out;
 }
 
+/** The lower-cased first segment of a request URL relative to the mount (`/analogues/12?x=1` → `analogues`), read without parsing the URL. */
+export function firstSegmentOf(url: string): string {
+  let end = 1;
+  while (end < url.length) {
+    const c = url.charCodeAt(end);
+    if (c === 47 /* / */ || c === 63 /* ? */ || c === 35 /* # */) break;
+    end++;
+  }
+  return url.slice(1, end).toLowerCase();
+}
+
 /** The router behind a guard that skips it for requests none of its routes can match. */
 export function byFirstSegment(router: Router): RequestHandler {
   const segs = firstSegments(router);
   if (!segs) return router;
   const guard: RequestHandler = (req, res, next) => {
-    const p = req.path;
-    const end = p.indexOf('/', 1);
-    const seg = (end < 0 ? p.slice(1) : p.slice(1, end)).toLowerCase();
+    const seg = firstSegmentOf(req.url);
     if (!segs.has(seg)) return next();
     router(req, res, next);
   };

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import express, { Router } from 'express';
 import request from 'supertest';
-import { byFirstSegment, firstSegments } from '../../server/routes/first-segment';
+import { byFirstSegment, firstSegmentOf, firstSegments } from '../../server/routes/first-segment';
 import { routeTable } from '../../server/openapi/route-table';
 
 function sample() {
@@ -18,6 +18,15 @@ describe('routers entered by first path segment', () => {
     r.get('/Alpha/x', (_q, s) => s.end());
     r.get('/beta', (_q, s) => s.end());
     expect([...firstSegments(r)!].sort()).toEqual(['alpha', 'beta']);
+  });
+
+  it('reads the first segment of a URL without parsing it', () => {
+    expect(firstSegmentOf('/analogues')).toBe('analogues');
+    expect(firstSegmentOf('/Analogues/12/crop')).toBe('analogues');
+    expect(firstSegmentOf('/analogues?r.heightM=60..250')).toBe('analogues');
+    expect(firstSegmentOf('/analogues#x')).toBe('analogues');
+    expect(firstSegmentOf('/')).toBe('');
+    expect(firstSegmentOf('/?q=1')).toBe('');
   });
 
   it('always enters a router with a parameter first, a pattern, or router-level middleware', () => {
