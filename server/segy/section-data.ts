@@ -99,6 +99,9 @@ export async function readWindow(
   return rows;
 }
 
+/** Floats in one batch read of consecutive traces (4 MiB). */
+const BATCH_FLOATS = 1 << 20;
+
 export interface RenderInput {
   /** Local path of the upload's amplitudes (FileStore.localCopy). */
   amplitudesPath: string;
@@ -116,39 +119,60 @@ export interface RenderInput {
  * Open the amplitudes and give (1) the clip value, from a first pass over the
  * section's samples (after AGC when on) into the |amplitude| histogram, and
  * (2) a strip source that renders rows through the ramp. Close with `close()`.
- * Memory: one trace (4·ns bytes plus its AGC copy), one strip of 8-bit pixels
+ * Memory: one batch of consecutive traces (at most 4 MiB, or one trace when
+ * a trace is longer), its AGC copy, one strip of 8-bit pixels
  * (width × 512 × channels) and the 2 MiB histogram.
+ *
+ * Reads: the section's traces that lie next to each other in the file (a 2D
+ * line, an inline) are read together, as many as fit the batch, in one
+ * positional read per batch — one read per trace and strip was most of a
+ * render's time. A crossline's traces are apart in the file and are read
+ * one by one.
  */
 export async function openRender(input: RenderInput): Promise<{ clip: number; strips: StripSource; close(): Promise<void> }> {
   const { ns, selection, width, settings } = input;
-  // Positional reads are synchronous (a few µs each against tens for the promise API, one per trace and strip);
-  // the loop yields to the event loop every YIELD_EVERY traces so the process keeps answering.
+  // Positional reads are synchronous (a few µs each against tens for the promise API);
+  // the loops yield to the event loop every YIELD_EVERY traces so the process keeps answering.
   const fd = fs.openSync(input.amplitudesPath, 'r');
   const YIELD_EVERY = 512;
   try {
     const fileTrace = (i: number) => (selection ? selection[i] : i);
     const win = settings.agcMs != null && input.intervalMs ? agcWindowSamples(settings.agcMs, input.intervalMs) : 0;
     const half = win ? (win - 1) >> 1 : 0;
-    const traceBuf = Buffer.allocUnsafe(4 * ns);
-    const readTrace = (t: number, from: number, to: number): Float32Array => {
+    const batch = new Float32Array(Math.max(BATCH_FLOATS, ns)); // little-endian hosts (x86, arm64), as stored
+    const batchBytes = Buffer.from(batch.buffer);
+    /** `visit(i, x)` for every column i in order, x = samples [from, to) of its trace. */
+    const eachTrace = async (from: number, to: number, visit: (i: number, x: Float32Array) => void) => {
       const n = to - from;
-      const bytesRead = fs.readSync(fd, traceBuf, 0, 4 * n, 4 * (t * ns + from));
-      if (bytesRead !== 4 * n) throw new Error(`amplitudes: short read of trace ${t}`);
-      return new Float32Array(traceBuf.buffer, traceBuf.byteOffset, n); // little-endian hosts (x86, arm64)
+      const maxRun = 1 + Math.floor((batch.length - n) / ns);
+      let sinceYield = 0;
+      for (let i = 0; i < width; ) {
+        const t0 = fileTrace(i);
+        let run = 1;
+        while (run < maxRun && i + run < width && fileTrace(i + run) === t0 + run) run++;
+        const floats = (run - 1) * ns + n;
+        const bytesRead = fs.readSync(fd, batchBytes, 0, 4 * floats, 4 * (t0 * ns + from));
+        if (bytesRead !== 4 * floats) throw new Error(`amplitudes: short read of traces ${t0}–${t0 + run - 1}`);
+        for (let k = 0; k < run; k++) visit(i + k, batch.subarray(k * ns, k * ns + n));
+        i += run;
+        sinceYield += run;
+        if (sinceYield >= YIELD_EVERY && i < width) {
+          sinceYield = 0;
+          await yieldToLoop();
+        }
+      }
     };
 
     // pass 1: the clip value
     const hist = new AbsAmplitudeHistogram();
     const gained = new Float64Array(ns);
-    for (let i = 0; i < width; i++) {
-      if (i % YIELD_EVERY === YIELD_EVERY - 1) await yieldToLoop();
-      const x = readTrace(fileTrace(i), 0, ns);
+    await eachTrace(0, ns, (i, x) => {
       if (win) {
         agcInto(x, win, 0, ns, gained);
         hist.add(gained);
       } else hist.add(x);
       if (i % 256 === 0) input.onProgress?.((0.3 * i) / width);
-    }
+    });
     let clip = hist.percentile(settings.clipPercentile);
     if (!(clip > 0)) clip = hist.max > 0 ? hist.max : 1;
 
@@ -163,9 +187,7 @@ export async function openRender(input: RenderInput): Promise<{ clip: number; st
         const out = Buffer.allocUnsafe(width * rows * channels);
         const a = Math.max(0, y - half);
         const b = Math.min(ns, y + rows + half);
-        for (let i = 0; i < width; i++) {
-          if (i % YIELD_EVERY === YIELD_EVERY - 1) await yieldToLoop();
-          const x = readTrace(fileTrace(i), a, b);
+        await eachTrace(a, b, (i, x) => {
           let vals: ArrayLike<number> = x;
           let off = y - a;
           if (win) {
@@ -183,7 +205,7 @@ export async function openRender(input: RenderInput): Promise<{ clip: number; st
               out[o + 2] = lut[3 * idx + 2];
             }
           }
-        }
+        });
         return out;
       },
     };

@@ -158,4 +158,41 @@ describe('render pass over stored amplitudes', () => {
       fs.rmSync(dir, { recursive: true, force: true });
     }
   });
+
+  it('reads runs of neighbouring traces in batches and draws every column as a trace-by-trace reading would', async () => {
+    // 12,000 traces × 100 samples (4.8 MB): more than one 4 MiB batch, with a run broken by traces taken out of order
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-render-batch-'));
+    try {
+      const ns = 100;
+      const traces = 12_000;
+      const data = new Float32Array(traces * ns);
+      for (let t = 0; t < traces; t++) for (let k = 0; k < ns; k++) data[t * ns + k] = Math.sin(0.37 * k + 0.011 * t) * (1 + (t % 17)) * Math.exp(-k / 80);
+      const file = path.join(dir, 'a.f32');
+      fs.writeFileSync(file, new Uint8Array(data.buffer));
+      const order = [...Array.from({ length: 11_000 }, (_, i) => i), 11_500, 11_002, 11_003, 11_004, 0];
+      const selection = Uint32Array.from(order);
+      const width = order.length;
+      const { lut } = rampLut('grey');
+      for (const agcMs of [null, 44]) {
+        const r = await openRender({ amplitudesPath: file, ns, selection, width, settings: { ramp: 'grey', clipPercentile: 98, agcMs }, intervalMs: 4 });
+        try {
+          const y = 37;
+          const rows = 20;
+          const strip = await r.strips.readStrip(y, rows);
+          const win = agcMs ? agcWindowSamples(agcMs, 4) : 0;
+          let wrong = 0;
+          order.forEach((t, i) => {
+            const trace = data.subarray(t * ns, (t + 1) * ns);
+            const vals = win ? agc(trace, win) : trace;
+            for (let j = 0; j < rows; j++) if (strip[j * width + i] !== lut[rampIndex(vals[y + j], r.clip)]) wrong++;
+          });
+          expect(wrong).toBe(0);
+        } finally {
+          await r.close();
+        }
+      }
+    } finally {
+      fs.rmSync(dir, { recursive: true, force: true });
+    }
+  });
 });
