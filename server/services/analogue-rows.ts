@@ -156,6 +156,17 @@ export function invalid(status: number, code: string, path: string, message: str
 export const searchCache = new LRUCache<string, { json: string; etag: string }>({ max: 500 });
 /** Facet counts and totals by library generation and filters alone (sort and page left out): paging or re-sorting a search does not count again. */
 export const facetCache = new LRUCache<string, FacetTotals>({ max: 500 });
+/**
+ * Where each page served of a search ended (the last row's sort key as text and
+ * id), by library generation and the search without its page number: the
+ * next pages seek from the nearest known end instead of skipping every row
+ * before them (analogue-search.service.ts `listPage`).
+ */
+export const pageEnds = new LRUCache<string, Map<number, PageEnd>>({ max: 200 });
+export interface PageEnd {
+  key: string | null;
+  id: number;
+}
 
 /** Facet counts per facet and the total of a search's filters. */
 export interface FacetTotals {
@@ -177,6 +188,7 @@ export function forgetGeneration() {
   known = null;
   searchCache.clear();
   facetCache.clear();
+  pageEnds.clear();
 }
 
 export async function generation(): Promise<string> {

@@ -25,6 +25,8 @@ import {
   toSummary,
   searchCache,
   facetCache,
+  pageEnds,
+  type PageEnd,
   type FacetTotals,
   generation,
   db,
@@ -106,6 +108,97 @@ const SORT_SQL = (q: AnalogueSearchQuery, b: Binds): string => {
       return `${METRIC_COLUMN[q.sort as MetricKey]} ${dir} NULLS LAST, id`;
   }
 };
+
+/** A search's sort key: SQL, type, direction, and whether NULLs sort last; null when pages cannot seek (relevance ranking). */
+interface SortKey {
+  expr: string;
+  type: 'text' | 'timestamptz' | 'float8';
+  desc: boolean;
+  nullable: boolean;
+}
+function sortKeyOf(q: AnalogueSearchQuery): SortKey | null {
+  const desc = q.dir === 'desc';
+  switch (q.sort) {
+    case 'name':
+      return { expr: 'lower(name)', type: 'text', desc, nullable: false };
+    case 'updatedAt':
+      return { expr: 'updated_at', type: 'timestamptz', desc, nullable: false };
+    case 'ageMa':
+      return { expr: 'age_ma', type: 'float8', desc, nullable: true };
+    case 'relevance':
+      return q.q ? null : { expr: 'lower(name)', type: 'text', desc: false, nullable: false };
+    default:
+      return { expr: METRIC_COLUMN[q.sort as MetricKey], type: 'float8', desc, nullable: true };
+  }
+}
+
+/** Pages served by seeking from a known page end, and by OFFSET from the start (tests, benchmarks). */
+export const listPageStats = { seeks: 0, offsets: 0 };
+
+/** Most pages looked back for a known page end before skipping from the start. */
+const SEEK_LOOKBACK = 500;
+/** Most page ends kept per search. */
+const PAGE_ENDS_MAX = 20_000;
+
+/**
+ * One page of a search's rows. Page 1, a search ranked by relevance, or a page
+ * with no known page end in the `SEEK_LOOKBACK` pages before it: `LIMIT …
+ * OFFSET …`. Otherwise it seeks: rows after the nearest earlier page's end in
+ * the sort order — (key, id) after (k, i): key beyond k, or key = k and id
+ * greater; NULL keys last, then by id — with an index-usable bound on the key,
+ * and skips only the pages between. The end of every full page is kept, so
+ * paging forward costs about one page's rows each time. The first row count
+ * on the NULL boundary that cannot be told apart is left to OFFSET.
+ */
+async function listPage(q: AnalogueSearchQuery, where: string, b: Binds, endsKey: string): Promise<Row[]> {
+  const order = SORT_SQL(q, b);
+  const sk = sortKeyOf(q);
+  const keyCol = sk ? `, (${sk.expr})::text AS sort_key` : '';
+  const run = (extra: string, bind: unknown[], orderBy: string, offset: number) =>
+    db().query<Row>(`SELECT ${SUMMARY_COLUMNS}${keyCol} FROM analogues WHERE ${where}${extra} ORDER BY ${orderBy} LIMIT ${q.pageSize} OFFSET ${offset}`, {
+      bind,
+      type: QueryTypes.SELECT,
+    });
+  const ends = sk ? pageEnds.get(endsKey) : undefined;
+  let from: { page: number; end: PageEnd } | null = null;
+  for (let p = q.page - 1; ends && p >= Math.max(1, q.page - SEEK_LOOKBACK); p--) {
+    const end = ends.get(p);
+    if (end) {
+      from = { page: p, end };
+      break;
+    }
+  }
+  let rows: Row[] | null = null;
+  if (sk && from) {
+    const skip = (q.page - 1 - from.page) * q.pageSize;
+    const s = new Binds();
+    s.values = [...b.values];
+    const id = s.add(from.end.id);
+    if (from.end.key === null) {
+      rows = await run(` AND ${sk.expr} IS NULL AND id > ${id}`, s.values, 'id', skip);
+    } else {
+      const k = `${s.add(from.end.key)}::${sk.type}`;
+      const seek = ` AND ${sk.expr} ${sk.desc ? '<=' : '>='} ${k} AND (${sk.expr} ${sk.desc ? '<' : '>'} ${k} OR id > ${id})`;
+      rows = await run(seek, s.values, order, skip);
+      // the page runs on into the NULL keys: how many non-NULL rows were skipped is not known here
+      if (sk.nullable && rows.length < q.pageSize) rows = null;
+    }
+    if (rows) listPageStats.seeks++;
+  }
+  if (!rows) {
+    listPageStats.offsets++;
+    rows = await run('', b.values, order, (q.page - 1) * q.pageSize);
+  }
+  if (sk && rows.length === q.pageSize) {
+    let m = pageEnds.get(endsKey);
+    if (!m) pageEnds.set(endsKey, (m = new Map()));
+    if (m.size < PAGE_ENDS_MAX) {
+      const last = rows[rows.length - 1];
+      m.set(q.page, { key: (last.sort_key as string | null) ?? null, id: last.id as number });
+    }
+  }
+  return rows;
+}
 
 /**
  * Facet counts, tag counts and the total in ONE statement (one scan of the
@@ -208,11 +301,7 @@ export async function searchBody(_actor: Actor, q: AnalogueSearchQuery): Promise
   if (hit) return hit;
   const b = new Binds();
   const where = whereOf(q, b);
-  const order = SORT_SQL(q, b);
-  const list = db().query<Row>(`SELECT ${SUMMARY_COLUMNS} FROM analogues WHERE ${where} ORDER BY ${order} LIMIT ${q.pageSize} OFFSET ${(q.page - 1) * q.pageSize}`, {
-    bind: b.values,
-    type: QueryTypes.SELECT,
-  });
+  const list = listPage(q, where, b, `${key.slice(0, key.indexOf('|'))}|${JSON.stringify({ ...q, page: 0 })}`);
   let out: AnalogueSearchResponse;
   if (q.facets) {
     const { sort: _s, dir: _d, page: _p, pageSize: _z, ...filters } = q;
