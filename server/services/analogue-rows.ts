@@ -162,7 +162,7 @@ export const facetCache = new LRUCache<string, FacetTotals>({ max: 500 });
  * next pages seek from the nearest known end instead of skipping every row
  * before them (analogue-search.service.ts `listPage`).
  */
-export const pageEnds = new LRUCache<string, Map<number, PageEnd>>({ max: 200 });
+export const pageEnds = new LRUCache<string, Map<number, PageEnd>>({ max: 100 }); // ≤ 2,000 ends each (PAGE_ENDS_MAX): a few MB at most
 export interface PageEnd {
   key: string | null;
   id: number;

@@ -138,7 +138,7 @@ export const listPageStats = { seeks: 0, offsets: 0 };
 /** Most pages looked back for a known page end before skipping from the start. */
 const SEEK_LOOKBACK = 500;
 /** Most page ends kept per search. */
-const PAGE_ENDS_MAX = 20_000;
+const PAGE_ENDS_MAX = 2_000;
 
 /**
  * One page of a search's rows. Page 1, a search ranked by relevance, or a page

@@ -28,7 +28,8 @@ import type { User } from '../models/index';
 export const AUTH_CHANNEL = 'cayline_auth_changed';
 /** Longest time a checked session is trusted without asking again. */
 export const SESSION_TRUST_MS = 5000;
-const MAX_ENTRIES = 20_000;
+// a kept entry holds the token text and a User instance (a few KB): 5,000 stay well under 50 MB
+const MAX_ENTRIES = 5_000;
 const RECONNECT_MS = [500, 1000, 2000, 5000, 10_000];
 
 export interface KeptSession {
