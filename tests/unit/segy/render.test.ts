@@ -187,6 +187,19 @@ describe('render pass over stored amplitudes', () => {
             for (let j = 0; j < rows; j++) if (strip[j * width + i] !== lut[rampIndex(vals[y + j], r.clip)]) wrong++;
           });
           expect(wrong).toBe(0);
+          // the whole section strip by strip, in order (strips rendered several at a time from one read)
+          let bad = 0;
+          for (let y0 = 0; y0 < ns; y0 += 32) {
+            const n = Math.min(32, ns - y0);
+            const st = await r.strips.readStrip(y0, n);
+            expect(st.length).toBe(width * n);
+            order.forEach((t, i) => {
+              const trace = data.subarray(t * ns, (t + 1) * ns);
+              const vals = win ? agc(trace, win) : trace;
+              for (let j = 0; j < n; j++) if (st[j * width + i] !== lut[rampIndex(vals[y0 + j], r.clip)]) bad++;
+            });
+          }
+          expect(bad).toBe(0);
         } finally {
           await r.close();
         }
