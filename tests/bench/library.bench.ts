@@ -23,6 +23,10 @@
  * Printed: p50 and p97.5 of each, the ratios to the baseline's p97.5, and the
  * goals (≤ 30 ms and ≤ 3× the baseline).
  *
+ * One client paging through the same search page after page, forward (each
+ * page seeks from the end of the page before) and backward (no earlier page
+ * end is known: LIMIT/OFFSET), median, p95 and worst.
+ *
  * Look-alikes (one client, 15 requests each, first one dropped): metrics mode
  * (five metrics) and shape mode (64-point profiles), median and worst, against
  * the 200 ms goal. Method: one sequential scan in SQL over the precomputed
@@ -37,7 +41,8 @@ import { spawn } from 'node:child_process';
 import { DEMO_PASSWORD, seedDemoUsers } from '../../server/db/seeders/demo';
 import { generateAnalogues } from '../../server/db/seeders/analogues';
 import { handColumns, insertMany } from '../../server/services/analogue.service';
-import { Binds, facetCountsSql, whereOf } from '../../server/services/analogue-search.service';
+import { Binds, facetCountsSql, listPageStats, whereOf } from '../../server/services/analogue-search.service';
+import { forgetGeneration } from '../../server/services/analogue-rows';
 import { analogueSearchSchema, searchQueryFromUrl } from '../../shared/schemas/analogues';
 import { boot } from '../../server/index';
 import { benchDatabase, benchTmp } from './bench-db';
@@ -128,6 +133,27 @@ async function main() {
     log(`ratio p97.5 search (cache) ÷ baseline:    ${(cached.latency.p97_5 / b).toFixed(2)}  (goal ≤ 3; p97.5 ${ms(cached.latency.p97_5)}, goal ≤ 30 ms)`);
     log(`ratio p97.5 search (paging) ÷ baseline:   ${(paged.latency.p97_5 / b).toFixed(2)}  (facets counted once, each page one list query)`);
     log(`ratio p97.5 search (no cache) ÷ baseline: ${(fresh.latency.p97_5 / b).toFixed(2)}  (goal ≤ 3; p97.5 ${ms(fresh.latency.p97_5)}, goal ≤ 30 ms)`);
+
+    // one person paging through the result, page after page: forward each page seeks from the end of the
+    // one before (pageEnds); backward no earlier end is known, so each page is LIMIT/OFFSET from the start
+    const PAGES = Math.min(400, Math.ceil(body.total / 25));
+    for (const [name, order] of [
+      ['forward (seek from the last page end)', Array.from({ length: PAGES }, (_, i) => i + 1)],
+      ['backward (OFFSET from the start)', Array.from({ length: PAGES }, (_, i) => PAGES - i)],
+    ] as const) {
+      forgetGeneration();
+      const seeks = listPageStats.seeks;
+      const times: number[] = [];
+      for (const n of order) {
+        const t0 = performance.now();
+        const r = await fetch(`${base}${SEARCH}60..250&page=${n}`, { headers: auth });
+        await r.arrayBuffer();
+        if (r.status !== 200) throw new Error(`page ${n} → ${r.status}`);
+        times.push(performance.now() - t0);
+      }
+      times.sort((x, y) => x - y);
+      log(`one client, pages 1…${PAGES} ${name.padEnd(38)} median ${ms(times[Math.floor(times.length / 2)])}, p95 ${ms(times[Math.floor(times.length * 0.95)])}, worst ${ms(times[times.length - 1])} (${listPageStats.seeks - seeks} pages seeked)`);
+    }
 
     // Look-alikes, one client
     const [some] = ((await (await fetch(`${base}/api/analogues?pageSize=1&facets=0`, { headers: auth })).json()) as { items: { id: number }[] }).items;
