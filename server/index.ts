@@ -53,22 +53,32 @@ export async function boot(opts: BootOptions): Promise<Running> {
   const mailer = createMailer({ host: smtpHost, port: smtpPort, from: config.mail.from });
   const sessionWatch = watchSessions(opts.databaseUrl);
   const app = createApp({ config, sequelize, mailer, sessions: sessionWatch.cache });
-  if (sink) await importSinkBacklog(fileStoreFor(config.storageDir));
-  const jobs = await startBackgroundJobs({ databaseUrl: opts.databaseUrl, config, sequelize });
-  if (opts.afterMigrate) await opts.afterMigrate({ sequelize, config });
-
+  let jobs: Awaited<ReturnType<typeof startBackgroundJobs>> | null = null;
   let server: Server | null = null;
   let url = '';
-  if (opts.listen !== false) {
-    server = await new Promise<Server>((resolve, reject) => {
-      const s = app.listen(config.port, () => resolve(s));
-      s.once('error', reject);
-    });
-    const addr = server.address();
-    url = `http://localhost:${typeof addr === 'object' && addr ? addr.port : config.port}`;
-    // links in mails point at this server unless PUBLIC_URL (or the caller) says where people reach it
-    if (!process.env.PUBLIC_URL && !opts.config?.publicUrl) config.publicUrl = url;
+  try {
+    if (sink) await importSinkBacklog(fileStoreFor(config.storageDir));
+    jobs = await startBackgroundJobs({ databaseUrl: opts.databaseUrl, config, sequelize });
+    if (opts.afterMigrate) await opts.afterMigrate({ sequelize, config });
+    if (opts.listen !== false) {
+      server = await new Promise<Server>((resolve, reject) => {
+        const s = app.listen(config.port, () => resolve(s));
+        s.once('error', reject);
+      });
+      const addr = server.address();
+      url = `http://localhost:${typeof addr === 'object' && addr ? addr.port : config.port}`;
+      // links in mails point at this server unless PUBLIC_URL (or the caller) says where people reach it
+      if (!process.env.PUBLIC_URL && !opts.config?.publicUrl) config.publicUrl = url;
+    }
+  } catch (e) {
+    // a failed start leaves no queue worker, LISTEN connection, mail sink or pool keeping the process alive
+    await jobs?.stop().catch(() => {});
+    await sessionWatch.close();
+    await sink?.close().catch(() => {});
+    await sequelize.close().catch(() => {});
+    throw e;
   }
+  const startedJobs = jobs;
   logger.info({ url, smtp: `${smtpHost}:${smtpPort}` }, 'Cayline server up');
 
   return {
@@ -78,7 +88,7 @@ export async function boot(opts: BootOptions): Promise<Running> {
     url,
     async close() {
       if (server) await new Promise<void>((r) => server!.close(() => r()));
-      await jobs.stop();
+      await startedJobs.stop();
       await sessionWatch.close();
       await mailSettled();
       await closeMeasurePool();

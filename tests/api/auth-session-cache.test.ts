@@ -8,7 +8,12 @@
 import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import request from 'supertest';
 import pg from 'pg';
-import { createTestApp, bearer, ROLE_EMAIL, type TestApp } from '../helpers/app';
+import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import crypto from 'node:crypto';
+import { createDatabase, createTestApp, bearer, ROLE_EMAIL, type TestApp } from '../helpers/app';
+import { boot } from '../../server/index';
 import { DEMO_PASSWORD } from '../../server/db/seeders/demo';
 import { ctx } from '../../server/context';
 import type { SessionCache } from '../../server/services/session-cache';
@@ -133,5 +138,27 @@ describe('session cache', () => {
     expect((await me(token)).status).toBe(200);
     const [h, p] = token.split('.');
     expect((await me(`${h}.${p}.${'A'.repeat(43)}`)).status).toBe(401); // same header and claims, wrong signature
+  });
+
+  it('a start that fails part-way leaves no session listener connected', async () => {
+    const databaseUrl = await createDatabase();
+    const storageDir = fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-failed-start-'));
+    try {
+      let error: unknown = null;
+      const config = { storageDir, port: 0, bcryptCost: 4, jwtSecret: crypto.randomBytes(24).toString('hex'), jobs: { runWorkers: false, pollingIntervalSeconds: 0.5, maxAttempts: 3, expireInSeconds: 3600 } };
+      const afterMigrate = async () => {
+        throw new Error('demo seeding failed');
+      };
+      await boot({ databaseUrl, listen: true, config, afterMigrate }).then(
+        (running) => running.close(), // (it should not start: close it if it did)
+        (e) => void (error = e),
+      );
+      expect(String(error)).toMatch(/demo seeding failed/);
+      const name = databaseUrl.slice(databaseUrl.lastIndexOf('/') + 1);
+      const { rows } = await db.query(`SELECT count(*)::int AS n FROM pg_stat_activity WHERE datname = $1 AND application_name = 'cayline-session-watch'`, [name]);
+      expect(rows[0].n).toBe(0);
+    } finally {
+      fs.rmSync(storageDir, { recursive: true, force: true });
+    }
   });
 });
