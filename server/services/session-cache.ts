@@ -26,8 +26,15 @@ import { logger } from '../logger';
 import type { User } from '../models/index';
 
 export const AUTH_CHANNEL = 'cayline_auth_changed';
-/** Longest time a checked session is trusted without asking again. */
-export const SESSION_TRUST_MS = 5000;
+/** Longest time a checked session is trusted without asking again (`CAYLINE_SESSION_TRUST_MS`, default 5 s; 0 turns the cache off). */
+export const SESSION_TRUST_MS = sessionTrustMs(process.env.CAYLINE_SESSION_TRUST_MS);
+
+export function sessionTrustMs(raw: string | undefined): number {
+  if (raw === undefined || raw.trim() === '') return 5000;
+  const n = Number(raw);
+  if (!Number.isFinite(n) || n < 0) throw new Error(`CAYLINE_SESSION_TRUST_MS: expected milliseconds ≥ 0, got ${JSON.stringify(raw)}`);
+  return n;
+}
 // a kept entry holds the token text and a User instance (a few KB): 5,000 stay well under 50 MB
 const MAX_ENTRIES = 5_000;
 const RECONNECT_MS = [500, 1000, 2000, 5000, 10_000];

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { SessionCache } from '../../../server/services/session-cache';
+import { SessionCache, sessionTrustMs } from '../../../server/services/session-cache';
 import type { User } from '../../../server/models/index';
 
 const user = { id: 7, role: 'interpreter' } as unknown as User;
@@ -65,5 +65,20 @@ describe('session cache', () => {
     c.lookup('a', T0 + 2);
     c.lookup('z', T0 + 2);
     expect([c.hits, c.misses]).toEqual([2, 1]);
+  });
+
+  it('reads its trust window from CAYLINE_SESSION_TRUST_MS, naming the setting when it is not a number of milliseconds', () => {
+    expect(sessionTrustMs(undefined)).toBe(5000);
+    expect(sessionTrustMs(' ')).toBe(5000);
+    expect(sessionTrustMs('0')).toBe(0);
+    expect(sessionTrustMs('60000')).toBe(60000);
+    expect(() => sessionTrustMs('-1')).toThrow(/CAYLINE_SESSION_TRUST_MS/);
+    expect(() => sessionTrustMs('soon')).toThrow(/CAYLINE_SESSION_TRUST_MS/);
+  });
+
+  it('with a trust window of 0 never answers from what it kept', () => {
+    const c = listening(0);
+    c.remember('a', kept(), c.ticket(), T0);
+    expect(c.lookup('a', T0)).toBeUndefined();
   });
 });
