@@ -132,8 +132,8 @@ function sortKeyOf(q: AnalogueSearchQuery): SortKey | null {
   }
 }
 
-/** Pages served by seeking from a known page end, and by OFFSET from the start (tests, benchmarks). */
-export const listPageStats = { seeks: 0, offsets: 0 };
+/** Pages served by seeking from a known page end (`adjacent`: from the page just before), and by OFFSET from the start (tests, benchmarks). */
+export const listPageStats = { seeks: 0, adjacent: 0, offsets: 0 };
 
 /** Most pages looked back for a known page end before skipping from the start. */
 const SEEK_LOOKBACK = 500;
@@ -148,11 +148,34 @@ const PAGE_ENDS_MAX = 2_000;
  * greater; NULL keys last, then by id — with an index-usable bound on the key,
  * and skips only the pages between. The end of every full page is kept, so
  * paging forward costs about one page's rows each time. The first row count
- * on the NULL boundary that cannot be told apart is left to OFFSET.
+ * on the NULL boundary that cannot be told apart is left to OFFSET. A page
+ * asked for while the page before it is still being read waits for that
+ * read, then seeks from its end.
  */
 async function listPage(q: AnalogueSearchQuery, where: string, b: Binds, endsKey: string): Promise<Row[]> {
-  const order = SORT_SQL(q, b);
   const sk = sortKeyOf(q);
+  if (!sk) return listPageNow(q, where, b, endsKey, null);
+  // a page whose predecessor is being read right now waits for that page's end (pages asked for in quick
+  // succession: each then seeks from the one before instead of all skipping from an older end)
+  const flight = (page: number) => `${endsKey}#${page}`;
+  let finish!: () => void;
+  const mine = new Promise<void>((resolve) => (finish = resolve));
+  pagesInFlight.set(flight(q.page), mine);
+  try {
+    const before = q.page > 1 && !pageEnds.get(endsKey)?.has(q.page - 1) ? pagesInFlight.get(flight(q.page - 1)) : undefined;
+    if (before) await before; // resolves when that read ends, whether it succeeded or not
+    return await listPageNow(q, where, b, endsKey, sk);
+  } finally {
+    if (pagesInFlight.get(flight(q.page)) === mine) pagesInFlight.delete(flight(q.page));
+    finish();
+  }
+}
+
+/** Pages being read now, by search and page number (`listPage`). */
+const pagesInFlight = new Map<string, Promise<void>>();
+
+async function listPageNow(q: AnalogueSearchQuery, where: string, b: Binds, endsKey: string, sk: SortKey | null): Promise<Row[]> {
+  const order = SORT_SQL(q, b);
   const keyCol = sk ? `, (${sk.expr})::text AS sort_key` : '';
   const run = (extra: string, bind: unknown[], orderBy: string, offset: number) =>
     db().query<Row>(`SELECT ${SUMMARY_COLUMNS}${keyCol} FROM analogues WHERE ${where}${extra} ORDER BY ${orderBy} LIMIT ${q.pageSize} OFFSET ${offset}`, {
@@ -183,7 +206,10 @@ async function listPage(q: AnalogueSearchQuery, where: string, b: Binds, endsKey
       // the page runs on into the NULL keys: how many non-NULL rows were skipped is not known here
       if (sk.nullable && rows.length < q.pageSize) rows = null;
     }
-    if (rows) listPageStats.seeks++;
+    if (rows) {
+      listPageStats.seeks++;
+      if (from.page === q.page - 1) listPageStats.adjacent++;
+    }
   }
   if (!rows) {
     listPageStats.offsets++;

@@ -12,7 +12,8 @@ import { ctx } from '../../server/context';
 import { generateAnalogues } from '../../server/db/seeders/analogues';
 import { handColumns, insertMany } from '../../server/services/analogue.service';
 import { forgetGeneration, pageEnds } from '../../server/services/analogue-rows';
-import { listPageStats } from '../../server/services/analogue-search.service';
+import { listPageStats, searchBody } from '../../server/services/analogue-search.service';
+import { analogueSearchSchema, searchQueryFromUrl } from '../../shared/schemas/analogues';
 
 let t: TestApp;
 let token: string;
@@ -98,6 +99,22 @@ describe('paging by seeking from known page ends', () => {
       }
     });
   }
+
+  it('pages asked for all at once wait for the page before and seek from its end', async () => {
+    const all = await expected('height_m DESC NULLS LAST, id');
+    const actor = { id: 1, role: 'interpreter' as const };
+    const q = (n: number) => analogueSearchSchema.parse(searchQueryFromUrl(new URLSearchParams(`sort=heightM&dir=desc&pageSize=${SIZE}&page=${n}&facets=0`)));
+    const ids = (json: string) => (JSON.parse(json) as { items: { id: number }[] }).items.map((x) => x.id);
+    forgetGeneration();
+    expect(ids((await searchBody(actor, q(1))).json)).toEqual(all.slice(0, SIZE)); // (reads the generation once)
+    const adjacent = listPageStats.adjacent;
+    // pages 2…15 asked for in one go, before any of them has an answer
+    const bodies = await Promise.all(Array.from({ length: PAGES - 1 }, (_, i) => searchBody(actor, q(i + 2))));
+    bodies.forEach((body, i) => expect(ids(body.json), `page ${i + 2}`).toEqual(all.slice((i + 1) * SIZE, (i + 2) * SIZE)));
+    // each waited for the page before it and sought from its end; only the page across the NULL boundary
+    // (heights run out within it) is read with OFFSET; without the wait, all but page 2 skip from page 1's end
+    expect(listPageStats.adjacent - adjacent).toBe(PAGES - 2);
+  });
 
   it('ranks by relevance with OFFSET only (no sort key to seek on)', async () => {
     forgetGeneration();
