@@ -105,8 +105,6 @@ export class SessionCache {
 
 export interface SessionWatch {
   cache: SessionCache;
-  /** Resolves once the listener is listening (or at once if it already is). */
-  ready(): Promise<void>;
   close(): Promise<void>;
 }
 
@@ -120,7 +118,6 @@ export function watchSessions(databaseUrl: string, cache = new SessionCache()): 
   let stopped = false;
   let failures = 0;
   let timer: NodeJS.Timeout | null = null;
-  let waiters: (() => void)[] = [];
 
   const lost = (why: string) => {
     if (cache.active) logger.warn({ why }, 'session change listener lost; checking every session in PostgreSQL until it is back');
@@ -152,7 +149,6 @@ export function watchSessions(databaseUrl: string, cache = new SessionCache()): 
       }
       failures = 0;
       cache.setListening(true);
-      for (const w of waiters.splice(0)) w();
     } catch (e) {
       if (client === c) lost((e as Error).message);
     }
@@ -161,14 +157,11 @@ export function watchSessions(databaseUrl: string, cache = new SessionCache()): 
   void connect();
   return {
     cache,
-    ready: () => (cache.active ? Promise.resolve() : new Promise<void>((resolve) => waiters.push(resolve))),
     async close() {
       stopped = true;
       if (timer) clearTimeout(timer);
       timer = null;
       cache.setListening(false);
-      for (const w of waiters.splice(0)) w();
-      waiters = [];
       const c = client;
       client = null;
       await c?.end().catch(() => {});
