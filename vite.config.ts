@@ -26,6 +26,8 @@ export default defineConfig({
           fileParallelism: false,
           testTimeout: 60_000,
           hookTimeout: 120_000,
+          // expect.poll waits up to 10 s (vitest's 1 s is too short while the api and e2e projects share two cores)
+          expect: { poll: { timeout: 10_000 } },
         },
       },
       {
@@ -37,6 +39,7 @@ export default defineConfig({
           fileParallelism: false,
           testTimeout: 180_000,
           hookTimeout: 300_000,
+          expect: { poll: { timeout: 10_000 } },
         },
       },
     ],

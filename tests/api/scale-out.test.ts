@@ -148,17 +148,29 @@ async function until<T>(what: string, probe: () => Promise<T | null | undefined 
   }
 }
 
+/** What the processes and the database say, for a failure message: the section's row, the registered processes and the workers' last output. */
+async function stateOf(id: number): Promise<string> {
+  const rows = await sql(databaseUrl, 'SELECT status, progress, attempts, worker_id, job_id FROM sections WHERE id = $1', [id]).catch((e) => [String(e)]);
+  const owners = await sql(databaseUrl, 'SELECT id, pid, runs_workers, heartbeat_at FROM job_workers').catch((e) => [String(e)]);
+  const tails = workers.map((w, i) => `worker ${i + 1} (pid ${w.pid}, ${w.child.exitCode ?? w.child.signalCode ?? 'running'}):\n${w.output().slice(-3000)}`);
+  return [`section: ${JSON.stringify(rows)}`, `job_workers: ${JSON.stringify(owners)}`, ...tails].join('\n');
+}
+
 async function readyVia(web: WebProcess, token: string, id: number, ms = 60_000) {
-  return until(
-    `section ${id} ready through ${web.url}`,
-    async () => {
-      const r = await api(web, 'GET', `/api/sections/${id}`, { token });
-      expect(r.status).toBe(200);
-      if (r.body.status === 'failed') throw new Error(`section ${id} failed: ${r.body.failureReason}`);
-      return r.body.status === 'ready' ? r.body : null;
-    },
-    ms,
-  );
+  try {
+    return await until(
+      `section ${id} ready through ${web.url}`,
+      async () => {
+        const r = await api(web, 'GET', `/api/sections/${id}`, { token });
+        expect(r.status).toBe(200);
+        if (r.body.status === 'failed') throw new Error(`section ${id} failed: ${r.body.failureReason}`);
+        return r.body.status === 'ready' ? r.body : null;
+      },
+      ms,
+    );
+  } catch (err) {
+    throw new Error(`${(err as Error).message}\n${await stateOf(id)}`);
+  }
 }
 
 /** A textured grey PNG big enough that its build takes seconds on one libvips thread (rows of one line, shifted). */
@@ -296,7 +308,7 @@ describe('two web processes and a worker on one database and one S3 store', () =
     const got = await api(w2, 'GET', `/api/buildups/${created.body.id}`, { token });
     expect(got.body.version).toBe(1);
     expect(got.body.geometry.topIsDrowningSurface).toBe(px.topIsDrowningSurface);
-  });
+  }, 120_000);
 
   it('a worker killed in the middle of a build: another worker finishes it, and web 1 serves its tiles', async () => {
     const [w1, w2] = webs;
@@ -313,7 +325,9 @@ describe('two web processes and a worker on one database and one S3 store', () =
       },
       60_000,
       25,
-    );
+    ).catch(async (err) => {
+      throw new Error(`${err.message}\n${await stateOf(id)}`);
+    });
     expect(await first.kill('SIGKILL')).toBe('SIGKILL');
     const killedAt = Date.now();
     const [mid] = await sql(databaseUrl, 'SELECT status, progress FROM sections WHERE id = $1', [id]);
@@ -331,5 +345,5 @@ describe('two web processes and a worker on one database and one S3 store', () =
     const tile = await api(w1, 'GET', `/api/sections/${id}/tiles/0/0_0.jpg`, { token });
     expect(tile.status).toBe(200);
     expect(tile.headers.get('cache-control')).toMatch(/immutable/);
-  });
+  }, 240_000);
 });
