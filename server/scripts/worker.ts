@@ -9,6 +9,7 @@
  * local driver, the same storage folder (CAYLINE_STORAGE). Its scratch stays on
  * its own disk (`<CAYLINE_STORAGE>/tmp`).
  *
+ * Once it works the queues it prints `working the job queues` on stdout.
  * It registers in `job_workers` and refreshes its heartbeat every 10 s; should
  * it die (even by SIGKILL), the build it owned is resumed by any other Cayline
  * process: at once when one starts on the same host (the pid is gone), else
@@ -39,6 +40,8 @@ async function main() {
   setContext({ config, sequelize, mailer: createMailer({ host: process.env.SMTP_HOST ?? config.mail.host, port: config.mail.port, from: config.mail.from }) });
   const jobs = await startBackgroundJobs({ databaseUrl, config, sequelize });
   logger.info({ storage: config.storageDir, store: fileStoreFor(config.storageDir).driver }, 'Cayline worker up');
+  // one plain line whatever LOG_LEVEL says, for supervisors and tests: the queues are being worked from now on
+  console.log('working the job queues');
   const stop = async () => {
     await jobs.stop();
     await sequelize.close();

@@ -40,6 +40,8 @@ export interface S3Settings {
   credentials?: { accessKeyId: string; secretAccessKey: string };
   /** Folder inside the bucket ('' for its root). */
   prefix: string;
+  /** Give up on a connection after `connectMs` and on an open request after `idleMs` of silence (defaults 10 s, 120 s); then the SDK retries. */
+  timeouts?: { connectMs: number; idleMs: number };
 }
 
 /** Files uploaded at once by importDir. */
@@ -68,6 +70,9 @@ export class S3FileStore extends ScratchArea implements FileStore {
       requestChecksumCalculation: 'WHEN_REQUIRED',
       responseChecksumValidation: 'WHEN_REQUIRED',
       maxAttempts: 3,
+      // a store that stops answering fails the request (and is retried) instead of holding a build or a boot sweep for ever
+      // (socketTimeout is smithy's inactivity limit; its requestTimeout would cap a whole large transfer)
+      requestHandler: { connectionTimeout: settings.timeouts?.connectMs ?? 10_000, socketTimeout: settings.timeouts?.idleMs ?? 120_000 },
     });
   }
 

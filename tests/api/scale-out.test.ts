@@ -197,7 +197,7 @@ beforeAll(async () => {
   const [w1, w2, worker] = await Promise.all([
     startWeb(),
     startWeb(),
-    startWorker({ databaseUrl, storageDir: tmpDir('worker'), env: { ...commonEnv(), VIPS_CONCURRENCY: '1' } }),
+    startWorker({ databaseUrl, storageDir: tmpDir('worker'), env: { ...commonEnv(), LOG_LEVEL: 'info', VIPS_CONCURRENCY: '1' } }),
   ]);
   workers.push(worker);
   figures['boot of 2 web + 1 worker processes (tsx, concurrent, migrations once)'] = seconds(Date.now() - t0);
@@ -334,7 +334,7 @@ describe('two web processes and a worker on one database and one S3 store', () =
     expect(mid.status).toBe('processing'); // killed in the middle, not after the end
     expect(mid.progress).toBeLessThan(100);
 
-    const second = await startWorker({ databaseUrl, storageDir: tmpDir('worker2'), env: commonEnv() });
+    const second = await startWorker({ databaseUrl, storageDir: tmpDir('worker2'), env: { ...commonEnv(), LOG_LEVEL: 'info' } });
     workers.push(second);
     figures['second worker up after the kill (tsx boot)'] = seconds(Date.now() - killedAt);
     const ready = await readyVia(w1, token, id, 90_000);

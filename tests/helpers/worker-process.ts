@@ -33,7 +33,11 @@ export interface WorkerProcess {
   kill(signal: NodeJS.Signals): Promise<number | string | null>;
 }
 
-/** Start a worker and wait until it has registered in job_workers (bounded wait). */
+/**
+ * Start a worker and wait until it has registered in job_workers and works
+ * the queues (its `working the job queues` line: boot recovery and every
+ * queue's start are behind it), bounded waits.
+ */
 export async function startWorker(opts: { databaseUrl: string; storageDir: string; env?: Record<string, string> }): Promise<WorkerProcess> {
   const child = spawn(process.execPath, ['--import', 'tsx', 'server/scripts/worker.ts'], {
     cwd: ROOT,
@@ -66,6 +70,14 @@ export async function startWorker(opts: { databaseUrl: string; storageDir: strin
     const rows = await sql(opts.databaseUrl, 'SELECT id FROM job_workers WHERE pid = $1 AND runs_workers', [pid]).catch(() => []);
     if (rows.length) id = rows[0].id;
     else await new Promise((r) => setTimeout(r, 100));
+  }
+  while (!/^working the job queues$/m.test(text)) {
+    if (gone) throw new Error(`the worker exited before it worked the queues:\n${text}`);
+    if (Date.now() > until) {
+      child.kill('SIGKILL');
+      throw new Error(`the worker registered but did not work the queues within 60 s:\n${text}`);
+    }
+    await new Promise((r) => setTimeout(r, 50));
   }
   return {
     child,

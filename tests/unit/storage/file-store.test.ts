@@ -3,6 +3,7 @@
  * the S3 driver against a local fake (s3rver, tests/helpers/s3-fake.ts).
  */
 import fs from 'node:fs';
+import net from 'node:net';
 import os from 'node:os';
 import path from 'node:path';
 import crypto from 'node:crypto';
@@ -199,6 +200,24 @@ describe('the S3 driver on failure', () => {
     spy.mockRestore();
     expect(await store.exists('sections/k3/pyramid')).toBe(false);
     expect(await store.list('sections')).toEqual([]);
+  });
+
+  it('a store that accepts connections and never answers fails the request instead of hanging', async () => {
+    const sockets: net.Socket[] = [];
+    const silent = net.createServer((s) => sockets.push(s)); // reads nothing back, writes nothing
+    await new Promise<void>((r) => silent.listen(0, '127.0.0.1', r));
+    const { port } = silent.address() as net.AddressInfo;
+    try {
+      const store = createFileStore(storageDir(), { ...fake.settings, endpoint: `http://127.0.0.1:${port}`, timeouts: { connectMs: 500, idleMs: 300 } });
+      const t0 = Date.now();
+      await expect(store.exists('sections/k4/original')).rejects.toThrow();
+      // three attempts of 0.3 s silence each plus the SDK's back-off, far below the default of 120 s per attempt
+      expect(Date.now() - t0).toBeLessThan(30_000);
+      expect(sockets.length).toBeGreaterThanOrEqual(1);
+    } finally {
+      for (const s of sockets) s.destroy();
+      await new Promise((r) => silent.close(r));
+    }
   });
 });
 
