@@ -33,7 +33,7 @@ import { SectionDepthPyramid } from '../models/depth';
 import { removeTree, type FileStore } from '../storage/fileStore';
 import { buildPyramid } from '../services/tiles.service';
 import { failureText, requeueDeadRows, type Liveness, type JobTimings } from './liveness';
-import { transactionDb } from './queue';
+import { createQueue, transactionDb } from './queue';
 import { ColumnResampler, depthAxisFor, FILL, sampleSpan, spanAt, type DepthViewBasis } from '../../shared/depth-view/index';
 import { DEFAULT_VELOCITY } from '../../shared/schemas/buildups';
 import { fromGeometry, isMeasurable, toInterpretationInput, type VelocityModel } from '../../shared/editor/model';
@@ -348,7 +348,7 @@ export async function recoverDepthBuilds(): Promise<{ requeued: number[]; failed
 
 /** Create the queue, run a worker (unless disabled) and resume dead processes' builds. Registered in registry.ts. */
 export async function startDepthJobs(d: Omit<Deps, 'workerIds'>): Promise<{ check(): Promise<unknown>; stop(): void }> {
-  await d.boss.createQueue(DEPTH_QUEUE);
+  await createQueue(d.boss, DEPTH_QUEUE);
   deps = { ...d, workerIds: [] };
   const mine = deps;
   if (d.config.jobs.runWorkers) {

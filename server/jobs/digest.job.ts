@@ -5,6 +5,7 @@
  * web processes still send one digest. `runDigest()` runs it at once.
  */
 import type PgBoss from 'pg-boss';
+import { createQueue } from './queue';
 import type { Config } from '../config';
 import { runDigest } from '../services/notify.service';
 import { logger } from '../logger';
@@ -12,7 +13,7 @@ import { logger } from '../logger';
 export const DIGEST_QUEUE = 'notification-digest';
 
 export async function startDigestJob(boss: PgBoss, config: Config): Promise<void> {
-  await boss.createQueue(DIGEST_QUEUE);
+  await createQueue(boss, DIGEST_QUEUE);
   await boss.schedule(DIGEST_QUEUE, config.notify.digestCron, {}, { tz: 'UTC' });
   if (!config.jobs.runWorkers) return;
   await boss.work(DIGEST_QUEUE, { pollingIntervalSeconds: 30, batchSize: 1 }, async () => {

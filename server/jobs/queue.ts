@@ -77,11 +77,35 @@ export interface StartJobsDeps {
   handlers: { pyramid: (job: PgBoss.Job<PyramidJobData>) => Promise<void> };
 }
 
+/** Attempts of `createQueue` that lose a deadlock to another process creating queues at the same time. */
+const CREATE_QUEUE_ATTEMPTS = 8;
+
+/**
+ * pg-boss `createQueue`, retried when PostgreSQL picks it as the victim of a
+ * deadlock (40P01). Processes that boot together on a fresh database create
+ * the same queues at once: one inserts a queue row while another attaches its
+ * queue's partition to the job table, and each waits for the other. The
+ * victim's transaction is rolled back whole, so trying again is safe; by then
+ * the queue usually exists and the call does nothing.
+ */
+export async function createQueue(boss: Pick<PgBoss, 'createQueue'>, name: string, options?: PgBoss.Queue): Promise<void> {
+  for (let attempt = 1; ; attempt++) {
+    try {
+      await (options ? boss.createQueue(name, options) : boss.createQueue(name));
+      return;
+    } catch (err) {
+      if ((err as { code?: string }).code !== '40P01' || attempt >= CREATE_QUEUE_ATTEMPTS) throw err;
+      logger.info({ queue: name, attempt }, 'creating a job queue lost a deadlock to another process; trying again');
+      await new Promise((r) => setTimeout(r, 20 + Math.random() * 80 * attempt));
+    }
+  }
+}
+
 export async function startJobs(deps: StartJobsDeps): Promise<JobQueue> {
   const boss = new PgBoss({ connectionString: deps.databaseUrl, schema: 'pgboss', max: 4, application_name: 'cayline-jobs' });
   boss.on('error', (err) => logger.error({ err }, 'job queue error'));
   await boss.start();
-  await boss.createQueue(PYRAMID_QUEUE);
+  await createQueue(boss, PYRAMID_QUEUE);
   current = { boss, config: deps.config, workerIds: [] };
   const mine = current;
   if (deps.onReady) await deps.onReady(boss);

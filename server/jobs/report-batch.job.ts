@@ -11,6 +11,7 @@
  * fails the batch with the reason; asking again starts a fresh batch.
  */
 import type PgBoss from 'pg-boss';
+import { createQueue } from './queue';
 import Papa from 'papaparse';
 import { zipSync, type Zippable } from 'fflate';
 import type { Config } from '../config';
@@ -92,7 +93,7 @@ export async function runBatch(job: PgBoss.Job<BatchJobData>, config: Config, st
 
 /** Create the queue and work it where this process runs workers. */
 export async function startBatchJobs(boss: PgBoss, config: Config, stopping: () => boolean): Promise<void> {
-  await boss.createQueue(BATCH_QUEUE, { name: BATCH_QUEUE, retryLimit: 0, expireInSeconds: config.jobs.expireInSeconds });
+  await createQueue(boss, BATCH_QUEUE, { name: BATCH_QUEUE, retryLimit: 0, expireInSeconds: config.jobs.expireInSeconds });
   if (!config.jobs.runWorkers) return;
   await boss.work<BatchJobData>(BATCH_QUEUE, { pollingIntervalSeconds: config.jobs.pollingIntervalSeconds, batchSize: 1 }, async (jobs) => {
     for (const job of jobs) {

@@ -16,6 +16,7 @@
 import fsp from 'node:fs/promises';
 import path from 'node:path';
 import type PgBoss from 'pg-boss';
+import { createQueue } from './queue';
 import { Op, type Sequelize } from 'sequelize';
 import type { Config } from '../config';
 import { logger } from '../logger';
@@ -199,7 +200,7 @@ export async function sweepReportFiles(now = Date.now(), force = false): Promise
 
 /** Create the queue, run a worker (unless disabled) and resume dead processes' reports. Called by startBackgroundJobs. */
 export async function startReportJobs(d: Omit<Deps, 'workerIds'>): Promise<{ stop(): void }> {
-  await d.boss.createQueue(REPORT_QUEUE);
+  await createQueue(d.boss, REPORT_QUEUE);
   deps = { ...d, workerIds: [] };
   const mine = deps;
   const sender = { boss: d.boss, expireInSeconds: d.config.jobs.expireInSeconds, workerIds: mine.workerIds };

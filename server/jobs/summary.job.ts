@@ -10,6 +10,7 @@
  * runs.
  */
 import type PgBoss from 'pg-boss';
+import { createQueue } from './queue';
 import type { Config } from '../config';
 import { ctx } from '../context';
 import { logger } from '../logger';
@@ -55,7 +56,7 @@ export async function refreshSummary(buildupId: number): Promise<void> {
 
 /** Create the queues (summaries, report batches) and, where this process runs workers and has the app context, work them. */
 export async function startSummaryJobs(boss: PgBoss, config: Config): Promise<void> {
-  await boss.createQueue(SUMMARY_QUEUE, { name: SUMMARY_QUEUE, policy: 'short' });
+  await createQueue(boss, SUMMARY_QUEUE, { name: SUMMARY_QUEUE, policy: 'short' });
   await startBatchJobs(boss, config, () => false); // the register's batch of signed-off reports (report-batch.job.ts)
   if (!config.jobs.runWorkers) return;
   try {
