@@ -91,7 +91,7 @@ const CREATE_QUEUE_ATTEMPTS = 8;
 export async function createQueue(boss: Pick<PgBoss, 'createQueue'>, name: string, options?: PgBoss.Queue): Promise<void> {
   for (let attempt = 1; ; attempt++) {
     try {
-      await (options ? boss.createQueue(name, options) : boss.createQueue(name));
+      await boss.createQueue(name, options);
       return;
     } catch (err) {
       if ((err as { code?: string }).code !== '40P01' || attempt >= CREATE_QUEUE_ATTEMPTS) throw err;
