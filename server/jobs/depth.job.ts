@@ -313,6 +313,7 @@ export async function runDepthJob(job: PgBoss.Job<DepthJobData>) {
     }
     logger.warn({ err, sectionId }, 'depth build failed');
     const m = failureText(err, d.config.storageDir);
+    await removeTree(work); // before the status, so anyone who sees `failed` also sees no scratch
     await SectionDepthPyramid.update({ status: 'failed', progress: 0, workerId: null, failureReason: `The depth view could not be made: ${m}` }, stillMine).catch(() => {});
   } finally {
     await removeTree(work);

@@ -182,6 +182,7 @@ export async function runPyramidJob(job: PgBoss.Job<PyramidJobData>) {
       return;
     }
     logger.warn({ err, sectionId }, 'pyramid build failed');
+    await removeTree(work); // before the status, so anyone who sees `failed` also sees no scratch
     await Section.update({ status: 'failed', progress: 0, workerId: null, failureReason: reasonFrom(err, config.storageDir) }, stillMine);
   } finally {
     await removeTree(work);

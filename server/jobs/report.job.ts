@@ -122,6 +122,7 @@ export async function runReportJob(job: PgBoss.Job<ReportJobData>) {
     }
     logger.warn({ err, reportId }, 'report failed');
     const m = failureText(err, d.config.storageDir);
+    await removeTree(work); // before the status, so anyone who sees `failed` also sees no scratch
     await BuildupReportRow.update({ status: 'failed', progress: 0, workerId: null, failureReason: `The report could not be made: ${m}` }, stillMine).catch(() => {});
   } finally {
     await removeTree(work);
