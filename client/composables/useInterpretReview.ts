@@ -7,9 +7,29 @@
  */
 import { computed, ref, watch, type ComputedRef } from 'vue';
 import { fromGeometry } from '../../shared/editor/model';
+import type { ReviewInfo } from '../../shared/schemas/review';
 import type { EditorBuildup } from '../canvas/model';
 import type { useInterpretationStore } from '../stores/interpretation';
 import { useReview, useVersion } from './useReview';
+
+/**
+ * The version number the working copy `b` takes from its review `r`, or null
+ * to keep its own. Only a signed-off version that repeats the copy's geometry
+ * is followed: one kept at sign-off (a new velocity model or Ties) after the
+ * very version the copy holds, and only while the copy has no unsaved edits.
+ * Any other newer version is someone else's save: following its number would
+ * let the next save overwrite their change unseen, so that save meets the
+ * conflict instead.
+ */
+export function keptBySignOff(
+  r: Pick<ReviewInfo, 'buildupId' | 'signedOff'>,
+  b: Pick<EditorBuildup, 'id' | 'serverId' | 'version'>,
+  dirtyIds: readonly string[],
+): number | null {
+  const s = r.signedOff;
+  if (!s || b.serverId !== r.buildupId || dirtyIds.includes(b.id)) return null;
+  return b.version >= s.savedVersion && b.version < s.version ? s.version : null;
+}
 
 export function useInterpretReview(a: {
   store: Pick<ReturnType<typeof useInterpretationStore>, 'dirtyBuildupIds' | 'markSaved'>;
@@ -31,10 +51,11 @@ export function useInterpretReview(a: {
   watch(reviewId, () => (viewingVersion.value = null));
   // A sign-off may keep a new version (same geometry, the section's current velocity model and Ties): follow its number.
   watch(
-    () => info.value?.version,
-    (v) => {
+    () => info.value,
+    (r) => {
       const b = a.selectedBuildup.value;
-      if (v !== undefined && b && b.serverId === reviewId.value && b.version < v && !a.store.dirtyBuildupIds.includes(b.id)) a.store.markSaved(b.id, v);
+      const v = r && b ? keptBySignOff(r, b, a.store.dirtyBuildupIds) : null;
+      if (v !== null && b) a.store.markSaved(b.id, v);
     },
   );
   /** Signed off, or an older version on view: nobody edits the canvas. */

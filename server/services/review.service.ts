@@ -90,6 +90,16 @@ async function pinContextForSignOff(b: Buildup, transaction: Transaction): Promi
   await recordVersion(b, null, transaction, `Kept at sign-off: the section's ${changed.join(', ')} changed after version ${from} was saved`);
 }
 
+/** The newest version up to `upTo` that was a save (versions kept for another reason carry a note and repeat the geometry before them). */
+async function lastSavedVersion(buildupId: number, upTo: number): Promise<number> {
+  const v = await BuildupVersion.findOne({
+    where: { buildupId, version: { [Op.lte]: upTo }, note: null },
+    attributes: ['version'],
+    order: [['version', 'DESC']],
+  });
+  return v?.version ?? upTo;
+}
+
 /** The creator and everyone who saved a version. */
 async function authorIds(b: Buildup, transaction?: Transaction): Promise<number[]> {
   const rows = await BuildupVersion.findAll({ where: { buildupId: b.id, savedById: { [Op.ne]: null } }, attributes: ['savedById'], group: ['savedById'], transaction });
@@ -263,7 +273,10 @@ export async function getReview(actor: Actor, id: number): Promise<ReviewInfo> {
     name: b.name,
     state: b.reviewState,
     version: b.version,
-    signedOff: b.reviewState === 'signed_off' && b.signedOffVersion !== null ? { version: b.signedOffVersion, by: userRef(signer), at: b.signedOffAt!.toISOString() } : null,
+    signedOff:
+      b.reviewState === 'signed_off' && b.signedOffVersion !== null
+        ? { version: b.signedOffVersion, savedVersion: await lastSavedVersion(b.id, b.signedOffVersion), by: userRef(signer), at: b.signedOffAt!.toISOString() }
+        : null,
     authors: people.map((u) => ({ id: u.id, name: u.name })),
     allowed: allowed.map((t) => ({ to: t.to, label: t.label, reasonRequired: !!t.reasonRequired })),
     history: history.map((h) => ({

@@ -104,7 +104,12 @@ export interface ReviewInfo {
   name: string;
   state: ReviewState;
   version: number;
-  signedOff: { version: number; by: UserRef | null; at: string } | null;
+  /**
+   * The current sign-off. `savedVersion`: the last version saved by a person up
+   * to the signed-off one; the versions after it up to `version` were kept at
+   * sign-off with the same geometry (equal to `version` when none was kept).
+   */
+  signedOff: { version: number; savedVersion: number; by: UserRef | null; at: string } | null;
   /** Creator and everyone who saved a version. */
   authors: UserRef[];
   /** Transitions the asker may take now (from the shared table, own-work rule applied). */

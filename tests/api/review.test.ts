@@ -319,7 +319,7 @@ describe('signed off: frozen until reopened', () => {
     expect((await request(t.app).get(`/api/buildups/${b.id}/versions`).set(interp)).body).toEqual(versionsBefore);
     expect((await request(t.app).get(`/api/sections/${sectionId}/velocity`).set(interp)).body).toEqual(velocityBefore);
     const r = await review(b.id);
-    expect(r.signedOff).toMatchObject({ version: b.version, by: { id: ids.reviewer, name: 'Remy Dunlin' } });
+    expect(r.signedOff).toMatchObject({ version: b.version, savedVersion: b.version, by: { id: ids.reviewer, name: 'Remy Dunlin' } });
     expect(r.allowed).toEqual([]); // the curator may do nothing
 
     // reopened with a reason: edits work again, and the history keeps the sign-off
@@ -346,6 +346,7 @@ describe('signed off: frozen until reopened', () => {
     expect(signed.status, JSON.stringify(signed.body)).toBe(200);
     expect(signed.body.version).toBe(b.version + 1);
     expect(signed.body.signedOff.version).toBe(b.version + 1);
+    expect(signed.body.signedOff.savedVersion).toBe(b.version); // the save whose geometry the kept version repeats
     expect(signed.body.history.at(-1)).toMatchObject({ to: 'signed_off', version: b.version + 1 });
     expect(signed.body.authors).toEqual([{ id: ids.interpreter, name: 'Ivo Marlstone' }]); // the kept version adds no author
     const kept = (await request(t.app).get(`/api/buildups/${b.id}/versions/${b.version + 1}`).set(interp)).body;
@@ -357,7 +358,7 @@ describe('signed off: frozen until reopened', () => {
     expect(measured.body).toEqual(live.body);
     // no change of context: the version sent is the version signed
     const c = await buildupIn(sectionId, 'signed_off');
-    expect((await review(c.id)).signedOff.version).toBe(c.version);
+    expect((await review(c.id)).signedOff).toMatchObject({ version: c.version, savedVersion: c.version });
   });
 
   it('a buildup that is not signed off leaves the section velocity editable', async () => {

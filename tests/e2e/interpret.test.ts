@@ -245,8 +245,15 @@ describe('interpretation canvas', () => {
     await p2.locator('[data-test="ledger-drowning-switch"]').click();
     await expect.poll(() => classOf(p2)).toBe('backstepping');
     await expect.poll(() => saveState(p2), { timeout: 15_000 }).toBe('saved');
-    expect((await request(t.app).get(`/api/sections/${tb11}/buildups`).set(bearer(token))).body[0].geometry.topIsDrowningSurface).toBe(false);
+    const adminSaved = (await request(t.app).get(`/api/sections/${tb11}/buildups`).set(bearer(token))).body[0];
+    expect(adminSaved.geometry.topIsDrowningSurface).toBe(false);
     await b2.shot('36-admin-saved');
+    // The first browser looks at the review again (every 15 s) and sees the admin's version number: that must not
+    // move its copy onto that number (its next save would overwrite the admin's change unseen).
+    await page.waitForResponse(
+      async (r) => r.request().method() === 'GET' && /\/api\/buildups\/\d+\/review$/.test(new URL(r.url()).pathname) && (await r.json()).version === adminSaved.version,
+      { timeout: 30_000 },
+    );
 
     // 10. Back in the first browser: an edit there meets the conflict instead of overwriting.
     const age = page.locator('[data-test="ledger-cycle-age-input"]').first();

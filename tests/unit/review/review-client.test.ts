@@ -103,3 +103,27 @@ describe('review state colours', () => {
     expect(fills.size).toBe(4);
   });
 });
+
+describe('the working copy after someone else’s save or a sign-off', () => {
+  const signedOff = (version: number, savedVersion: number) => ({ buildupId: 7, signedOff: { version, savedVersion, by: null, at: '2026-12-05T09:00:00.000Z' } });
+  const copy = (version: number) => ({ id: 'b1', serverId: 7, version });
+
+  it('follows only a version kept at sign-off after the very version it holds', async () => {
+    const { keptBySignOff } = await import('../../../client/composables/useInterpretReview');
+    expect(keptBySignOff(signedOff(5, 4), copy(4), [])).toBe(5); // kept at sign-off from version 4: same geometry
+    expect(keptBySignOff(signedOff(6, 4), copy(5), [])).toBe(6); // two kept in a row (sign-off, reopen, sign-off)
+    expect(keptBySignOff(signedOff(5, 5), copy(5), [])).toBeNull(); // nothing newer
+  });
+
+  it('never takes the number of someone else’s save, so the next save meets the conflict', async () => {
+    const { keptBySignOff } = await import('../../../client/composables/useInterpretReview');
+    // Not signed off: a newer version is a save by someone else (this used to be followed silently).
+    expect(keptBySignOff({ buildupId: 7, signedOff: null }, copy(4), [])).toBeNull();
+    // Signed off after someone else saved version 5: the copy (4) has other geometry.
+    expect(keptBySignOff(signedOff(5, 5), copy(4), [])).toBeNull();
+    expect(keptBySignOff(signedOff(6, 5), copy(4), [])).toBeNull();
+    // Unsaved edits, another buildup's review.
+    expect(keptBySignOff(signedOff(5, 4), copy(4), ['b1'])).toBeNull();
+    expect(keptBySignOff({ ...signedOff(5, 4), buildupId: 8 }, copy(4), [])).toBeNull();
+  });
+});
