@@ -64,6 +64,8 @@ export interface VelocityInfo {
   /** Where the default's numbers come from (empty for a stored model). */
   sources: string[];
   updatedAt: string | null;
+  /** Who saved the stored model (null for the default). */
+  updatedBy: { id: number; name: string } | null;
 }
 
 /** GET /api/sections/:sectionId/buildups — oldest first, each with its geometry. */
@@ -126,9 +128,20 @@ export function getVelocity(sectionId: number, signal?: AbortSignal): Promise<Ve
   return apiFetch<VelocityInfo>(`/sections/${sectionId}/velocity`, { signal });
 }
 
-/** PUT /api/sections/:id/velocity — answers the stored model. */
-export function putVelocity(sectionId: number, velocity: VelocityModel): Promise<VelocityInfo> {
-  return apiFetch<VelocityInfo>(`/sections/${sectionId}/velocity`, { method: 'PUT', body: { velocity } });
+/**
+ * PUT /api/sections/:id/velocity — answers the stored model. `baseUpdatedAt`: the stored model's
+ * `updatedAt` the edit started from (null: the default); someone else's model saved meanwhile answers
+ * 409 `version_conflict` with theirs in `details.current` (read it with `velocityConflict`).
+ */
+export function putVelocity(sectionId: number, velocity: VelocityModel, baseUpdatedAt?: string | null): Promise<VelocityInfo> {
+  return apiFetch<VelocityInfo>(`/sections/${sectionId}/velocity`, { method: 'PUT', body: baseUpdatedAt === undefined ? { velocity } : { velocity, baseUpdatedAt } });
+}
+
+/** The stored model from a velocity save refused as stale, or null for any other error. */
+export function velocityConflict(e: unknown): VelocityInfo | null {
+  if (!isApiError(e) || e.code !== 'version_conflict') return null;
+  const current = (e.details as { current?: VelocityInfo } | undefined)?.current;
+  return current && typeof current === 'object' && 'velocity' in current ? current : null;
 }
 
 /** POST /api/measure — the engine on a posted interpretation. */

@@ -50,7 +50,7 @@ export function useSectionVelocity(sectionId: MaybeRefOrGetter<number>) {
 export function usePutVelocity(sectionId: MaybeRefOrGetter<number>) {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: (velocity: VelocityModel) => putVelocity(toValue(sectionId), velocity),
+    mutationFn: ({ velocity, baseUpdatedAt }: { velocity: VelocityModel; baseUpdatedAt: string | null }) => putVelocity(toValue(sectionId), velocity, baseUpdatedAt),
     onSuccess: (info: VelocityInfo) => {
       qc.setQueryData(buildupKeys.velocity(toValue(sectionId)), info);
       void qc.invalidateQueries({ queryKey: buildupKeys.measurements });

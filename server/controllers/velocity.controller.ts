@@ -7,5 +7,5 @@ export async function get(req: Request, res: Response) {
   res.json(await velocity.getVelocity(req.user!, idParam(req)));
 }
 export async function put(req: Request, res: Response) {
-  res.json(await velocity.putVelocity(req.user!, idParam(req), res.locals.body.velocity));
+  res.json(await velocity.putVelocity(req.user!, idParam(req), res.locals.body.velocity, res.locals.body.baseUpdatedAt));
 }

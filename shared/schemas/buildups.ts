@@ -48,8 +48,11 @@ export const saveBuildupSchema = z.object({
 });
 export type SaveBuildupInput = z.infer<typeof saveBuildupSchema>;
 
-/** `PUT /api/sections/:id/velocity`: a velocity model of measurement-spec §3 (ranges allowed). */
-export const putVelocitySchema = z.object({ velocity: velocityModelSchema });
+/**
+ * `PUT /api/sections/:id/velocity`: a velocity model of measurement-spec §3 (ranges allowed), and the
+ * `updatedAt` of the stored model it replaces (null: none stored yet); a stale one answers 409 `version_conflict`.
+ */
+export const putVelocitySchema = z.object({ velocity: velocityModelSchema, baseUpdatedAt: z.iso.datetime().nullable().optional() });
 
 /**
  * Default velocity model for a section in TWT: the buildup-aware vertical ray

@@ -125,4 +125,46 @@ describe('velocity routes (velocity.service.ts)', () => {
     expect(bad.status).toBe(400);
     expect(bad.body.details[0].path).toMatch(/^velocity/);
   });
+
+  it('a save names the model it started from: a stale one answers 409 with the stored model and changes nothing', async () => {
+    const list = await request(t.app).get('/api/projects').set(bearer(interp));
+    const demoId = list.body.items.find((p: { name: string }) => p.name === 'Tessel Basin screening').id;
+    const up = await upload(t, interp, demoId, await makeImage('png', 120, 60));
+    expect(up.status, JSON.stringify(up.body)).toBe(202);
+    const sid: number = up.body.id;
+    const url = `/api/sections/${sid}/velocity`;
+    const admin = bearer(await t.token('admin'));
+    const audits = () => AuditEvent.count({ where: { action: 'section.velocity', targetId: String(sid) } });
+
+    // Two people open the default (null) and save at once: one is stored, the other meets it.
+    const [a, b] = await Promise.all([
+      request(t.app).put(url).set(bearer(interp)).send({ velocity: { kind: 'constant', v: 2100 }, baseUpdatedAt: null }),
+      request(t.app).put(url).set(admin).send({ velocity: { kind: 'constant', v: 2200 }, baseUpdatedAt: null }),
+    ]);
+    expect([a.status, b.status].sort()).toEqual([200, 409]);
+    const won = a.status === 200 ? a : b;
+    const lost = a.status === 200 ? b : a;
+    expect(lost.body.code).toBe('version_conflict');
+    expect(lost.body.details.current).toEqual(won.body);
+    const adminId = (await request(t.app).get('/api/auth/me').set(admin)).body.user.id;
+    expect(won.body.updatedBy.id).toBe(a.status === 200 ? interpId : adminId);
+    expect(await audits()).toBe(1);
+
+    // Started from the stored model: saved. Started from the one before it: refused, nothing written, no audit row.
+    const first = won.body.updatedAt as string;
+    const next = await request(t.app).put(url).set(bearer(interp)).send({ velocity: { kind: 'constant', v: 2300 }, baseUpdatedAt: first });
+    expect(next.status, JSON.stringify(next.body)).toBe(200);
+    const stale = await request(t.app).put(url).set(admin).send({ velocity: { kind: 'constant', v: 2450 }, baseUpdatedAt: first });
+    expect(stale.status).toBe(409);
+    expect(stale.body).toMatchObject({ code: 'version_conflict', details: { current: { velocity: { kind: 'constant', v: 2300 }, updatedAt: next.body.updatedAt } } });
+    expect(stale.body.message).toMatch(/after you opened it/);
+    expect((await request(t.app).get(url).set(bearer(interp))).body.velocity).toEqual({ kind: 'constant', v: 2300 });
+    expect(await audits()).toBe(2);
+    // Saying "the default" when a model is stored is stale too; leaving the base out writes whatever is stored.
+    expect((await request(t.app).put(url).set(admin).send({ velocity: { kind: 'constant', v: 2500 }, baseUpdatedAt: null })).status).toBe(409);
+    expect((await request(t.app).put(url).set(admin).send({ velocity: { kind: 'constant', v: 2500 } })).status).toBe(200);
+    const badBase = await request(t.app).put(url).set(admin).send({ velocity: { kind: 'constant', v: 2500 }, baseUpdatedAt: 'yesterday' });
+    expect(badBase.status).toBe(400);
+    expect(badBase.body.details[0].path).toBe('baseUpdatedAt');
+  });
 });
