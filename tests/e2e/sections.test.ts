@@ -96,13 +96,13 @@ describe('sections journey', () => {
     await page.fill('[data-test="section-survey"]', 'TB-2024');
     // One coordinate alone: the shared schema wants all four, and says so beside each missing one.
     await page.click('[data-test="section-coords-toggle"]');
-    await page.fill('[data-test="section-start-lon"]', '3.0');
+    await page.fill('[data-test="section-start-lon"]', '63.0'); // invented line in open ocean
     await page.click('[data-test="section-upload-submit"]');
     await expect.poll(() => modal.textContent()).toMatch(/give all four line end coordinates or none/i);
     await b.shot('11-upload-form-errors');
-    await page.fill('[data-test="section-start-lat"]', '56.0');
-    await page.fill('[data-test="section-end-lon"]', '3.1');
-    await page.fill('[data-test="section-end-lat"]', '56.0');
+    await page.fill('[data-test="section-start-lat"]', '-28.0');
+    await page.fill('[data-test="section-end-lon"]', '63.06');
+    await page.fill('[data-test="section-end-lat"]', '-28.0');
 
     await page.click('[data-test="section-upload-submit"]');
     // Both bars appear: the transfer first, then the tiling one fed by polling.
@@ -228,7 +228,7 @@ describe('sections journey', () => {
     expect(residualTexts).toHaveLength(3);
     residualTexts.forEach((text, i) => expect(Math.abs(numbers(text)[0] - expected.residuals[i].residualPx)).toBeLessThan(0.006));
     expect(numbers(await page.locator('[data-test="ties-rms-x"]').textContent())[0]).toBeCloseTo(expected.rmsWorld.x, 2);
-    // The line (0.1° of longitude at 56° N, about 6.2 km) is far shorter than the calibrated 10 km: coral warning.
+    // The line (0.06° of longitude at 28° S, about 5.9 km) is far shorter than the calibrated 10 km: coral warning.
     await page.locator('[data-test="length-mismatch"]').waitFor();
     await page.mouse.move(box.x + box.width * 0.8, box.y + box.height * 0.8);
     await b.shot('17-ties-residuals');
@@ -262,6 +262,32 @@ describe('sections journey', () => {
     await expect.poll(async () => Number(await stage.getAttribute('data-scale'))).toBeGreaterThan(fitScale * 1.2);
     await page.keyboard.press('f');
     await expect.poll(async () => Number(await stage.getAttribute('data-scale'))).toBeCloseTo(fitScale, 3);
+
+    // ---- details: a save that meets someone else's newer copy overwrites nothing ----------
+    await page.click('[data-test="section-edit"]');
+    const title = page.locator('[data-test="meta-title"]');
+    await title.waitFor();
+    const meta = (await request(t.app).get(`/api/sections/${sectionId}`).set(bearer(token))).body;
+    expect(await title.inputValue()).toBe(meta.title);
+    await title.fill(`${meta.title} (reviewed)`);
+    // meanwhile, from another tab: the survey name
+    const other = await request(t.app).patch(`/api/sections/${sectionId}`).set(bearer(token)).send({ version: meta.version, survey: 'Tessel 2D-26' });
+    expect(other.status, JSON.stringify(other.body)).toBe(200);
+    await page.click('[data-test="section-meta-save"]');
+    await page.locator('[data-test="section-meta-conflict"]').waitFor();
+    expect((await request(t.app).get(`/api/sections/${sectionId}`).set(bearer(token))).body).toMatchObject({ title: meta.title, survey: 'Tessel 2D-26' });
+    await page.waitForTimeout(300);
+    await b.shot('18a-section-details-conflict');
+    await page.click('[data-test="section-meta-load-newer"]');
+    await expect.poll(() => page.locator('[data-test="meta-survey"]').inputValue()).toBe('Tessel 2D-26');
+    expect(await title.inputValue()).toBe(meta.title);
+    expect(await page.locator('[data-test="section-meta-conflict"]').count()).toBe(0);
+    await title.fill(`${meta.title} (reviewed)`);
+    await page.click('[data-test="section-meta-save"]');
+    await expect
+      .poll(async () => (await request(t.app).get(`/api/sections/${sectionId}`).set(bearer(token))).body)
+      .toMatchObject({ title: `${meta.title} (reviewed)`, survey: 'Tessel 2D-26' });
+    await expect.poll(() => page.locator('[data-test="meta-title"]').count()).toBe(0); // the drawer closed
 
     // ---- back to the project: delete with confirmation, empty state ---------------
     await page.click('[data-test="section-project-link"]');
