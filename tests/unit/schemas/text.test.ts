@@ -106,12 +106,13 @@ describe('every free-text field refuses bad text with its path', () => {
 
 interface Def {
   type: string;
+  format?: string;
   checks?: { _zod: { def: { check: string; format?: string; fn?: unknown } } }[];
   [k: string]: unknown;
 }
 const defOf = (s: unknown): Def | null => ((s as { _zod?: { def?: Def } })?._zod?.def ?? null);
 
-/** Paths of string schemas that carry neither the safe-text check nor a strict format (e-mail, regex, enum-like). */
+/** Paths of string schemas that carry neither the safe-text check nor a strict format (e-mail, regex, ISO 8601 date-time, enum-like). */
 function bareStrings(schema: unknown, path: string, seen = new Set<unknown>()): string[] {
   const def = defOf(schema);
   if (!def || seen.has(schema)) return [];
@@ -123,6 +124,7 @@ function bareStrings(schema: unknown, path: string, seen = new Set<unknown>()): 
         const d = c._zod.def;
         return d.fn === safeSingleLine || d.fn === safeMultiLine || d.format === 'email' || d.format === 'regex';
       });
+      if (def.format === 'datetime' || def.format === 'email') return []; // z.iso.datetime(), z.email(): the format is the schema itself
       return ok ? [] : [path];
     }
     case 'object':
@@ -155,6 +157,10 @@ describe('no bare z.string() in the shared schemas', () => {
     const { z } = await import('zod');
     expect(bareStrings(z.object({ a: z.object({ b: z.array(z.string().trim().optional()) }) }), 'x')).toEqual(['x.a.b[]']);
     expect(bareStrings(z.object({ a: safeText().trim() }), 'x')).toEqual([]);
+    // An ISO 8601 date-time is a strict format: nothing but its own characters gets through.
+    expect(bareStrings(z.object({ at: z.iso.datetime().nullable() }), 'x')).toEqual([]);
+    expect(z.iso.datetime().safeParse('2026-12-05T09:00:00.000Z').success).toBe(true);
+    for (const bad of ['2026-12-05T09:00:00.000Z\u0000', '2026-12-05T09:00:00.000Z\ud800', 'yesterday']) expect(z.iso.datetime().safeParse(bad).success).toBe(false);
   });
 
   for (const [mod, exports] of Object.entries(modules)) {
