@@ -242,13 +242,23 @@ describe('sections journey', () => {
     expect(Math.abs(xNow - 2.5 * pxNow[0])).toBeLessThan(40);
 
     // ---- save ------------------------------------------------------------------
-    await page.click('[data-test="calibration-save"]');
-    await expect.poll(() => page.locator('[data-test="calibration-version"]').textContent()).toMatch(/Calibration v1/);
-    await expect.poll(() => page.locator('[data-test="calibration-dirty"]').count()).toBe(0);
+    // Another tab saves a first calibration meanwhile: this save meets it and keeps the list; saving again replaces it.
     const token = await t.token('interpreter');
+    const otherTab = await request(t.app)
+      .put(`/api/sections/${sectionId}/calibration`)
+      .set(bearer(token))
+      .send({ baseVersion: 0, mode: 'affine', ties: [{ px: [0, 0], world: [0, 0] }, { px: [4000, 0], world: [10000, 0] }, { px: [0, 1200], world: [0, 3000] }] });
+    expect(otherTab.status, JSON.stringify(otherTab.body)).toBe(201);
+    await page.click('[data-test="calibration-save"]');
+    await expect.poll(() => page.locator('.n-message').allTextContents()).toContainEqual(expect.stringMatching(/Someone saved a newer calibration meanwhile/));
+    expect(await page.locator('[data-test="tie-residual-px"]').count()).toBe(3); // the list is kept
+    await expect.poll(() => page.locator('[data-test="calibration-dirty"]').count()).toBe(1);
+    await page.click('[data-test="calibration-save"]');
+    await expect.poll(() => page.locator('[data-test="calibration-version"]').textContent()).toMatch(/Calibration v2/);
+    await expect.poll(() => page.locator('[data-test="calibration-dirty"]').count()).toBe(0);
     const saved = await request(t.app).get(`/api/sections/${sectionId}`).set(bearer(token));
     expect(saved.status).toBe(200);
-    expect(saved.body.calibration).toMatchObject({ version: 1, mode: 'axes' });
+    expect(saved.body.calibration).toMatchObject({ version: 2, mode: 'axes' });
     expect(saved.body.calibration.ties).toHaveLength(3);
     expect(saved.body.calibration.fit.rmsPx).toBeCloseTo(expected.rmsPx, 6);
     expect(saved.body.calibration.lengthMismatch).not.toBeNull();
