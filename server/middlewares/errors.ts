@@ -1,6 +1,6 @@
 import type { ErrorRequestHandler, RequestHandler } from 'express';
 import { ZodError } from 'zod';
-import { BaseError as SequelizeError, ConnectionError as SequelizeConnectionError } from 'sequelize';
+import { BaseError as SequelizeError, ConnectionError as SequelizeConnectionError, UniqueConstraintError } from 'sequelize';
 import { MulterError } from 'multer';
 import type { ApiErrorBody } from '../../shared/api-errors';
 import { AppError, validationError } from '../errors';
@@ -76,6 +76,10 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
     logger.warn({ path: req.path, reason: err?.message }, 'database unavailable');
     e = new AppError(503, 'database_unavailable', `The database is unavailable; try again in a few seconds`);
     if (!res.headersSent) res.set('Retry-After', String(DB_RETRY_AFTER_SECONDS));
+  } else if (err instanceof UniqueConstraintError) {
+    // A check-then-insert that lost a race to another request (SQLSTATE 23505): the other one's record stands.
+    logger.warn({ path: req.path, constraint: (err as UniqueConstraintError & { parent?: { constraint?: string } }).parent?.constraint }, 'unique constraint met');
+    e = new AppError(409, 'already_exists', 'The same record was created by another request meanwhile; reload to see it');
   } else {
     logger.error({ err, path: req.path }, 'unhandled error');
     e = new AppError(500, 'internal', 'Something went wrong on the server');

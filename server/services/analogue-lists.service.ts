@@ -1,5 +1,5 @@
 /** Analogue library: controlled lists (settings, carbonate factories, climates), the ICS chart, saved searches. */
-import { QueryTypes, type Transaction } from 'sequelize';
+import { QueryTypes, UniqueConstraintError, type Transaction } from 'sequelize';
 import { notFound } from '../errors';
 import { audit } from './audit.service';
 import { ICS_EDITION, ICS_UNITS } from '../../shared/ics-chart';
@@ -33,21 +33,25 @@ export async function readLists(transaction?: Transaction): Promise<ControlledLi
 }
 
 export async function addListItem(actor: Actor, list: ListName, v: ListItemInput): Promise<ListItem> {
+  const taken = () => invalid(409, 'list_value_exists', 'value', `"${v.value}" is already in the ${list} list`);
   await write(async (transaction) => {
     const [exists] = await db().query('SELECT 1 FROM analogue_lists WHERE list = $1 AND value = $2', { bind: [list, v.value], type: QueryTypes.SELECT, transaction });
-    if (exists) throw invalid(409, 'list_value_exists', 'value', `"${v.value}" is already in the ${list} list`);
+    if (exists) throw taken();
     await db().query('INSERT INTO analogue_lists (list, value, label, position) VALUES ($1::varchar, $2, $3, (SELECT coalesce(max(position), 0) + 1 FROM analogue_lists WHERE list = $1::varchar))', {
       bind: [list, v.value, v.label],
       transaction,
     });
     await audit(actor.id, 'analogue.list.add', 'analogue_list', list, v, transaction);
+  }).catch((e: unknown) => {
+    throw e instanceof UniqueConstraintError ? taken() : e; // the same value added by someone else at the same moment
   });
   return { value: v.value, label: v.label };
 }
 
 export async function removeListItem(actor: Actor, list: ListName, value: string) {
   await write(async (transaction) => {
-    const [row] = await db().query('SELECT 1 FROM analogue_lists WHERE list = $1 AND value = $2', { bind: [list, value], type: QueryTypes.SELECT, transaction });
+    // Locked first: a save using the value holds it FOR SHARE, so the count below sees every use that lands.
+    const [row] = await db().query('SELECT 1 FROM analogue_lists WHERE list = $1 AND value = $2 FOR UPDATE', { bind: [list, value], type: QueryTypes.SELECT, transaction });
     if (!row) throw notFound('List value');
     const [{ n }] = await db().query<{ n: number }>(`SELECT count(*)::int AS n FROM analogues WHERE ${list} = $1`, { bind: [value], type: QueryTypes.SELECT, transaction });
     if (n > 0) throw invalid(409, 'list_value_in_use', 'value', `"${value}" is used by ${n} analogue(s); change them first`);

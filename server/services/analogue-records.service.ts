@@ -4,7 +4,7 @@
  * decisions, edits, deletion, the promoted crop, and the row builders the
  * CSV import and the demo seeder share.
  */
-import { type Sequelize, type Transaction } from 'sequelize';
+import { QueryTypes, type Sequelize, type Transaction } from 'sequelize';
 import { AppError, notFound, forbidden } from '../errors';
 import { audit } from './audit.service';
 import { getBuildup, measureContext } from './buildup.service';
@@ -24,6 +24,7 @@ import {
   type Citation,
   type DepthProfile,
   type HandEntryInput,
+  type ListName,
   type MetricKey,
   type Metrics,
   type PercentileRange,
@@ -50,12 +51,21 @@ import { readLists } from './analogue-lists.service';
 
 
 /** Refuse list values that are not in the controlled lists (422 unknown_tag naming the field). */
+/**
+ * Every controlled-list value `v` uses is in its list. Within a write `transaction` the values used are
+ * held (FOR SHARE) until it ends, so a curator removing one of them at the same moment waits and then
+ * finds it in use (analogue-lists.service.ts locks the value FOR UPDATE before counting its uses).
+ */
 async function checkLists(v: { setting?: string | null; factory?: string | null; climate?: string | null }, transaction?: Transaction) {
   const lists = await readLists(transaction);
+  const unknown = (l: ListName, value: string) => invalid(422, 'unknown_tag', l, `"${value}" is not in the ${l} list (${lists[l].map((i) => i.value).join(', ')})`);
   for (const l of LIST_NAMES) {
     const value = v[l];
-    if (value != null && !lists[l].some((i) => i.value === value))
-      throw invalid(422, 'unknown_tag', l, `"${value}" is not in the ${l} list (${lists[l].map((i) => i.value).join(', ')})`);
+    if (value == null) continue;
+    if (!lists[l].some((i) => i.value === value)) throw unknown(l, value);
+    if (!transaction) continue;
+    const held = await db().query('SELECT 1 FROM analogue_lists WHERE list = $1 AND value = $2 FOR SHARE', { bind: [l, value], type: QueryTypes.SELECT, transaction });
+    if (!held.length) throw unknown(l, value); // removed by a curator meanwhile
   }
 }
 

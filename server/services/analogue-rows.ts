@@ -136,9 +136,15 @@ export async function toDetail(r: Row): Promise<AnalogueDetail> {
   };
 }
 
+/**
+ * One analogue row. Within a write `transaction` the row is locked (FOR UPDATE) until it ends, so a
+ * check made on it (version, pending) still holds when the write lands: of two saves from the same
+ * version one wins and the other meets the conflict, instead of both passing and the later one
+ * overwriting the earlier unseen.
+ */
 export async function rowById(id: number, transaction?: Transaction): Promise<Row> {
   if (!Number.isInteger(id) || id <= 0) throw notFound('Analogue');
-  const [r] = await db().query<Row>('SELECT * FROM analogues WHERE id = $1', { bind: [id], type: QueryTypes.SELECT, transaction });
+  const [r] = await db().query<Row>(`SELECT * FROM analogues WHERE id = $1${transaction ? ' FOR UPDATE' : ''}`, { bind: [id], type: QueryTypes.SELECT, transaction });
   if (!r) throw notFound('Analogue');
   return r;
 }

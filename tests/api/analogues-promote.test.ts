@@ -120,6 +120,15 @@ describe('promotion', () => {
     const declined = await request(t.app).post(`/api/analogues/${second.body.id}/decline`).set(bearer(curator)).send({ reason: 'Already in the library' });
     expect(declined.body).toMatchObject({ status: 'declined', declineReason: 'Already in the library' });
     expect((await request(t.app).post(`/api/buildups/${buildup.id}/promote`).set(bearer(await t.token('reviewer'))).send({})).status).toBe(403);
+    // Two curators decide the same request at once: one decision stands, the other is told it is no longer pending.
+    const third = await request(t.app).post(`/api/buildups/${buildup.id}/promote`).set(bearer(interpreter)).send({ name: 'Kestrel Knoll (third ask)' });
+    const [acc, dec] = await Promise.all([
+      request(t.app).post(`/api/analogues/${third.body.id}/accept`).set(bearer(curator)).send({}),
+      request(t.app).post(`/api/analogues/${third.body.id}/decline`).set(bearer(curator)).send({ reason: 'Same as the first' }),
+    ]);
+    expect([acc.status, dec.status].sort(), JSON.stringify([acc.body.status ?? acc.body.code, dec.body.status ?? dec.body.code])).toEqual([200, 409]);
+    const stood = acc.status === 200 ? acc.body : dec.body;
+    expect((await request(t.app).get(`/api/analogues/${third.body.id}`).set(bearer(curator))).body).toMatchObject({ status: stood.status, version: third.body.version + 1 });
   });
 
   it('says when the live interpretation has changed since the promotion', async () => {

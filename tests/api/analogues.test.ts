@@ -12,6 +12,7 @@ import { analogueSearchSchema, type HandEntryInput } from '../../shared/schemas/
 import { exportCsv as exportCsvPages, exportGeoJson as exportGeoJsonPages, type ExportSink } from '../../server/services/analogue-import.service';
 import Papa from 'papaparse';
 import { facetCache, forgetGeneration, searchCache } from '../../server/services/analogue-rows';
+import { AuditEvent } from '../../server/models/index';
 
 let t: TestApp;
 let curator: string;
@@ -256,6 +257,25 @@ describe('records and permissions', () => {
     await request(t.app).delete(`/api/analogues/${a.id}`).set(bearer(curator));
   });
 
+  it('two saves from the same version at once: one lands, the other meets the conflict (none is lost unseen)', async () => {
+    const a = await add(curator, entry('Twin Save Knoll'));
+    const audits = () => AuditEvent.count({ where: { action: 'analogue.update', targetId: String(a.id) } });
+    const before = await audits();
+    for (let round = 0; round < 3; round++) {
+      const v = (await request(t.app).get(`/api/analogues/${a.id}`).set(bearer(curator))).body.version;
+      const [x, y] = await Promise.all([
+        request(t.app).patch(`/api/analogues/${a.id}`).set(bearer(curator)).send({ version: v, notes: `first of round ${round}` }),
+        request(t.app).patch(`/api/analogues/${a.id}`).set(bearer(curator)).send({ version: v, tags: [`second-${round}`] }),
+      ]);
+      expect([x.status, y.status].sort(), JSON.stringify([x.body.version ?? x.body.code, y.body.version ?? y.body.code])).toEqual([200, 409]);
+      const now = (await request(t.app).get(`/api/analogues/${a.id}`).set(bearer(curator))).body;
+      expect(now.version).toBe(v + 1);
+      expect((x.status === 200 ? x : y).body).toEqual(now);
+    }
+    expect(await audits()).toBe(before + 3);
+    await request(t.app).delete(`/api/analogues/${a.id}`).set(bearer(curator));
+  });
+
   it('controlled lists: curators add and remove, a value in use stays', async () => {
     const add1 = await request(t.app).post('/api/analogues/lists/setting').set(bearer(curator)).send({ value: 'ramp-margin', label: 'Ramp margin' });
     expect(add1.status, JSON.stringify(add1.body)).toBe(201);
@@ -270,6 +290,38 @@ describe('records and permissions', () => {
     expect(inUse.body.code).toBe('list_value_in_use');
     expect((await request(t.app).delete('/api/analogues/lists/setting/ramp-margin').set(bearer(curator))).status).toBe(204);
     expect((await request(t.app).post('/api/analogues/lists/colour').set(bearer(curator)).send({ value: 'x', label: 'X' })).status).toBe(404);
+  });
+
+  it('controlled lists at the same moment: one add of a value wins; a removal and a save using the value never both land', async () => {
+    const addTwice = await Promise.all(
+      ['Shelf ring', 'Shelf ring again'].map((label) => request(t.app).post('/api/analogues/lists/setting').set(bearer(curator)).send({ value: 'shelf-ring', label })),
+    );
+    expect(addTwice.map((r) => r.status).sort()).toEqual([201, 409]);
+    expect(addTwice.find((r) => r.status === 409)!.body).toMatchObject({ code: 'list_value_exists', details: [{ path: 'value' }] });
+    const a = await add(curator, entry('Ring Shoal'));
+    for (let round = 0; round < 3; round++) {
+      const v = (await request(t.app).get(`/api/analogues/${a.id}`).set(bearer(curator))).body.version;
+      const [save, remove] = await Promise.all([
+        request(t.app).patch(`/api/analogues/${a.id}`).set(bearer(curator)).send({ version: v, setting: 'shelf-ring' }),
+        request(t.app).delete('/api/analogues/lists/setting/shelf-ring').set(bearer(curator)),
+      ]);
+      const now = (await request(t.app).get(`/api/analogues/${a.id}`).set(bearer(curator))).body;
+      const listed = (await get('/api/analogues/lists')).body.setting.some((i: { value: string }) => i.value === 'shelf-ring');
+      if (save.status === 200) {
+        // the save landed first: the value is in use and stays
+        expect(remove.body.code).toBe('list_value_in_use');
+        expect([now.setting, listed]).toEqual(['shelf-ring', true]);
+      } else {
+        // the removal landed first: the save is refused, naming the field
+        expect([save.status, save.body.code, save.body.details[0].path, remove.status]).toEqual([422, 'unknown_tag', 'setting', 204]);
+        expect([now.setting, listed]).toEqual([null, false]);
+      }
+      // back to the start for the next round: no setting, the value listed
+      if (now.setting) expect((await request(t.app).patch(`/api/analogues/${a.id}`).set(bearer(curator)).send({ version: now.version, setting: null })).status).toBe(200);
+      if (!listed) expect((await request(t.app).post('/api/analogues/lists/setting').set(bearer(curator)).send({ value: 'shelf-ring', label: 'Shelf ring' })).status).toBe(201);
+    }
+    await request(t.app).delete(`/api/analogues/${a.id}`).set(bearer(curator));
+    expect((await request(t.app).delete('/api/analogues/lists/setting/shelf-ring').set(bearer(curator))).status).toBe(204);
   });
 
   it('saved searches belong to their owner', async () => {

@@ -15,7 +15,7 @@ import {
   UniqueConstraintError,
   ValidationError,
 } from 'sequelize';
-import { isDatabaseUnavailable } from '../../server/middlewares/errors';
+import { errorHandler, isDatabaseUnavailable } from '../../server/middlewares/errors';
 import { bytesText } from '../../server/middlewares/body';
 
 const pgError = (code: string | undefined, message = 'x') => Object.assign(new Error(message), code ? { code } : {});
@@ -53,5 +53,18 @@ describe('bytesText (the limit named in 413 answers)', () => {
     expect(bytesText(16 * 1024)).toBe('16 KB');
     expect(bytesText(1536 * 1024)).toBe('1.5 MB');
     expect(bytesText(900)).toBe('900 bytes');
+  });
+});
+
+describe('a unique constraint met by a racing insert', () => {
+  it('answers 409 already_exists, not 500 (SQLSTATE 23505, PostgreSQL manual, Appendix A)', () => {
+    let status = 0;
+    let body: unknown = null;
+    const res = { headersSent: false, set: () => res, status: (s: number) => ((status = s), res), json: (b: unknown) => ((body = b), res) };
+    errorHandler(new UniqueConstraintError({}), { path: '/api/x' } as never, res as never, () => {});
+    expect(status).toBe(409);
+    expect(body).toMatchObject({ code: 'already_exists' });
+    errorHandler(wrapped(pgError('22P02')), { path: '/api/x' } as never, res as never, () => {}); // any other query error stays a 500
+    expect(status).toBe(500);
   });
 });
