@@ -9,7 +9,7 @@ import { useProject } from './useProjects';
 import { useSection } from './useSections';
 
 export function useInterpretSection(sectionId: MaybeRefOrGetter<number>) {
-  const { data: section, isPending, error } = useSection(() => toValue(sectionId));
+  const { data: section, isPending, error, refetch } = useSection(() => toValue(sectionId));
   const projectId = computed(() => section.value?.projectId ?? 0);
   const { data: project } = useProject(projectId);
 
@@ -33,5 +33,5 @@ export function useInterpretSection(sectionId: MaybeRefOrGetter<number>) {
     return { title: 'Could not load the section', text: errorMessage(e) };
   });
 
-  return { section, project, isPending, isReady, calibration, isCalibrated, loadError };
+  return { section, project, isPending, isReady, calibration, isCalibrated, loadError, refetch };
 }

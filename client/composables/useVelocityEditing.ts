@@ -75,5 +75,5 @@ export function useVelocityEditing(sectionId: MaybeRefOrGetter<number>) {
     await save(draft.value);
   }
 
-  return { info, show, draft, conflict, saving: computed(() => put.isPending.value), save, loadTheirs, saveMine };
+  return { info, show, draft, conflict, saving: computed(() => put.isPending.value), save, loadTheirs, saveMine, refetch: () => query.refetch() };
 }

@@ -9,8 +9,10 @@
  * Then the velocity model editor on the same line: the interpreter changes
  * the seafloor while the admin saves another model; the interpreter's save
  * meets it instead of overwriting it (the drawer keeps the typed value and
- * names who saved), loads theirs, changes it and saves. Screenshots
- * velocity-….
+ * names who saved), loads theirs, changes it and saves; a model the admin
+ * saves while the page is open reaches it (the server check disagrees, the
+ * page reads the model again, says who changed it and is confirmed again).
+ * Screenshots velocity-….
  */
 import type { Page } from 'playwright-core';
 import request from 'supertest';
@@ -173,5 +175,31 @@ describe('velocity model editor', () => {
     await expect.poll(async () => (await request(t.app).get(url).set(bearer(token))).body.velocity.water.seafloorMs).toBe(startMs + 60);
     await expect.poll(() => page.locator('[data-test="velocity-editor"]').count()).toBe(0); // the drawer closed
     await b.shot('velocity-02-saved');
+  });
+
+  it('a model saved elsewhere reaches the open page: the server check disagrees, the page reads the model again, says who changed it and is confirmed again', async () => {
+    const page = b.page;
+    const url = `/api/sections/${tb14}/velocity`;
+    const admin = bearer(await t.token('admin'));
+    const adminName: string = (await request(t.app).get('/api/auth/me').set(admin)).body.user.name;
+    const serverState = () => page.locator('[data-test="readings-server-state"]').getAttribute('data-state');
+    await page.locator('[data-test="readings-tab-numbers"]').click();
+    await expect.poll(serverState, { timeout: 20_000 }).toBe('confirmed');
+    const height = async () => (await page.locator('[data-test="readings-panel"]').textContent()) ?? '';
+    const before = await height();
+
+    const now = (await request(t.app).get(url).set(bearer(token))).body;
+    const faster = { ...now.velocity, carbonate: { v: 5200 } }; // a faster buildup: thicker cycles in depth
+    expect((await request(t.app).put(url).set(admin).send({ velocity: faster, baseUpdatedAt: now.updatedAt })).status).toBe(200);
+
+    // an edit and its save: the server measures with the new model, the page still with the old one
+    const age = page.locator('[data-test="ledger-cycle-age-input"]').first();
+    await age.fill('16.2');
+    await age.press('Tab');
+    await expect.poll(() => page.locator('.n-message').allTextContents(), { timeout: 30_000 }).toContainEqual(expect.stringContaining(`${adminName} changed the velocity model`));
+    await expect.poll(serverState, { timeout: 30_000 }).toBe('confirmed');
+    expect(await page.locator('[data-test="interpret-velocity"]').textContent()).toMatch(/5200/);
+    expect(await height()).not.toBe(before);
+    await b.shot('velocity-03-changed-elsewhere');
   });
 });
