@@ -1,5 +1,5 @@
 /** Analogue library: controlled lists (settings, carbonate factories, climates), the ICS chart, saved searches. */
-import { QueryTypes, UniqueConstraintError, type Transaction } from 'sequelize';
+import { QueryTypes, type Transaction } from 'sequelize';
 import { notFound } from '../errors';
 import { audit } from './audit.service';
 import { ICS_EDITION, ICS_UNITS } from '../../shared/ics-chart';
@@ -33,17 +33,14 @@ export async function readLists(transaction?: Transaction): Promise<ControlledLi
 }
 
 export async function addListItem(actor: Actor, list: ListName, v: ListItemInput): Promise<ListItem> {
-  const taken = () => invalid(409, 'list_value_exists', 'value', `"${v.value}" is already in the ${list} list`);
   await write(async (transaction) => {
-    const [exists] = await db().query('SELECT 1 FROM analogue_lists WHERE list = $1 AND value = $2', { bind: [list, v.value], type: QueryTypes.SELECT, transaction });
-    if (exists) throw taken();
-    await db().query('INSERT INTO analogue_lists (list, value, label, position) VALUES ($1::varchar, $2, $3, (SELECT coalesce(max(position), 0) + 1 FROM analogue_lists WHERE list = $1::varchar))', {
-      bind: [list, v.value, v.label],
-      transaction,
-    });
+    // ON CONFLICT: the same value added by someone else, before or at the same moment, is one answer.
+    const [added] = await db().query(
+      'INSERT INTO analogue_lists (list, value, label, position) VALUES ($1::varchar, $2, $3, (SELECT coalesce(max(position), 0) + 1 FROM analogue_lists WHERE list = $1::varchar)) ON CONFLICT (list, value) DO NOTHING RETURNING value',
+      { bind: [list, v.value, v.label], type: QueryTypes.SELECT, transaction },
+    );
+    if (!added) throw invalid(409, 'list_value_exists', 'value', `"${v.value}" is already in the ${list} list`);
     await audit(actor.id, 'analogue.list.add', 'analogue_list', list, v, transaction);
-  }).catch((e: unknown) => {
-    throw e instanceof UniqueConstraintError ? taken() : e; // the same value added by someone else at the same moment
   });
   return { value: v.value, label: v.label };
 }

@@ -50,9 +50,8 @@ import { readLists } from './analogue-lists.service';
 // ---- writing -----------------------------------------------------------------------------------
 
 
-/** Refuse list values that are not in the controlled lists (422 unknown_tag naming the field). */
 /**
- * Every controlled-list value `v` uses is in its list. Within a write `transaction` the values used are
+ * Refuse list values that are not in the controlled lists (422 unknown_tag naming the field). Within a write `transaction` the values used are
  * held (FOR SHARE) until it ends, so a curator removing one of them at the same moment waits and then
  * finds it in use (analogue-lists.service.ts locks the value FOR UPDATE before counting its uses).
  */
