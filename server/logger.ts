@@ -14,7 +14,15 @@ export const requestScope = new AsyncLocalStorage<{ reqId: string }>();
 interface LineSink {
   write(line: string): unknown;
 }
-const stdout: LineSink = pino.destination({ dest: 1, sync: true });
+// Asynchronous: a request never waits on the terminal or pipe reading the log. Lines logged while a write
+// is under way go out together in the next one; what is still buffered is written when the process exits
+// (pino's on-exit-leak-free hook), so a SIGKILL loses at most that tail. A reader that stops reading makes
+// the buffer stop at 16 MiB: later lines are dropped (and counted) instead of filling the memory.
+const stdout = pino.destination({ dest: 1, sync: false, maxLength: 16 * 2 ** 20 });
+let dropped = 0;
+stdout.on('drop', () => dropped++);
+/** Log lines dropped because stdout's reader fell 16 MiB behind. */
+export const droppedLogLines = () => dropped;
 let sink: LineSink = stdout;
 
 /** Send log lines elsewhere (tests collect them); `null` goes back to stdout. */

@@ -2,11 +2,12 @@ import type { Request, Response, RequestHandler } from 'express';
 import { pipeline } from 'node:stream/promises';
 import multer, { MulterError } from 'multer';
 import pLimit from 'p-limit';
+import { LRUCache } from 'lru-cache';
 import * as a from '../services/analogue.service';
 import * as io from '../services/analogue-import.service';
 import { idParam } from '../middlewares/params';
 import { AppError, validationError } from '../errors';
-import { analogueSearchSchema, importMappingSchema, IMPORT_MAX_BYTES, listNameSchema, searchQueryFromUrl, type ListName } from '../../shared/schemas/analogues';
+import { analogueSearchSchema, importMappingSchema, IMPORT_MAX_BYTES, listNameSchema, searchQueryFromUrl, type AnalogueSearchQuery, type ListName } from '../../shared/schemas/analogues';
 import { multipartBody } from '../openapi/marks';
 
 function listParam(req: Request): ListName {
@@ -15,11 +16,36 @@ function listParam(req: Request): ListName {
   return r.data;
 }
 
+/**
+ * Searches parsed a moment ago, by their query string exactly as sent: a
+ * repeated search (a shared link, a page polled, the list and the map asking
+ * alike) is not parsed and validated again. Only valid ones are kept; the
+ * parsed query is frozen, as every request that meets it shares it.
+ */
+const parsedSearches = new LRUCache<string, AnalogueSearchQuery>({ max: 1000 });
+/** Searches parsed from their query string (not taken from `parsedSearches`), for tests. */
+export const searchParseStats = { parsed: 0 };
+
 /** Parse the URL form of a search (arrays as comma lists, r.<field>=min..max). */
-function searchQuery(req: Request) {
+function searchQuery(req: Request): AnalogueSearchQuery {
+  const at = req.originalUrl.indexOf('?');
+  const raw = at < 0 ? '' : req.originalUrl.slice(at + 1);
+  const kept = raw.length <= 4096 ? parsedSearches.get(raw) : undefined;
+  if (kept) return kept;
+  searchParseStats.parsed++;
   const r = analogueSearchSchema.safeParse(searchQueryFromUrl(req.query as Record<string, unknown>));
   if (!r.success) throw validationError(r.error);
-  return r.data;
+  const q = deepFreeze(r.data);
+  if (raw.length <= 4096) parsedSearches.set(raw, q);
+  return q;
+}
+
+function deepFreeze<T>(v: T): T {
+  if (v && typeof v === 'object' && !Object.isFrozen(v)) {
+    Object.freeze(v);
+    for (const x of Object.values(v)) deepFreeze(x);
+  }
+  return v;
 }
 
 export async function search(req: Request, res: Response) {

@@ -158,8 +158,8 @@ export function invalid(status: number, code: string, path: string, message: str
   return new AppError(status, code, `${path}: ${message}`, [{ path, message }]);
 }
 
-/** Search answers as sent (JSON text and entity tag), by library generation and query. */
-export const searchCache = new LRUCache<string, { json: string; etag: string }>({ max: 500 });
+/** Search answers as sent (JSON bytes and entity tag), by library generation and query. */
+export const searchCache = new LRUCache<string, { json: Buffer; etag: string }>({ max: 500 });
 /** Facet counts and totals by library generation and filters alone (sort and page left out): paging or re-sorting a search does not count again. */
 export const facetCache = new LRUCache<string, FacetTotals>({ max: 500 });
 /**

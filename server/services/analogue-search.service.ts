@@ -286,14 +286,18 @@ async function facetCounts(q: AnalogueSearchQuery): Promise<FacetTotals> {
   return { facets, total };
 }
 
-/** A search's answer as the JSON text the route sends, with its entity tag (both kept in the cache, so a repeated search is not serialised or hashed again). */
+/**
+ * A search's answer as the UTF-8 bytes of the JSON the route sends, with its
+ * entity tag (both kept in the cache, so a repeated search is not serialised,
+ * encoded or hashed again).
+ */
 export interface SearchBody {
-  json: string;
+  json: Buffer;
   etag: string;
 }
 
 function body(out: AnalogueSearchResponse): SearchBody {
-  const json = JSON.stringify(out);
+  const json = Buffer.from(JSON.stringify(out), 'utf8');
   return { json, etag: `W/"${crypto.createHash('sha1').update(json).digest('base64url')}"` };
 }
 

@@ -104,7 +104,7 @@ describe('paging by seeking from known page ends', () => {
     const all = await expected('height_m DESC NULLS LAST, id');
     const actor = { id: 1, role: 'interpreter' as const };
     const q = (n: number) => analogueSearchSchema.parse(searchQueryFromUrl(new URLSearchParams(`sort=heightM&dir=desc&pageSize=${SIZE}&page=${n}&facets=0`)));
-    const ids = (json: string) => (JSON.parse(json) as { items: { id: number }[] }).items.map((x) => x.id);
+    const ids = (json: Buffer) => (JSON.parse(json.toString('utf8')) as { items: { id: number }[] }).items.map((x) => x.id);
     forgetGeneration();
     expect(ids((await searchBody(actor, q(1))).json)).toEqual(all.slice(0, SIZE)); // (reads the generation once)
     const adjacent = listPageStats.adjacent;

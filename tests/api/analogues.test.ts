@@ -12,6 +12,7 @@ import { analogueSearchSchema, type HandEntryInput } from '../../shared/schemas/
 import { exportCsv as exportCsvPages, exportGeoJson as exportGeoJsonPages, type ExportSink } from '../../server/services/analogue-import.service';
 import Papa from 'papaparse';
 import { facetCache, forgetGeneration, searchCache } from '../../server/services/analogue-rows';
+import { searchParseStats } from '../../server/controllers/analogue.controller';
 import { AuditEvent } from '../../server/models/index';
 
 let t: TestApp;
@@ -190,6 +191,26 @@ describe('facet counts', () => {
     const after = await get('/api/analogues?status=any&pageSize=2&page=2');
     expect(after.body.total).toBe(p1.body.total + 1);
     expect((await request(t.app).delete(`/api/analogues/${extra.id}`).set(bearer(curator))).status).toBe(204);
+  });
+
+  it('a search string met again is not parsed again; a bad one is refused every time; the same search written otherwise gets the same answer', async () => {
+    const url = '/api/analogues?setting=bank,pinnacle&r.heightM=10..400&sort=heightM&dir=desc&pageSize=3';
+    const before = searchParseStats.parsed;
+    const a = await get(url);
+    const b = await get(url);
+    expect([a.status, b.status]).toEqual([200, 200]);
+    expect(searchParseStats.parsed - before).toBe(1);
+    expect(b.body).toEqual(a.body);
+    // the parameters in another order: parsed on its own, answered alike (the answer cache keys on the parsed search)
+    const c = await get('/api/analogues?dir=desc&pageSize=3&sort=heightM&r.heightM=10..400&setting=bank,pinnacle');
+    expect(searchParseStats.parsed - before).toBe(2);
+    expect(c.body).toEqual(a.body);
+    for (let i = 0; i < 2; i++) {
+      const bad = await get('/api/analogues?setting=bank&r.heightM=..abc');
+      expect(bad.status).toBe(400);
+      expect(bad.body.details[0].path).toBe('ranges.heightM.max');
+    }
+    expect(searchParseStats.parsed - before).toBe(4);
   });
 
   it('bad search parameters answer 400 naming the field', async () => {
