@@ -343,7 +343,7 @@ describe('Analogue library in the browser', () => {
     await at(450, 250);
     await page.waitForSelector('[data-test="figure-profile-ready"]');
     // crest at v = 110 → 1000 + 60/200 × 400 = 1120 m over a base at 1400 m: 280 m high, 3000 m across
-    expect(await page.textContent('[data-test="figure-profile-ready"]')).toContain('3,000 m across');
+    expect(await page.textContent('[data-test="figure-profile-ready"]')).toContain('3\u2009000 m across');
     await page.locator('[data-test="figure-profile-ready"]').scrollIntoViewIfNeeded();
     await curatorBrowser.shot('68-library-hand-entry');
     await page.click('[data-test="hand-save"]');

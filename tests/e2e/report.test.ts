@@ -80,6 +80,19 @@ describe('buildup report', () => {
     expect(await page.textContent('[data-test="report-ve"]')).toMatch(/VE ≈ \d/);
     expect(await page.textContent('[data-test="report-caution"]')).toContain('qualified interpreter');
     expect(await page.locator('[data-test="report-ledger"] tbody tr').count()).toBeGreaterThan(0);
+    // no number is broken over two lines at its thin-space thousands separator ("5 / 800.0")
+    const broken = await page.evaluate(() =>
+      [...document.querySelectorAll('[data-test="report-ledger"] td, [data-test="report-figures"] td + td')]
+        .filter((td) => {
+          const text = td.firstChild;
+          if (!text || !/\d/.test(td.textContent ?? '')) return false;
+          const range = document.createRange();
+          range.selectNodeContents(td);
+          return new Set([...range.getClientRects()].map((r) => Math.round(r.top))).size > 1;
+        })
+        .map((td) => td.textContent),
+    );
+    expect(broken).toEqual([]);
     await page.waitForTimeout(300);
     await b.shot('report-01-page');
     await page.locator('[data-test="report-plots"]').scrollIntoViewIfNeeded();

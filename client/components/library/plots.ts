@@ -9,6 +9,7 @@ import { CLASS_BADGE } from '../../canvas/palette';
 import { CYCLE_COLOURS } from '../../canvas/palette';
 import { palette } from '../../theme';
 import { histogram, wantsLogAxis } from './axes';
+import { formatNumber, formatScientific } from '../../../shared/format';
 
 export type ColourBy = 'class' | 'setting' | 'factory' | 'climate' | 'period';
 
@@ -93,6 +94,7 @@ export function crossplotOption(input: CrossplotInput): { option: EChartsOption;
     name: `${metricLabel(key)}${log ? ' · log' : ''}`,
     nameLocation: 'middle' as const,
     scale: !log,
+    axisLabel: { formatter: (v: number) => fmt(v) }, // "16 000", as the tables write it
     axisLine: { lineStyle: { color: '#8795a1' } },
     splitLine: { lineStyle: { color: '#eef2f4' } },
   });
@@ -137,12 +139,19 @@ export function histogramOption(items: AnalogueSummary[], key: MetricKey): { opt
   return { option, log, counted };
 }
 
-/** Three significant figures, thousands grouped. */
+/**
+ * Three significant figures in the house style of the Readings and reports
+ * (shared/format.ts): thousands grouped with a thin space, a true minus
+ * sign, at most 3 decimals, trailing zeros dropped; very large or very small
+ * values as "3.20 × 10⁹".
+ */
 export function fmt(v: number | null | undefined): string {
   if (v === null || v === undefined || !Number.isFinite(v)) return '—';
   const a = Math.abs(v);
-  if (a !== 0 && (a >= 1e7 || a < 1e-3)) return v.toExponential(2);
-  return Number(v.toPrecision(3)).toLocaleString('en-GB', { maximumFractionDigits: 3 });
+  if (a !== 0 && (a >= 1e7 || a < 1e-3)) return formatScientific(v, 3);
+  const r = Number(v.toPrecision(3));
+  const decimals = r === 0 ? 0 : Math.min(3, Math.max(0, 2 - Math.floor(Math.log10(Math.abs(r)))));
+  return formatNumber(r, decimals).replace(/(\.\d*?)0+$/, '$1').replace(/\.$/, '');
 }
 
 function escapeHtml(s: string): string {

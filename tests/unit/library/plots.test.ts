@@ -37,6 +37,13 @@ describe('library crossplot', () => {
     expect(r.missing).toBe(1);
   });
 
+  it('labels both axes as the tables write numbers', () => {
+    const r = crossplotOption({ items, x: 'areaM2', y: 'heightM', colourBy: 'class' });
+    const label = (a: unknown) => (a as { axisLabel: { formatter: (v: number) => string } }).axisLabel.formatter;
+    expect(label(r.option.xAxis)(16000)).toBe('16\u2009000');
+    expect(label(r.option.yAxis)(2.5e7)).toBe('2.50 × 10⁷');
+  });
+
   it('uses a log axis only for the metric that spans more than two decades', () => {
     const r = crossplotOption({ items, x: 'areaM2', y: 'heightM', colourBy: 'class' });
     expect(r.xLog).toBe(true);
@@ -67,10 +74,15 @@ describe('library histogram', () => {
 });
 
 describe('fmt', () => {
-  it('three significant figures', () => {
-    expect(fmt(1234.5)).toBe('1,230');
+  it('three significant figures, thin-space thousands, true minus, as the Readings write them', () => {
+    expect(fmt(1234.5)).toBe('1\u2009230');
+    expect(fmt(7890)).toBe('7\u2009890');
+    expect(fmt(-31.25)).toBe('\u221231.3');
+    expect(fmt(23.04)).toBe('23');
     expect(fmt(0.12345)).toBe('0.123');
+    expect(fmt(0.0452)).toBe('0.045');
+    expect(fmt(0)).toBe('0');
     expect(fmt(null)).toBe('—');
-    expect(fmt(3.2e9)).toBe('3.20e+9');
+    expect(fmt(3.2e9)).toBe('3.20 × 10⁹');
   });
 });
