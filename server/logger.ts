@@ -6,6 +6,7 @@
  * LOG_LEVEL sets the level (silent under tests unless a test raises it).
  */
 import { AsyncLocalStorage } from 'node:async_hooks';
+import { isMainThread } from 'node:worker_threads';
 import pino from 'pino';
 
 /** The request being served on this async path (set by the request-id middleware). */
@@ -17,12 +18,9 @@ interface LineSink {
 // Asynchronous: a request never waits on the terminal or pipe reading the log. Lines logged while a write
 // is under way go out together in the next one; what is still buffered is written when the process exits
 // (pino's on-exit-leak-free hook), so a SIGKILL loses at most that tail. A reader that stops reading makes
-// the buffer stop at 16 MiB: later lines are dropped (and counted) instead of filling the memory.
-const stdout = pino.destination({ dest: 1, sync: false, maxLength: 16 * 2 ** 20 });
-let dropped = 0;
-stdout.on('drop', () => dropped++);
-/** Log lines dropped because stdout's reader fell 16 MiB behind. */
-export const droppedLogLines = () => dropped;
+// the buffer stop at 16 MiB: later lines are dropped instead of filling the memory.
+// Worker threads (which pino's exit hook does not cover, and which may be ended at any moment) write synchronously.
+const stdout = pino.destination({ dest: 1, sync: !isMainThread, maxLength: 16 * 2 ** 20 });
 let sink: LineSink = stdout;
 
 /** Send log lines elsewhere (tests collect them); `null` goes back to stdout. */
