@@ -3,7 +3,8 @@
  * svg-to-pdfkit, pdfkit, font subsetting) in a worker thread, so the process
  * that takes a report job keeps answering requests on its event loop
  * meanwhile. Input is plain data (the report and the crop figures);
- * progress comes back over a MessagePort handed to the task.
+ * progress comes back over a MessagePort handed to the task, and crops still
+ * being composited when the task starts go to the thread over the same port.
  *
  * The thread is kept warm between reports (one thread, tinypool): starting
  * it means registering tsx and loading pdfkit, fontkit and ECharts, about
@@ -31,13 +32,26 @@ function thePool(): Tinypool {
   return pool;
 }
 
-/** The PDF of `input` written to `file` on the PDF thread; resolves with its page count and the thread that made it. */
+/**
+ * The PDF of `input` written to `file` on the PDF thread; resolves with its
+ * page count and the thread that made it. When `input.figures` is a promise
+ * the thread starts at once and the crops follow over the task's port when
+ * they are ready (or the reason they failed, which fails the PDF).
+ */
 export async function writeReportPdfOffLoop(input: PdfInput, file: string): Promise<{ pages: number; threadId: number }> {
-  const { onProgress, ...data } = input;
+  const { onProgress, figures, ...data } = input;
   const { port1, port2 } = new MessageChannel();
   port1.on('message', (f: number) => onProgress?.(f));
+  const later = !Array.isArray(figures);
+  if (later) {
+    Promise.resolve(figures).then(
+      (f) => port1.postMessage({ figures: f }),
+      (e: unknown) => port1.postMessage({ error: e instanceof Error ? e.message : String(e) }),
+    );
+  }
   try {
-    const reply = (await thePool().run({ input: data, file, progress: port2 }, { transferList: [port2] })) as { pages?: number; threadId?: number; error?: string };
+    const task = { input: { ...data, figures: later ? null : figures }, file, progress: port2 };
+    const reply = (await thePool().run(task, { transferList: [port2] })) as { pages?: number; threadId?: number; error?: string };
     if (reply.error !== undefined) throw new Error(`report PDF: ${reply.error}`);
     return { pages: reply.pages!, threadId: reply.threadId! };
   } finally {

@@ -59,7 +59,12 @@ export interface CropFigure {
 
 export interface PdfInput {
   report: BuildupReport;
-  figures: CropFigure[];
+  /**
+   * The crops, or their promise: the document is begun (fonts, title block,
+   * the plots rendered to SVG) while the crops are still being composited,
+   * and waits for them only where they are drawn.
+   */
+  figures: CropFigure[] | PromiseLike<CropFigure[]>;
   paper: Paper;
   onProgress?: (fraction: number) => void;
 }
@@ -188,13 +193,19 @@ export async function writeReportPdf(input: PdfInput, file: string): Promise<{ p
   if (m) para(`Height ${formatValue('length', toDisplayLength(m.heightM, report.unit), report.unit)} · base width ${formatValue('length', toDisplayLength(m.baseWidthM, report.unit), report.unit)}`, { fontSize: 10 });
   progress(0.1);
 
+  // the plots as SVG now (ECharts SSR, the largest share of the document's work), before waiting for the crops
+  const plotW = Math.floor((W - 12) / 2);
+  const plotH = 170;
+  const plots = m ? reportPlots(m, report.unit, report.options?.aggradingToleranceDeg ?? 10).map((p) => plotSvg(p.option, plotW, plotH)) : [];
+  const figures = await input.figures;
+
   if (report.missing.length) {
     heading('What is missing before this buildup can be measured');
     for (const item of report.missing) para(item, { bullet: true });
   }
 
   // ---- crops
-  for (const f of input.figures) {
+  for (const f of figures) {
     heading(f.title);
     const maxH = Math.min(360, bottom() - MARGIN - 60);
     const scale = Math.min(W / f.width, maxH / f.height);
@@ -268,14 +279,13 @@ export async function writeReportPdf(input: PdfInput, file: string): Promise<{ p
     // ---- plots
     doc.addPage();
     heading('Plots');
-    const plots = reportPlots(m, report.unit, report.options?.aggradingToleranceDeg ?? 10);
-    const pw = Math.floor((W - 12) / 2);
-    const ph = 170;
-    plots.forEach((p, i) => {
+    const pw = plotW;
+    const ph = plotH;
+    plots.forEach((svg, i) => {
       const col = i % 2;
       if (col === 0) ensure(ph + 8);
       const y = doc.y;
-      SVGtoPDF(doc, plotSvg(p.option, pw, ph), MARGIN + col * (pw + 12), y, { width: pw, height: ph, fontCallback: () => 'plex' });
+      SVGtoPDF(doc, svg, MARGIN + col * (pw + 12), y, { width: pw, height: ph, fontCallback: () => 'plex' });
       if (col === 1 || i === plots.length - 1) doc.y = y + ph + 8;
       else doc.y = y;
       doc.x = MARGIN;

@@ -412,6 +412,28 @@ describe('PDF, PNG and SVG through the report job', () => {
     expect(pdftotext(path.join(scratch, 'loop-b.pdf'))).toContain(CAUTION.slice(0, 40));
   });
 
+  it('begins the PDF before the crops are ready: crops that come later are drawn, crops that fail fail it and write nothing', async () => {
+    const r = await get(`/api/buildups/${knollId}/report`);
+    expect(r.status).toBe(200);
+    const jpeg = await sharp({ create: { width: 40, height: 20, channels: 3, background: '#5a7d8c' } }).jpeg().toBuffer();
+    const figure = { title: 'Late crop', caption: 'Delivered after the document began', image: jpeg, overlay: '<svg xmlns="http://www.w3.org/2000/svg" width="40" height="20"></svg>', width: 40, height: 20 };
+    let deliver: (f: (typeof figure)[]) => void = () => {};
+    const late = new Promise<(typeof figure)[]>((resolve) => (deliver = resolve));
+    const file = path.join(scratch, 'late-crops.pdf');
+    const making = writeReportPdfOffLoop({ report: r.body, figures: late, paper: 'a4' }, file);
+    await new Promise((res) => setTimeout(res, 300));
+    expect(fs.existsSync(file)).toBe(false); // waiting for the crops
+    deliver([figure]);
+    expect((await making).pages).toBeGreaterThan(0);
+    expect(pdftotext(file)).toContain('Delivered after the document began');
+
+    const failed = path.join(scratch, 'failed-crops.pdf');
+    await expect(writeReportPdfOffLoop({ report: r.body, figures: Promise.reject(new Error('tile 3_1 is missing')), paper: 'a4' }, failed)).rejects.toThrow(/tile 3_1 is missing/);
+    expect(fs.existsSync(failed)).toBe(false);
+    // the thread goes on with the next report
+    expect((await writeReportPdfOffLoop({ report: r.body, figures: [], paper: 'letter' }, path.join(scratch, 'after-failed.pdf'))).pages).toBeGreaterThan(0);
+  });
+
   it('feet in the PDF: the height divided by 0.3048', async () => {
     const m = ((await get(`/api/buildups/${knollId}/measurements`)).body as MeasurementOutput).buildups[0];
     const ft = await pdfOf(knollId, 'a4', JSON.stringify({ unit: 'ft' }));
