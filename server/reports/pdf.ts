@@ -279,14 +279,12 @@ export async function writeReportPdf(input: PdfInput, file: string): Promise<{ p
     // ---- plots
     doc.addPage();
     heading('Plots');
-    const pw = plotW;
-    const ph = plotH;
     plots.forEach((svg, i) => {
       const col = i % 2;
-      if (col === 0) ensure(ph + 8);
+      if (col === 0) ensure(plotH + 8);
       const y = doc.y;
-      SVGtoPDF(doc, svg, MARGIN + col * (pw + 12), y, { width: pw, height: ph, fontCallback: () => 'plex' });
-      if (col === 1 || i === plots.length - 1) doc.y = y + ph + 8;
+      SVGtoPDF(doc, svg, MARGIN + col * (plotW + 12), y, { width: plotW, height: plotH, fontCallback: () => 'plex' });
+      if (col === 1 || i === plots.length - 1) doc.y = y + plotH + 8;
       else doc.y = y;
       doc.x = MARGIN;
       progress(0.5 + (0.3 * (i + 1)) / plots.length);
