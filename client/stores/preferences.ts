@@ -17,6 +17,9 @@ export const usePreferencesStore = defineStore('preferences', () => {
   const session = useSessionStore();
   const lengthUnit = ref<LengthUnit>(DEFAULT_LENGTH_UNIT);
   const loadedFor = ref<number | null>(null);
+  // bumped by every choice the person makes, so a load that was already on its
+  // way (sign-in, reload) cannot put back the unit they have just changed
+  let choices = 0;
 
   function fromStorage(userId: number) {
     try {
@@ -30,9 +33,11 @@ export const usePreferencesStore = defineStore('preferences', () => {
   async function load(): Promise<void> {
     const id = session.user?.id;
     if (!id) return;
-    fromStorage(id);
+    const seen = choices;
+    if (seen === 0) fromStorage(id);
     try {
       const p = await getPreferences();
+      if (seen !== choices || session.user?.id !== id) return;
       lengthUnit.value = p.lengthUnit;
       localStorage.setItem(key(id), p.lengthUnit);
       loadedFor.value = id;
@@ -43,13 +48,15 @@ export const usePreferencesStore = defineStore('preferences', () => {
 
   async function setLengthUnit(unit: LengthUnit): Promise<void> {
     const before = lengthUnit.value;
+    const mine = ++choices;
     lengthUnit.value = unit;
     try {
       const p = await putPreferences({ lengthUnit: unit });
+      if (mine !== choices) return; // a later choice is on its way
       lengthUnit.value = p.lengthUnit;
       if (session.user) localStorage.setItem(key(session.user.id), p.lengthUnit);
     } catch (e) {
-      lengthUnit.value = before;
+      if (mine === choices) lengthUnit.value = before;
       throw e;
     }
   }
@@ -58,6 +65,7 @@ export const usePreferencesStore = defineStore('preferences', () => {
   watch(
     () => session.user?.id ?? null,
     (id) => {
+      choices = 0;
       if (id === null) {
         lengthUnit.value = DEFAULT_LENGTH_UNIT;
         loadedFor.value = null;

@@ -103,8 +103,9 @@ describe('project buildup register', () => {
 
     // switch to feet in the user menu: headers, numbers and the axis names change
     await page.click('[data-test="user-menu"]');
+    await page.waitForSelector('[data-test="user-menu-panel"]', { state: 'visible' });
     await page.click('[data-test="unit-ft"]');
-    await expect.poll(() => page.getAttribute('[data-test="unit-ft"]', 'class')).toContain('checked');
+    await expect.poll(() => page.getAttribute('[data-test="unit-ft"]', 'class'), { timeout: 10_000 }).toContain('checked');
     await page.waitForTimeout(600); // let the buttons' colour transition finish before the screenshot
     await b.shot('92a-user-menu-feet');
     await expect.poll(() => page.textContent('[data-test="register-table"] thead')).toContain('Height (ft)');
