@@ -34,20 +34,103 @@ export const fontFile = (face: Face, subset: Subset) => path.join(FONT_DIR, `ibm
 /** The name a subset of a face is registered under in a document (the Latin one under the face's own name). */
 export const fontName = (face: Face, subset: Subset) => (subset === 'latin' ? face : `${face}-${subset}`);
 
-/** Register every subset of both faces with a pdfkit document. */
-export function registerFaces(doc: PDFKit.PDFDocument) {
-  for (const face of Object.keys(WEIGHT) as Face[]) for (const s of SUBSETS) doc.registerFont(fontName(face, s), sfntOfWoffFile(fontFile(face, s)));
+/**
+ * What a document keeps of a font (pdfkit 0.17's EmbeddedFont): the parsed
+ * font, the glyph subset it will embed, and the shaped words.
+ */
+interface PdfkitFont {
+  font: fontkit.Font;
+  layoutCache?: Record<string, unknown>;
+}
+type PdfkitFontClass = new (doc: PDFKit.PDFDocument, font: fontkit.Font, id: string) => PdfkitFont;
+/** The internals of a pdfkit document this module fills in (pdfkit 0.17: `font()` looks a name up in `_fontFamilies` first). */
+interface PdfkitDocInternals {
+  _fontFamilies: Record<string, PdfkitFont>;
+  _fontCount: number;
+  _font: PdfkitFont;
 }
 
-const coverage = new Map<Subset, fontkit.Font>();
-function fontOf(subset: Subset): fontkit.Font {
-  let f = coverage.get(subset);
-  if (!f) coverage.set(subset, (f = fontkit.create(sfntOfWoffFile(fontFile('plex', subset))) as fontkit.Font));
-  return f;
+/** Shaped words kept per font file before the memo starts afresh (a report uses a few thousand). */
+export const SHAPED_WORDS_KEPT = 20_000;
+
+interface SharedFace {
+  font: fontkit.Font;
+  shaped: Record<string, unknown>;
+  /** Advance widths of measured strings, in font units. */
+  widths: Map<string, number>;
+}
+const sharedFaces = new Map<string, SharedFace>();
+/** The thread's parsed font of a face's subset, with its memo of shaped words. */
+function sharedFace(face: Face, subset: Subset): SharedFace {
+  const name = fontName(face, subset);
+  let shared = sharedFaces.get(name);
+  if (!shared) sharedFaces.set(name, (shared = { font: fontkit.create(sfntOfWoffFile(fontFile(face, subset))) as fontkit.Font, shaped: Object.create(null) as Record<string, unknown>, widths: new Map() }));
+  return shared;
+}
+let embeddedFontClass: PdfkitFontClass | null = null;
+
+/** A count of the words shaped into the thread's memo (tests). */
+export const shapedWordCount = (face: Face, subset: Subset) => Object.keys(sharedFaces.get(fontName(face, subset))?.shaped ?? {}).length;
+
+/**
+ * Register every subset of both faces with a pdfkit document.
+ *
+ * Each font file is parsed once per thread and its shaped words (fontkit's
+ * layout with the font's kerning and ligatures, the largest share of a
+ * report's text work) are kept between documents: pdfkit gives every new
+ * document a freshly parsed font and an empty word memo, so every report
+ * shaped the same words ("Cycle", "P50", the caution) again. What a document
+ * owns stays its own: the glyph subset it embeds and its widths and
+ * ToUnicode tables. A word's shaping depends only on the font file and the
+ * word, so a shaped word is the same in every document. The memo starts
+ * afresh past SHAPED_WORDS_KEPT words per file.
+ */
+export function registerFaces(doc: PDFKit.PDFDocument) {
+  const inside = doc as unknown as PdfkitDocInternals;
+  for (const face of Object.keys(WEIGHT) as Face[]) {
+    for (const subset of SUBSETS) {
+      const name = fontName(face, subset);
+      doc.registerFont(name, sfntOfWoffFile(fontFile(face, subset)));
+      if (!embeddedFontClass) {
+        // pdfkit does not export its embedded-font class: the first font it opens the ordinary way shows it
+        doc.font(name);
+        embeddedFontClass = inside._font.constructor as PdfkitFontClass;
+      }
+      const shared = sharedFace(face, subset);
+      if (Object.keys(shared.shaped).length > SHAPED_WORDS_KEPT) shared.shaped = Object.create(null) as Record<string, unknown>;
+      const font = new embeddedFontClass(doc, shared.font, `F${++inside._fontCount}`);
+      font.layoutCache = shared.shaped;
+      inside._fontFamilies[name] = font;
+    }
+  }
+}
+
+/**
+ * The width (px at `sizePx`) `text` takes in `face` as the PDF draws it:
+ * each run in its subset's font, shaped with the font's kerning and
+ * ligatures. For ECharts' label layout on the server (pdf.ts), which
+ * otherwise guesses widths from a table of a generic sans-serif.
+ */
+export function textWidth(face: Face, text: string, sizePx: number): number {
+  let units = 0;
+  for (const r of pdfRuns(text)) {
+    const shared = sharedFace(face, r.subset);
+    let w = shared.widths.get(r.text);
+    if (w === undefined) {
+      if (shared.widths.size >= SHAPED_WORDS_KEPT) shared.widths.clear();
+      w = (shared.font.layout(r.text).advanceWidth * 1000) / shared.font.unitsPerEm;
+      shared.widths.set(r.text, w);
+    }
+    units += w;
+  }
+  return (units * sizePx) / 1000;
 }
 
 /** Whether a subset's file has a glyph for a code point (the 400 and 600 files of a subset cover the same characters). */
-export const covers = (subset: Subset, cp: number) => fontOf(subset).hasGlyphForCodePoint(cp);
+export const covers = (subset: Subset, cp: number) => sharedFace('plex', subset).font.hasGlyphForCodePoint(cp);
+
+/** Whether some subset has a glyph for the character (white space always counts). */
+export const inAnySubset = (ch: string) => /\s/.test(ch) || SUBSETS.some((sub) => covers(sub, ch.codePointAt(0)!));
 
 const SUPER: Record<string, string> = { '⁰': '0', '¹': '1', '²': '2', '³': '3', '⁴': '4', '⁵': '5', '⁶': '6', '⁷': '7', '⁸': '8', '⁹': '9', '⁻': '-' };
 /**

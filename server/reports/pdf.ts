@@ -18,7 +18,7 @@ import fs from 'node:fs';
 import PDFDocument from 'pdfkit';
 import SVGtoPDF from 'svg-to-pdfkit';
 import * as echarts from 'echarts';
-import { heightOfRuns, registerFaces, writeRuns, type Face, type RunOptions } from './pdf-fonts';
+import { heightOfRuns, inAnySubset, registerFaces, textWidth, writeRuns, type Face, type RunOptions } from './pdf-fonts';
 import { HOUSE_PALETTE } from '../../shared/palette';
 import { reportPlots } from '../../shared/report/plots';
 import {
@@ -72,6 +72,26 @@ export interface PdfInput {
 const MARGIN = 48;
 const INK = HOUSE_PALETTE.ink;
 const MUTED = HOUSE_PALETTE.inkMuted;
+
+/** The face the PDF draws an SVG text in: SemiBold for bold (600 and up, as svg-to-pdfkit reads font-weight), else Regular. */
+const svgFace = (_family: string, bold: boolean): Face => (bold ? 'plex-semi' : 'plex');
+
+/**
+ * ECharts lays labels out (overlap, hidden labels, room for axis names) with
+ * the widths of the font the PDF draws them in, read from a CSS font string
+ * such as "normal normal 600 12px 'IBM Plex Sans'". Without it, ECharts on
+ * the server guesses widths from a table of a generic sans-serif.
+ */
+export function measurePlotText(text: string, font?: string): { width: number } {
+  const f = font ?? '';
+  const size = Number(/(\d+(?:\.\d+)?)px/.exec(f)?.[1] ?? 12);
+  const bold = /\b(bold|bolder|[6-9]00)\b/.test(f);
+  // a character no subset has counts one em, as ECharts' own guess does: zrender takes the width of "国" for the line height
+  let ems = 0;
+  const drawn = [...(text ?? '')].filter((ch) => (inAnySubset(ch) ? true : (ems++, false))).join('');
+  return { width: textWidth(svgFace('', bold), drawn, size) + ems * size };
+}
+echarts.setPlatformAPI({ measureText: measurePlotText as never });
 
 /** Render one plot option to an SVG string (ECharts SSR). */
 export function plotSvg(option: Record<string, unknown>, width: number, height: number): string {
@@ -214,7 +234,7 @@ export async function writeReportPdf(input: PdfInput, file: string): Promise<{ p
     ensure(h + 30);
     const y = doc.y;
     doc.image(f.image, MARGIN, y, { width: w, height: h });
-    SVGtoPDF(doc, f.overlay, MARGIN, y, { width: w, height: h, fontCallback: () => 'plex', preserveAspectRatio: 'none' });
+    SVGtoPDF(doc, f.overlay, MARGIN, y, { width: w, height: h, fontCallback: svgFace, preserveAspectRatio: 'none' });
     doc.rect(MARGIN, y, w, h).lineWidth(0.5).strokeColor(MUTED).stroke();
     doc.x = MARGIN;
     doc.y = y + h + 4;
@@ -283,7 +303,7 @@ export async function writeReportPdf(input: PdfInput, file: string): Promise<{ p
       const col = i % 2;
       if (col === 0) ensure(plotH + 8);
       const y = doc.y;
-      SVGtoPDF(doc, svg, MARGIN + col * (plotW + 12), y, { width: plotW, height: plotH, fontCallback: () => 'plex' });
+      SVGtoPDF(doc, svg, MARGIN + col * (plotW + 12), y, { width: plotW, height: plotH, fontCallback: svgFace });
       if (col === 1 || i === plots.length - 1) doc.y = y + plotH + 8;
       else doc.y = y;
       doc.x = MARGIN;

@@ -19,7 +19,8 @@ import { DEFAULT_LENGTH_UNIT, toDisplayLength, type LengthUnit } from '../units'
 
 const AXIS = {
   axisLine: { lineStyle: { color: '#9aa6b0' } },
-  axisLabel: { color: palette.inkMuted, fontSize: 10, formatter: (v: number | string) => (typeof v === 'number' ? formatNumber(v, Number.isInteger(v) ? 0 : 1) : v) },
+  // labels that would overlap another are left out (a narrow plot in the PDF, a narrow panel on the page)
+  axisLabel: { color: palette.inkMuted, fontSize: 10, hideOverlap: true, formatter: (v: number | string) => (typeof v === 'number' ? formatNumber(v, Number.isInteger(v) ? 0 : 1) : v) },
   splitLine: { lineStyle: { color: palette.line } },
   nameTextStyle: { color: palette.inkMuted, fontSize: 10 },
 };

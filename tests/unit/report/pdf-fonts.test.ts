@@ -14,7 +14,7 @@ import os from 'node:os';
 import path from 'node:path';
 import PDFDocument from 'pdfkit';
 import { afterAll, describe, expect, it } from 'vitest';
-import { covers, heightOfRuns, layoutRuns, pdfRuns, pdfText, registerFaces, writeRuns } from '../../../server/reports/pdf-fonts';
+import { covers, heightOfRuns, layoutRuns, pdfRuns, pdfText, registerFaces, shapedWordCount, writeRuns } from '../../../server/reports/pdf-fonts';
 
 const scratch = fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-pdf-fonts-'));
 afterAll(() => fs.rmSync(scratch, { recursive: true, force: true }));
@@ -139,5 +139,52 @@ describe('layoutRuns, heightOfRuns, writeRuns', () => {
     const pages = execFileSync('pdftotext', [file, '-'], { encoding: 'utf8' }).split('\f').filter((p) => p.trim());
     expect(pages).toHaveLength(WIDTHS.length);
     for (const page of pages) expect(page.trim().split(/\s+/).join(' ')).toBe(text);
+  });
+});
+
+describe('fonts shared between documents of one thread', () => {
+  /** The PDF of `text` written in `face` in a new document, and the glyph count of each embedded subset (its /W widths array). */
+  async function pdfOf(text: string, face: 'plex' | 'plex-semi' = 'plex') {
+    const { doc, ended } = newDoc();
+    writeRuns(doc, face, text, { x: 30, y: 30 }, { width: 300 });
+    doc.end();
+    const bytes = await ended;
+    const file = path.join(scratch, `shared-${Math.random().toString(36).slice(2)}.pdf`);
+    fs.writeFileSync(file, bytes);
+    const widths = [...bytes.toString('latin1').matchAll(/\/W \[0 \[([^\]]*)\]\]/g)].map((m) => m[1].trim().split(/\s+/).length);
+    // pdffonts: two header lines, then one line per font, its name first
+    const fonts = execFileSync('pdffonts', [file], { encoding: 'utf8' }).trim().split('\n').slice(2).map((l) => l.split(/\s+/)[0]);
+    return { text: execFileSync('pdftotext', [file, '-'], { encoding: 'utf8' }).trim(), widths, fonts };
+  }
+
+  it('shapes a word once per thread, and each document still embeds only the glyphs it uses', async () => {
+    const a = await pdfOf('Kestrel Knoll, Łąka and Holm over the Tessel shelf');
+    const shaped = shapedWordCount('plex', 'latin');
+    expect(shaped).toBeGreaterThan(0);
+    // the same words again in a new document: none shaped again
+    const again = await pdfOf('Kestrel Knoll over the Tessel shelf');
+    expect(shapedWordCount('plex', 'latin')).toBe(shaped);
+    expect(again.text).toBe('Kestrel Knoll over the Tessel shelf');
+    expect(a.text).toBe('Kestrel Knoll, Łąka and Holm over the Tessel shelf');
+    // a document after them embeds one Latin subset of its own 9 characters (M a r o w B n k and the space) plus .notdef,
+    // not the glyphs the documents before it used
+    const b = await pdfOf('Marrow Bank');
+    expect(b.text).toBe('Marrow Bank');
+    expect(b.widths).toEqual([10]);
+    // the first document embedded its Latin and its Latin Extended subsets
+    expect(a.widths).toHaveLength(2);
+  });
+
+  it('keeps the two weights apart: each document embeds the weight it wrote in (pdffonts)', async () => {
+    const semi = await pdfOf('Marrow Bank', 'plex-semi');
+    const regular = await pdfOf('Marrow Bank', 'plex');
+    expect(semi.text).toBe('Marrow Bank');
+    expect(regular.text).toBe('Marrow Bank');
+    expect(semi.fonts).toHaveLength(1);
+    expect(regular.fonts).toHaveLength(1);
+    // subset names are "ABCDEF+<PostScript name>": IBM Plex Sans SemiBold and Regular
+    expect(semi.fonts[0]).toMatch(/^[A-Z]{6}\+IBMPlexSans-?SemiBold/i);
+    expect(regular.fonts[0]).not.toMatch(/SemiBold/i);
+    expect(shapedWordCount('plex-semi', 'latin')).toBeGreaterThan(0);
   });
 });
