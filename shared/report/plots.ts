@@ -188,7 +188,8 @@ export function trajectoryAngleOption(b: BuildupMeasurement, toleranceDeg = 10) 
       trigger: 'item',
       formatter: (p: { name?: string; value?: unknown }) => `Cycle ${p.name}: ${formatDegrees(p.value as number)}`,
     },
-    grid: GRID,
+    // the band names stand right of the plot area, where no point can cover them
+    grid: { ...GRID, right: 76 },
     xAxis: { type: 'category', name: 'cycle', nameLocation: 'middle', nameGap: 20, data: b.cycles.map((c) => String(c.index)), ...AXIS },
     yAxis: { type: 'value', name: 'angle (°)', nameLocation: 'middle', nameGap: 34, min: lo, max: hi, interval: 30, ...AXIS },
     series: [
@@ -202,7 +203,7 @@ export function trajectoryAngleOption(b: BuildupMeasurement, toleranceDeg = 10) 
         lineStyle: { color: palette.ink, width: 1.5 },
         markArea: {
           silent: true,
-          label: { show: true, position: 'insideRight', fontSize: 9, color: palette.inkMuted },
+          label: { show: true, position: 'right', distance: 6, fontSize: 9, color: palette.inkMuted },
           data: bands.map((band) => [
             { yAxis: Math.max(lo, band.from), name: band.name, itemStyle: { color: band.colour } },
             { yAxis: Math.min(hi, band.to) },
