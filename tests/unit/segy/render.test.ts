@@ -172,9 +172,16 @@ describe('render pass over stored amplitudes', () => {
       const order = [...Array.from({ length: 11_000 }, (_, i) => i), 11_500, 11_002, 11_003, 11_004, 0];
       const selection = Uint32Array.from(order);
       const width = order.length;
-      const { lut } = rampLut('grey');
-      for (const agcMs of [null, 44]) {
-        const r = await openRender({ amplitudesPath: file, ns, selection, width, settings: { ramp: 'grey', clipPercentile: 98, agcMs }, intervalMs: 4 });
+      for (const [ramp, agcMs] of [['grey', null], ['grey', 44], ['diverging', null], ['diverging', 44]] as const) {
+        const { lut, channels } = rampLut(ramp);
+        /** Whether the pixel of column i, row j of a strip `width` wide is the ramp's colour of v. */
+        const drawn = (strip: Buffer, j: number, i: number, v: number, clip: number) => {
+          const at = (j * width + i) * channels;
+          const c = channels * rampIndex(v, clip);
+          for (let ch = 0; ch < channels; ch++) if (strip[at + ch] !== lut[c + ch]) return false;
+          return true;
+        };
+        const r = await openRender({ amplitudesPath: file, ns, selection, width, settings: { ramp, clipPercentile: 98, agcMs }, intervalMs: 4 });
         try {
           const y = 37;
           const rows = 20;
@@ -184,7 +191,7 @@ describe('render pass over stored amplitudes', () => {
           order.forEach((t, i) => {
             const trace = data.subarray(t * ns, (t + 1) * ns);
             const vals = win ? agc(trace, win) : trace;
-            for (let j = 0; j < rows; j++) if (strip[j * width + i] !== lut[rampIndex(vals[y + j], r.clip)]) wrong++;
+            for (let j = 0; j < rows; j++) if (!drawn(strip, j, i, vals[y + j], r.clip)) wrong++;
           });
           expect(wrong).toBe(0);
           // the whole section strip by strip, in order (strips rendered several at a time from one read)
@@ -192,11 +199,11 @@ describe('render pass over stored amplitudes', () => {
           for (let y0 = 0; y0 < ns; y0 += 32) {
             const n = Math.min(32, ns - y0);
             const st = await r.strips.readStrip(y0, n);
-            expect(st.length).toBe(width * n);
+            expect(st.length).toBe(width * n * channels);
             order.forEach((t, i) => {
               const trace = data.subarray(t * ns, (t + 1) * ns);
               const vals = win ? agc(trace, win) : trace;
-              for (let j = 0; j < n; j++) if (st[j * width + i] !== lut[rampIndex(vals[y0 + j], r.clip)]) bad++;
+              for (let j = 0; j < n; j++) if (!drawn(st, j, i, vals[y0 + j], r.clip)) bad++;
             });
           }
           expect(bad).toBe(0);
