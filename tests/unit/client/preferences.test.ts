@@ -39,6 +39,15 @@ function signedIn() {
   return { session, prefs };
 }
 
+/** Signed in, with the stored preference (metres) already arrived. */
+async function loadedInMetres() {
+  const { prefs } = signedIn();
+  await settle();
+  gets[0]!.resolve({ lengthUnit: 'm' });
+  await settle();
+  return prefs;
+}
+
 beforeEach(() => {
   gets.length = 0;
   puts.length = 0;
@@ -75,10 +84,7 @@ describe('length-unit preference', () => {
   });
 
   it('an earlier choice answering after a later one does not win', async () => {
-    const { prefs } = signedIn();
-    await settle();
-    gets[0]!.resolve({ lengthUnit: 'm' });
-    await settle();
+    const prefs = await loadedInMetres();
     const first = prefs.setLengthUnit('ft');
     const second = prefs.setLengthUnit('m');
     puts[1]!.resolve({ lengthUnit: 'm' });
@@ -89,10 +95,7 @@ describe('length-unit preference', () => {
   });
 
   it('a refused save puts the previous unit back and says so to the caller', async () => {
-    const { prefs } = signedIn();
-    await settle();
-    gets[0]!.resolve({ lengthUnit: 'm' });
-    await settle();
+    const prefs = await loadedInMetres();
     const saved = prefs.setLengthUnit('ft');
     expect(prefs.lengthUnit).toBe('ft');
     puts[0]!.reject(new Error('offline'));
