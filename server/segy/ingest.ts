@@ -12,7 +12,7 @@
  *   CDP number × spacing along x).
  *
  * Memory bound: the reader's (largest unit + 2 input chunks, see reader.ts),
- * plus one decoded trace (8 bytes a sample) and its float32 copy, plus two
+ * plus one decoded trace (float32, reused from trace to trace), plus two
  * 1 MiB write buffers, plus 80 bytes per trace of geometry (GeometryCollector:
  * CDP, inline, crossline and three coordinate pairs as float64). With 64 KiB
  * chunks and 1,500-sample traces that is about 2.2 MiB + 80 B × traces
@@ -94,14 +94,11 @@ export async function ingestSegy(source: AsyncIterable<Uint8Array>, dir: string,
   const interval: Counter = { count: 0, first: 0, detail: '' };
   const sampleCount: Counter = { count: 0, first: 0, detail: '' };
   let ns = 0;
-  let f32 = new Float32Array(0);
   try {
-    for await (const t of reader.read(source)) {
+    for await (const t of reader.readFloat32(source)) {
       const h = reader.header!;
-      if (t.index === 0) {
-        ns = t.samples.length;
-        f32 = new Float32Array(ns);
-      } else if (t.samples.length !== ns) {
+      if (t.index === 0) ns = t.samples.length;
+      else if (t.samples.length !== ns) {
         throw new SegyError('segy_unsupported', 'samples', 'trace header bytes 115–116', `trace ${t.index + 1} has ${t.samples.length} samples and the first trace ${ns}; a section needs traces of one length`, { trace: t.index + 1 });
       }
       const th = t.header;
@@ -112,8 +109,7 @@ export async function ingestSegy(source: AsyncIterable<Uint8Array>, dir: string,
         if (sampleCount.count++ === 0) { sampleCount.first = t.index + 1; sampleCount.detail = `${th.samples} against ${h.samplesPerTrace}`; }
       }
       g.add(th);
-      f32.set(t.samples);
-      await amps.write(new Uint8Array(f32.buffer, 0, ns * 4));
+      await amps.write(new Uint8Array(t.samples.buffer, t.samples.byteOffset, ns * 4));
       await heads.write(t.rawHeader);
     }
   } finally {

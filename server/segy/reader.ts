@@ -15,7 +15,8 @@
  * 1,000,000, so ≤ 8 MB for 8-byte formats); with 64 KiB stream chunks and a
  * typical 1,500-sample float trace that is about 135 KB. `maxBufferedBytes`
  * records the peak, and `memoryBound()` the bound for the chunks seen.
- * The decoded trace (float64, 8 bytes per sample) is the caller's to keep or drop.
+ * The decoded trace (`read`: a new float64 array, 8 bytes a sample;
+ * `readFloat32`: one float32 array reused for every trace) is the caller's.
  */
 import { decodeEbcdic } from './ebcdic';
 import { SegyError } from './errors';
@@ -23,7 +24,7 @@ import {
   BINARY_FIELD, BINARY_HEADER_FIELDS, OVERRIDABLE_DEFAULTS, TRACE_FIELD, TRACE_HEADER_FIELDS, TRACE_HEADER_BYTES,
   bytesLabel, readField, type OverridableField,
 } from './fields';
-import { FORMAT_CODES, SAMPLE_FORMATS, decodeSamples, type SampleFormat } from './formats';
+import { FORMAT_CODES, SAMPLE_FORMATS, decodeSamples, decodeSamplesF32, type SampleFormat } from './formats';
 
 export interface SegyReadOptions {
   /** Total file size when known (an upload's length): lets the reader refuse a file whose traces do not divide it before reading them. */
@@ -57,13 +58,14 @@ export interface SegyFileHeader {
   traceCount: number | null;
 }
 
-export interface SegyTrace {
+export interface SegyTrace<S extends Float64Array | Float32Array = Float64Array> {
   index: number;
   /** Byte offset of the trace header in the file. */
   offset: number;
   /** Every trace header field of fields.ts by key (cdpX, cdpY, inline, crossline from the overridden positions when given). */
   header: Record<string, number>;
-  samples: Float64Array;
+  /** A new float64 array per trace from `read`; from `readFloat32` one float32 array reused for every trace (copy what you keep). */
+  samples: S;
   /** The trace header's 240 bytes as in the file (a buffer reused for the next trace: copy what you keep). */
   rawHeader: Buffer;
 }
@@ -184,8 +186,25 @@ export class SegyReader {
   /** The documented bound for this input: largest unit + 2 × largest chunk seen. */
   memoryBound(): number { return this.largestUnit + 2 * (this.queue?.maxChunk ?? 0); }
 
-  /** Read the whole stream: the header (also kept in `this.header`), then each trace. */
-  async *read(source: AsyncIterable<Uint8Array>): AsyncGenerator<SegyTrace, void, undefined> {
+  /** Read the whole stream: the header (also kept in `this.header`), then each trace, its samples exact in float64. */
+  read(source: AsyncIterable<Uint8Array>): AsyncGenerator<SegyTrace, void, undefined> {
+    return this.traces(source, (bytes, h, ns) => decodeSamples(bytes, h.format.code, ns, h.littleEndian));
+  }
+
+  /**
+   * As `read`, with the samples as float32 (Cayline's stored form, each value
+   * rounded once) in one array reused from trace to trace: no allocation per
+   * trace, for the upload's one pass over a large file.
+   */
+  readFloat32(source: AsyncIterable<Uint8Array>): AsyncGenerator<SegyTrace<Float32Array>, void, undefined> {
+    let out = new Float32Array(0);
+    return this.traces(source, (bytes, h, ns) => {
+      if (out.length !== ns) out = new Float32Array(ns);
+      return decodeSamplesF32(bytes, h.format.code, ns, h.littleEndian, out);
+    });
+  }
+
+  private async *traces<S extends Float64Array | Float32Array>(source: AsyncIterable<Uint8Array>, decode: (bytes: Buffer, h: SegyFileHeader, ns: number) => S): AsyncGenerator<SegyTrace<S>, void, undefined> {
     const q = new ByteQueue(source[Symbol.asyncIterator]());
     this.queue = q;
     if (!(await q.need(3600))) {
@@ -241,8 +260,8 @@ export class SegyReader {
         throw fieldError('segy_truncated', header.fixedLength ? 'samplesPerTrace' : 'samples', header.fixedLength ? 'binary' : 'trace',
           `file ends inside trace ${index + 1}: ${q.availableBytes} of its ${n} sample bytes present (${ns} samples × ${bps} bytes, format ${header.format.code})`, { trace: index + 1 });
       }
-      if (scratch.length < n) scratch = Buffer.alloc(n); // reused: decodeSamples copies out of it
-      const samples = decodeSamples(q.take(n, scratch.subarray(0, n)), header.format.code, ns, header.littleEndian);
+      if (scratch.length < n) scratch = Buffer.alloc(n); // reused: the decoders copy out of it
+      const samples = decode(q.take(n, scratch.subarray(0, n)), header, ns);
       yield { index, offset, header: th, samples, rawHeader: hb };
     }
   }

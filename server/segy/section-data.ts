@@ -195,14 +195,15 @@ export async function openRender(input: RenderInput): Promise<{ clip: number; st
             vals = seg;
             off = 0;
           }
-          for (let j = 0; j < rows; j++) {
-            const idx = rampIndex(vals[off + j], clip);
-            const o = (j * width + i) * channels;
-            if (channels === 1) out[o] = lut[idx];
-            else {
-              out[o] = lut[3 * idx];
-              out[o + 1] = lut[3 * idx + 1];
-              out[o + 2] = lut[3 * idx + 2];
+          // one loop per channel count, so the per-sample work has no branch on it
+          if (channels === 1) {
+            for (let j = 0, o = i; j < rows; j++, o += width) out[o] = lut[rampIndex(vals[off + j], clip)];
+          } else {
+            for (let j = 0, o = 3 * i; j < rows; j++, o += 3 * width) {
+              const c = 3 * rampIndex(vals[off + j], clip);
+              out[o] = lut[c];
+              out[o + 1] = lut[c + 1];
+              out[o + 2] = lut[c + 2];
             }
           }
         });

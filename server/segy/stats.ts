@@ -32,10 +32,14 @@ export class AbsAmplitudeHistogram {
 
   add(samples: ArrayLike<number>): void {
     const n = samples.length;
-    if (this.scratch.length < n) this.scratch = new Float32Array(n);
-    const f = this.scratch.subarray(0, n);
-    f.set(samples); // native conversion to float32
-    const bits = new Uint32Array(f.buffer, f.byteOffset, n);
+    let bits: Uint32Array;
+    if (samples instanceof Float32Array) bits = new Uint32Array(samples.buffer, samples.byteOffset, n); // already float32: read its bits
+    else {
+      if (this.scratch.length < n) this.scratch = new Float32Array(n);
+      const f = this.scratch.subarray(0, n);
+      f.set(samples); // native conversion to float32
+      bits = new Uint32Array(f.buffer, f.byteOffset, n);
+    }
     const counts = this.counts;
     let maxBits = this.maxBits;
     let nonFinite = 0;

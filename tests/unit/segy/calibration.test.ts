@@ -163,4 +163,23 @@ describe('clip percentile of |amplitude| (histogram)', () => {
     expect(new AbsAmplitudeHistogram().percentile(99)).toBe(0);
     expect(() => h.percentile(0)).toThrow(RangeError);
   });
+
+  it('counts float32 traces (read in place) as it counts the same values in float64', () => {
+    let s = 99;
+    const rnd = () => { s = (s * 1664525 + 1013904223) >>> 0; return s / 2 ** 32; };
+    const a = new AbsAmplitudeHistogram();
+    const b = new AbsAmplitudeHistogram();
+    const backing = new Float32Array(3000);
+    for (let t = 0; t < 20; t++) {
+      const tr = backing.subarray(t % 7, (t % 7) + 2000); // a view at an offset, as the reader's reused array may be
+      for (let i = 0; i < tr.length; i++) tr[i] = (rnd() - 0.5) * 10 ** (rnd() * 8 - 4);
+      tr[t] = t % 2 ? Number.NaN : -Infinity;
+      a.add(tr);
+      b.add(Float64Array.from(tr));
+    }
+    expect(a.total).toBe(40_000);
+    expect(a.nonFinite).toBe(20);
+    expect(Array.from(a.counts)).toEqual(Array.from(b.counts));
+    expect([a.max, a.percentile(99)]).toEqual([b.max, b.percentile(99)]);
+  });
 });

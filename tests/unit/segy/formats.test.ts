@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { decodeSamples, ibmToNumber } from '../../../server/segy/formats';
+import { FORMAT_CODES, SAMPLE_FORMATS, decodeSamples, decodeSamplesF32, ibmToNumber } from '../../../server/segy/formats';
 import { toIbm } from '../../helpers/segy-writer';
 
 describe('IBM System/360 single float', () => {
@@ -43,6 +43,29 @@ describe('sample decoding', () => {
     expect([...decodeSamples(be((b) => b.writeDoubleBE(Math.PI, 0), 8), 6, 1, false)]).toEqual([Math.PI]);
     expect([...decodeSamples(be((b) => b.writeBigInt64BE(-5n, 0), 8), 9, 1, false)]).toEqual([-5]);
     expect([...decodeSamples(be((b) => b.writeBigUInt64LE(2n ** 40n, 0), 8), 12, 1, true)]).toEqual([2 ** 40]);
+  });
+  it('decodes to float32 as rounding the float64 decoding once, in every format and both byte orders', () => {
+    // random bytes (NaNs and infinities included), an odd start offset, and a reused output longer than needed
+    let seed = 7;
+    const rand = () => ((seed = (seed * 1103515245 + 12345) >>> 0) >>> 24);
+    const out = new Float32Array(600);
+    let compared = 0;
+    for (const format of FORMAT_CODES) {
+      for (const little of [false, true]) {
+        const n = 500;
+        const raw = Buffer.alloc(1 + n * SAMPLE_FORMATS[format].bytes);
+        for (let i = 0; i < raw.length; i++) raw[i] = rand();
+        const bytes = () => Buffer.from(raw).subarray(1); // a fresh copy each time: both decoders may swap bytes in place
+        const want = Array.from(Float32Array.from(decodeSamples(bytes(), format, n, little)));
+        const got = decodeSamplesF32(bytes(), format, n, little, out);
+        expect(got.length).toBe(n);
+        expect(got.buffer).toBe(out.buffer);
+        expect([format, little, Array.from(got)]).toEqual([format, little, want]);
+        compared += n;
+      }
+    }
+    expect(compared).toBe(FORMAT_CODES.length * 2 * 500);
+    expect(() => decodeSamplesF32(Buffer.alloc(40), 5, 10, false, new Float32Array(9))).toThrow(RangeError);
   });
   it('does not depend on the alignment of the bytes it is given', () => {
     const b = Buffer.alloc(9);

@@ -48,6 +48,34 @@ describe('ramps', () => {
     expect(rampIndex(Number.NaN, 5)).toBe(128);
   });
 
+  it('rounds exactly as Math.round((v / clip + 1) × 127.5) does, at every half-way point and the float steps around it', () => {
+    // the reference is the rule as written in render.ts; rampIndex avoids Math.round for speed and must not differ from it anywhere
+    const reference = (v: number, clip: number) => (Number.isNaN(v) ? 128 : Math.min(255, Math.max(0, Math.round((v / clip + 1) * 127.5))));
+    const f = new Float64Array(1);
+    const u = new BigInt64Array(f.buffer);
+    const step = (v: number, k: number) => { f[0] = v; u[0] += BigInt(v >= 0 ? k : -k); return f[0]; };
+    let checked = 0;
+    for (const clip of [1, 5, 912.5, 3.3e-7, 7.1e4]) {
+      for (let k = 0; k <= 255; k++) {
+        const v0 = clip * ((k + 0.5) / 127.5 - 1); // where the index changes from k to k + 1
+        for (let d = -40; d <= 40; d++) {
+          const v = step(v0, d);
+          expect(rampIndex(v, clip), `v=${v} clip=${clip}`).toBe(reference(v, clip));
+          checked++;
+        }
+      }
+      for (let i = 0; i < 2000; i++) {
+        const v = (Math.random() * 2.4 - 1.2) * clip;
+        expect(rampIndex(v, clip)).toBe(reference(v, clip));
+      }
+    }
+    expect(checked).toBe(5 * 256 * 81);
+    // the one place where floor(x + 0.5) and Math.round(x) part: x = 0.5 − 2⁻⁵⁴ (x + 0.5 rounds up to 1)
+    const x = 0.5 - 2 ** -54;
+    expect([Math.floor(x + 0.5), Math.round(x)]).toEqual([1, 0]);
+    expect(rampIndex((x / 127.5 - 1) * 1, 1)).toBe(reference((x / 127.5 - 1) * 1, 1));
+  });
+
   it('grey: troughs white, peaks black', () => {
     const { channels, lut } = rampLut('grey');
     expect(channels).toBe(1);

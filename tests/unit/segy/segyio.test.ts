@@ -77,6 +77,14 @@ async function readAll(file: string, opts = {}) {
   const reader = new SegyReader({ fileSize: bytes.length, ...opts });
   const traces: SegyTrace[] = [];
   for await (const t of reader.read(chunked(bytes, 4096))) traces.push(t);
+  // the upload's float32 pass over the same bytes gives each sample rounded once to float32
+  const again = new SegyReader({ fileSize: bytes.length, ...opts });
+  let i = 0;
+  for await (const t of again.readFloat32(chunked(bytes, 4096))) {
+    expect(Array.from(t.samples)).toEqual(Array.from(Float32Array.from(traces[i].samples)));
+    expect(t.header).toEqual(traces[i++].header);
+  }
+  expect(i).toBe(traces.length);
   return { header: reader.header!, traces };
 }
 
