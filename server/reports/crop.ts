@@ -117,10 +117,17 @@ export function blit(data: Buffer, info: { width: number; height: number; channe
   }
 }
 
-/** The crop with the overlay SVG composited on top, as PNG. */
+/**
+ * The crop with the overlay SVG composited on top, as an opaque RGB PNG. The
+ * composite gives an alpha channel (the overlay's), all opaque over the
+ * crop; dropping it makes the file RGB, and deflating three channels instead
+ * of four took a half to a third of the time (about 40 against 95 ms for a
+ * 1400 × 400 crop).
+ */
 export async function markedUpPng(crop: RawImage, overlay: string): Promise<Buffer> {
   return fromRaw(crop)
     .composite([{ input: Buffer.from(overlay), left: 0, top: 0 }])
+    .removeAlpha()
     .png({ compressionLevel: 6 })
     .toBuffer();
 }

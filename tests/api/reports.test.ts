@@ -473,7 +473,7 @@ describe('PDF, PNG and SVG through the report job', () => {
     expect(png.headers['content-type']).toBe('image/png');
     expect(png.headers['content-disposition']).toContain('tb-11-kestrel-knoll-crop.png');
     const meta = await sharp(png.body as Buffer).metadata();
-    expect(meta.format).toBe('png');
+    expect([meta.format, meta.channels, meta.hasAlpha]).toEqual(['png', 3, false]); // opaque RGB
     const report = (await get(`/api/buildups/${knollId}/report`)).body;
     // drawn 1400 px wide (or narrower when the height cap applies), keeping the crop's proportions at stretch 1
     expect(Math.abs(meta.width! / meta.height! - report.crop.width / report.crop.height)).toBeLessThan(0.02 * (report.crop.width / report.crop.height));

@@ -14,7 +14,7 @@ import os from 'node:os';
 import path from 'node:path';
 import sharp from 'sharp';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { blit, compositeCrop } from '../../../server/reports/crop';
+import { blit, compositeCrop, markedUpPng } from '../../../server/reports/crop';
 import { buildPyramid } from '../../../server/services/tiles.service';
 import { LocalFileStore } from '../../../server/storage/fileStore';
 import { sectionKeys } from '../../../server/storage/keys';
@@ -132,6 +132,24 @@ describe('compositeCrop', () => {
     const { section } = await makeSection('holes', 3);
     fs.rmSync(path.join(dir, sectionKeys('holes').pyramid, 'tiles', String(Math.ceil(Math.log2(W))), '1_1.jpg'));
     await expect(compositeCrop(store(), section, { u0: 200, v0: 200, width: 200, height: 200 }, { width: 200, height: 200 })).rejects.toThrow();
+  });
+});
+
+describe('markedUpPng', () => {
+  it('is an opaque RGB PNG: the crop where the overlay is clear, the overlay colour where it draws', async () => {
+    const width = 60;
+    const height = 40;
+    const data = Buffer.alloc(width * height * 3);
+    for (let i = 0; i < width * height; i++) data.set([200, 180, 40], 3 * i);
+    const overlay = `<svg xmlns="http://www.w3.org/2000/svg" width="${width}" height="${height}"><rect x="10" y="10" width="20" height="10" fill="#1d3a6e"/></svg>`;
+    const png = await markedUpPng({ data, width, height, channels: 3 }, overlay);
+    const meta = await sharp(png).metadata();
+    expect([meta.format, meta.width, meta.height, meta.channels, meta.hasAlpha]).toEqual(['png', width, height, 3, false]);
+    const back = await sharp(png).raw().toBuffer();
+    const at = (u: number, v: number) => Array.from(back.subarray(3 * (v * width + u), 3 * (v * width + u) + 3));
+    expect(at(2, 2)).toEqual([200, 180, 40]); // crop untouched outside the overlay's shapes
+    expect(at(20, 15)).toEqual([0x1d, 0x3a, 0x6e]); // inside the rectangle: its fill, lossless
+    expect(at(45, 35)).toEqual([200, 180, 40]);
   });
 });
 
