@@ -160,6 +160,9 @@ export async function ingestSegy(source: AsyncIterable<Uint8Array>, dir: string,
   }
   if (interval.count) warnings.push({ code: 'sample_interval_mismatch', field: 'sampleInterval', bytes: 'trace header bytes 117–118 and bytes 3217–3218', message: `${interval.count} trace(s) state a sample interval other than the binary header's (${interval.detail}, first at trace ${interval.first}); the binary header's is used` });
   if (sampleCount.count) warnings.push({ code: 'sample_count_mismatch', field: 'samples', bytes: 'trace header bytes 115–116 and bytes 3221–3222', message: `${sampleCount.count} trace(s) state a sample count other than the binary header's (${sampleCount.detail}, first at trace ${sampleCount.first}); the binary header's is used` });
+  if (header.byteOrderIgnored !== undefined) {
+    warnings.push({ code: 'byte_order_ignored', field: 'byteOrder', bytes: 'bytes 3297–3300', message: `bytes 3297–3300 hold 0x${header.byteOrderIgnored.toString(16).padStart(8, '0')}, not a byte order constant; revision ${header.revision.major} leaves them unassigned, so the file was read ${header.littleEndian ? 'little' : 'big'}-endian by its format code` });
+  }
   if (header.binary.measurementSystem === 2) warnings.push({ code: 'feet', field: 'measurementSystem', bytes: 'bytes 3255–3256', message: 'lengths are in feet; Cayline converts them to metres (0.3048 m per foot)' });
 
   return { header, summary, traces: n, samplesPerTrace: ns, warnings, maxBufferedBytes: reader.maxBufferedBytes, memoryBound: reader.memoryBound() };

@@ -56,6 +56,12 @@ export interface SegyFileHeader {
   dataStart: number;
   /** Number of traces when the file size or rev 2's count (3513–3520) tells it. */
   traceCount: number | null;
+  /**
+   * The value of bytes 3297–3300 when it was neither byte order constant nor 0
+   * in a file before revision 2, where those bytes are unassigned (SEG-Y rev 1,
+   * 3261–3500): left aside, the byte order read from the format code.
+   */
+  byteOrderIgnored?: number;
 }
 
 export interface SegyTrace<S extends Float64Array | Float32Array = Float64Array> {
@@ -102,6 +108,12 @@ function decodeText(bytes: Uint8Array): { text: string; encoding: 'ebcdic' | 'as
   const encoding = s.ebcdic > s.ascii ? 'ebcdic' : 'ascii';
   const text = encoding === 'ebcdic' ? decodeEbcdic(bytes) : Buffer.from(bytes).toString('latin1');
   return { text, encoding, isText: Math.max(s.ascii, s.ebcdic) >= 0.9 };
+}
+
+/** Whether bytes are all printable ASCII, tabs and line ends, with no zero byte: a binary header has zeros and small integers. */
+function isPlainText(bytes: Uint8Array): boolean {
+  for (const b of bytes) if (!(b === 9 || b === 10 || b === 13 || (b >= 0x20 && b < 0x7f))) return false;
+  return true;
 }
 
 const fieldError = (code: string, key: string, table: 'binary' | 'trace', message: string, details: Record<string, unknown> = {}) => {
@@ -273,16 +285,26 @@ export class SegyReader {
     const fmtBE = view.getInt16(3225 - 3201, false);
     const fmtLE = view.getInt16(3225 - 3201, true);
     const order = view.getUint32(3297 - 3201, false);
+    // the revision before the byte order is known: one byte each (3501 major, 3502 minor); a 16-bit 1 or 2 written little-endian leaves the major byte 0
+    const revByte = head[3500] === 0 && (head[3501] === 1 || head[3501] === 2) ? head[3501] : head[3500];
+    const orderHex = `0x${order.toString(16).padStart(8, '0')}`;
     let little: boolean;
+    let byteOrderIgnored: number | undefined;
+    // Before rev 2 files are big-endian; a file without the constant whose format code only makes sense byte-swapped is read little-endian (common practice of writers that omit the constant).
+    const fromFormatCode = () => !FORMAT_CODES.includes(fmtBE) && FORMAT_CODES.includes(fmtLE);
     if (order === 0x01020304) little = false;
     else if (order === 0x04030201) little = true;
-    else if (order === 0) {
-      // Before rev 2 files are big-endian; a file without the constant whose format code only makes sense byte-swapped is read little-endian (common practice of writers that omit the constant).
-      little = !FORMAT_CODES.includes(fmtBE) && FORMAT_CODES.includes(fmtLE);
-    } else if (!isText) {
-      throw new SegyError('segy_not_segy', 'textual', 'bytes 1–3200', `not a SEG-Y file: the textual header is neither EBCDIC nor ASCII text and the byte order constant (bytes 3297–3300) is 0x${order.toString(16).padStart(8, '0')}`);
+    else if (order === 0) little = fromFormatCode();
+    else if (!isText) {
+      throw new SegyError('segy_not_segy', 'textual', 'bytes 1–3200', `not a SEG-Y file: the textual header is neither EBCDIC nor ASCII text and the byte order constant (bytes 3297–3300) is ${orderHex}`);
+    } else if (isPlainText(head.subarray(3200, 3600))) {
+      throw new SegyError('segy_not_segy', 'binary', 'bytes 3201–3600', 'not a SEG-Y file: the 400 bytes where the binary header belongs are text (a text file, not SEG-Y?)');
+    } else if (revByte < 2) {
+      // SEG-Y rev 0/1 leave bytes 3261–3500 unassigned, and writers of those revisions leave what they like there
+      little = fromFormatCode();
+      byteOrderIgnored = order;
     } else {
-      throw fieldError('segy_bad_header', 'byteOrder', 'binary', `byte order constant is 0x${order.toString(16).padStart(8, '0')}; expected 0x01020304 (big-endian), 0x04030201 (little-endian) or 0`);
+      throw fieldError('segy_bad_header', 'byteOrder', 'binary', `byte order constant is ${orderHex}; expected 0x01020304 (big-endian), 0x04030201 (little-endian) or 0`);
     }
     const binary: Record<string, number> = {};
     for (const f of BINARY_HEADER_FIELDS) binary[f.key] = readField(view, f, 3201, little);
@@ -308,6 +330,7 @@ export class SegyReader {
       revision: { major, minor }, format, samplesPerTrace, sampleInterval,
       fixedLength: !(major >= 2 && binary.fixedLengthTraces === 0),
       dataStart: 3600, traceCount: null,
+      ...(byteOrderIgnored !== undefined ? { byteOrderIgnored } : {}),
     };
   }
 

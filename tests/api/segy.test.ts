@@ -261,6 +261,7 @@ describe('refused files leave nothing behind', () => {
     { name: 'a format code outside the list', file: () => head(4), code: 'segy_bad_format', field: 'formatCode', bytes: /3225–3226/ },
     { name: 'a truncated trace', file: () => line2d().subarray(0, 3600 + 2 * (240 + 400) + 240 + 100), code: 'segy_truncated', field: 'samplesPerTrace', bytes: /3221–3222/ },
     { name: 'a file that is not SEG-Y', file: () => Buffer.alloc(5000, 0x01), code: 'segy_not_segy', field: 'textual', bytes: /1–3200/ },
+    { name: 'a text file named .sgy', file: () => Buffer.from('x,y,twt\n'.repeat(600)), code: 'segy_not_segy', field: 'binary', bytes: /3201–3600/ },
     { name: 'a 3D file without inline/crossline numbers', file: () => cube3d({ ilXlAt: 'none' }), code: 'segy_no_inline_crossline', field: 'inline', bytes: /189–192/ },
     { name: 'a line with no coordinates and no spacing', file: () => writeSegy({ format: 5, sampleInterval: 4000, samplesPerTrace: 4, traces: [1, 2, 3].map((c) => ({ fields: [[21, 4, c]], samples: [1, 2, 3, 4] })) }), code: 'segy_no_positions', field: 'cdpX', bytes: /181–188/ },
   ];

@@ -1,6 +1,10 @@
 /** Refusals of the SEG-Y reader: each names the header field and its byte positions. */
+import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { SegyError } from '../../../server/segy/errors';
+import { ingestSegy } from '../../../server/segy/ingest';
 import { GeometryCollector, summariseGeometry } from '../../../server/segy/geometry';
 import { SegyReader } from '../../../server/segy/reader';
 import { chunked, writeSegy, type WriterInput } from '../../helpers/segy-writer';
@@ -81,9 +85,39 @@ describe('bad SEG-Y input', () => {
     expect(e.message).toMatch(/^textual \(bytes 1–3200\): not a SEG-Y file/);
   });
 
-  it('a byte order constant that is neither order', async () => {
-    const e = await refusal(writeSegy(line({ binary: [[3297, 4, 0x02010403]] })));
+  it('a byte order constant that is neither order, in a revision 2 file', async () => {
+    const e = await refusal(writeSegy(line({ binary: [[3297, 4, 0x02010403], [3501, 1, 2]] })));
     expect(e.message).toMatch(/^byteOrder \(bytes 3297–3300\): byte order constant is 0x02010403/);
+  });
+
+  it('before revision 2 the same bytes are unassigned (SEG-Y rev 1, 3261–3500): read by the format code, noted', async () => {
+    for (const [rev, little] of [[0, false], [1, false], [1, true]] as const) {
+      const bytes = writeSegy(line({ little, binary: [[3297, 4, 0x02010403], ...(rev ? [[3501, 1, rev] as [number, 1, number]] : [])] }));
+      const reader = new SegyReader();
+      const samples: number[] = [];
+      for await (const t of reader.read(chunked(bytes, 1000))) samples.push(t.samples[0]);
+      expect(samples).toEqual([0, 1, 2, 3, 4]);
+      expect(reader.header!.littleEndian).toBe(little);
+      expect(reader.header!.byteOrderIgnored).toBe(little ? 0x03040102 : 0x02010403);
+    }
+    // the upload keeps the file and says what it did in its warning list
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'cayline-segy-order-'));
+    try {
+      const r = await ingestSegy(chunked(writeSegy(line({ binary: [[3297, 4, 0x02010403], [3501, 1, 1]] })), 1000), dir);
+      expect(r.traces).toBe(5);
+      const w = r.warnings.find((x) => x.code === 'byte_order_ignored');
+      expect(w).toMatchObject({ field: 'byteOrder', bytes: 'bytes 3297–3300' });
+      expect(w!.message).toBe('bytes 3297–3300 hold 0x02010403, not a byte order constant; revision 1 leaves them unassigned, so the file was read big-endian by its format code');
+    } finally {
+      fs.rmSync(dir, { recursive: true, force: true });
+    }
+  });
+
+  it('a text file: the binary header is text as well', async () => {
+    const text = Buffer.from('x,y,twt\n'.repeat(600));
+    const e = await refusal(text);
+    expect(e.code).toBe('segy_not_segy');
+    expect(e.message).toMatch(/^binary \(bytes 3201–3600\): not a SEG-Y file: the 400 bytes where the binary header belongs are text/);
   });
 
   it('a 3D file with no inline/crossline values (declared 3D, or positions covering an area)', async () => {
