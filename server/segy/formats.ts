@@ -51,7 +51,22 @@ export function ibmToNumber(word: number): number {
  * integers beyond ±2^53.
  */
 export function decodeSamples(bytes: Buffer, format: number, count: number, little: boolean): Float64Array {
-  const out = new Float64Array(count);
+  return decodeInto(bytes, format, count, little, new Float64Array(count));
+}
+
+/**
+ * Decode `count` samples into `out` as float32 (the stored form), each value
+ * rounded once from the exact one (8-byte integers round to float64 first, as
+ * in `decodeSamples`): the same numbers as `Float32Array.from(decodeSamples(...))`,
+ * without the float64 array in between. `bytes` may be byte-swapped in place.
+ */
+export function decodeSamplesF32(bytes: Buffer, format: number, count: number, little: boolean, out: Float32Array): Float32Array {
+  if (out.length < count) throw new RangeError(`decodeSamplesF32: room for ${out.length} samples, ${count} asked`);
+  return decodeInto(bytes, format, count, little, out.length === count ? out : out.subarray(0, count));
+}
+
+/** The decoding itself, into `out` (`count` long): each value is converted once, to the array's type. */
+function decodeInto<T extends Float64Array | Float32Array>(bytes: Buffer, format: number, count: number, little: boolean, out: T): T {
   const native = little; // this server runs on little-endian hosts (x86, arm64); asserted below
   const aligned = (n: number) => (bytes.byteOffset % n === 0 ? bytes : Buffer.from(bytes));
   switch (format) {
@@ -97,45 +112,6 @@ export function decodeSamples(bytes: Buffer, format: number, count: number, litt
     case 16: out.set(new Uint8Array(bytes.buffer, bytes.byteOffset, count)); return out;
   }
   throw new Error(`format ${format} cannot be decoded`);
-}
-
-/**
- * Decode `count` samples into `out` as float32 (the stored form), each value
- * rounded once from the exact one: the same numbers as
- * `Float32Array.from(decodeSamples(...))`, without the float64 array in
- * between. `bytes` may be byte-swapped in place.
- */
-export function decodeSamplesF32(bytes: Buffer, format: number, count: number, little: boolean, out: Float32Array): Float32Array {
-  if (out.length < count) throw new RangeError(`decodeSamplesF32: room for ${out.length} samples, ${count} asked`);
-  const dst = out.length === count ? out : out.subarray(0, count);
-  const native = little;
-  const aligned = (n: number) => (bytes.byteOffset % n === 0 ? bytes : Buffer.from(bytes));
-  switch (format) {
-    case 1: {
-      const b = aligned(4);
-      if (!native) b.swap32();
-      const u = new Uint32Array(b.buffer, b.byteOffset, count);
-      for (let i = 0; i < count; i++) dst[i] = ibmToNumber(u[i]);
-      return dst;
-    }
-    case 2: case 5: case 10: {
-      const b = aligned(4);
-      if (!native) b.swap32();
-      dst.set(format === 2 ? new Int32Array(b.buffer, b.byteOffset, count) : format === 5 ? new Float32Array(b.buffer, b.byteOffset, count) : new Uint32Array(b.buffer, b.byteOffset, count));
-      return dst;
-    }
-    case 3: case 11: {
-      const b = aligned(2);
-      if (!native) b.swap16();
-      dst.set(format === 3 ? new Int16Array(b.buffer, b.byteOffset, count) : new Uint16Array(b.buffer, b.byteOffset, count));
-      return dst;
-    }
-    case 8: dst.set(new Int8Array(bytes.buffer, bytes.byteOffset, count)); return dst;
-    case 16: dst.set(new Uint8Array(bytes.buffer, bytes.byteOffset, count)); return dst;
-  }
-  // 3- and 8-byte formats: through float64 as decodeSamples reads them (8-byte integers round there first, as they do in the float64 path)
-  dst.set(decodeSamples(bytes, format, count, little));
-  return dst;
 }
 
 if (new Uint8Array(new Uint16Array([1]).buffer)[0] !== 1) throw new Error('SEG-Y reader assumes a little-endian host');
