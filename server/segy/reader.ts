@@ -285,8 +285,11 @@ export class SegyReader {
     const fmtBE = view.getInt16(3225 - 3201, false);
     const fmtLE = view.getInt16(3225 - 3201, true);
     const order = view.getUint32(3297 - 3201, false);
-    // the revision before the byte order is known: one byte each (3501 major, 3502 minor); a 16-bit 1 or 2 written little-endian leaves the major byte 0
-    const revByte = head[3500] === 0 && (head[3501] === 1 || head[3501] === 2) ? head[3501] : head[3500];
+    // The revision is one byte each (3501 major, 3502 minor), so it reads alike in either byte order and is known
+    // before it. Writers that store it as one 16-bit number in a little-endian file, or as a plain 1 or 2, leave 0 in the major byte.
+    let major = head[3500];
+    let minor = head[3501];
+    if (major === 0 && (minor === 1 || minor === 2)) { major = minor; minor = 0; }
     const orderHex = `0x${order.toString(16).padStart(8, '0')}`;
     let little: boolean;
     let byteOrderIgnored: number | undefined;
@@ -299,7 +302,7 @@ export class SegyReader {
       throw new SegyError('segy_not_segy', 'textual', 'bytes 1–3200', `not a SEG-Y file: the textual header is neither EBCDIC nor ASCII text and the byte order constant (bytes 3297–3300) is ${orderHex}`);
     } else if (isPlainText(head.subarray(3200, 3600))) {
       throw new SegyError('segy_not_segy', 'binary', 'bytes 3201–3600', 'not a SEG-Y file: the 400 bytes where the binary header belongs are text (a text file, not SEG-Y?)');
-    } else if (revByte < 2) {
+    } else if (major < 2) {
       // SEG-Y rev 0/1 leave bytes 3261–3500 unassigned, and writers of those revisions leave what they like there
       little = fromFormatCode();
       byteOrderIgnored = order;
@@ -308,10 +311,6 @@ export class SegyReader {
     }
     const binary: Record<string, number> = {};
     for (const f of BINARY_HEADER_FIELDS) binary[f.key] = readField(view, f, 3201, little);
-    let major = binary.revisionMajor;
-    let minor = binary.revisionMinor;
-    // Writers that store the revision as one 16-bit number in a little-endian file, or as a plain 1 or 2, leave 0 in the major byte.
-    if (major === 0 && (minor === 1 || minor === 2)) { major = minor; minor = 0; }
     const fmt = binary.formatCode;
     if (!FORMAT_CODES.includes(fmt)) {
       if (!isText) throw new SegyError('segy_not_segy', 'textual', 'bytes 1–3200', `not a SEG-Y file: the textual header is neither EBCDIC nor ASCII text and the data sample format code (bytes 3225–3226) is ${fmt}`);
